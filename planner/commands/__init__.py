@@ -1,0 +1,1 @@
+"""One module per ``periplan`` command; each defines ``register(subparsers)``."""
