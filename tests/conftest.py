@@ -1,0 +1,19 @@
+"""Shared test set-up: astropy offline (bundled Earth-orientation data, no downloads)."""
+
+import pathlib
+
+import pytest
+
+from planner import astro_offline
+
+REPO = pathlib.Path(__file__).resolve().parents[1]
+SAMPLE_TARGETS = REPO / "sample_targets" / "targets.csv"
+
+
+@pytest.fixture(autouse=True, scope="session")
+def _astropy_offline():
+    from astropy.utils import data
+
+    astro_offline.configure()
+    with data.conf.set_temp("allow_internet", False):
+        yield
