@@ -22,6 +22,8 @@ P, epoch, e and omega in expectation, at the cost of one draw per target instead
 
 from __future__ import annotations
 
+import zlib
+
 import numpy as np
 import pandas as pd
 
@@ -53,13 +55,14 @@ def _offsets(e, omega_rad, epoch_kind):
     return np.mod(ph - _reference_phase(epoch_kind, ph)[:, None], 1.0)
 
 
-def offset_variance(e, e_err, omega_rad, omega_err_rad, epoch_kind, n_samples=DEFAULT_SAMPLES, seed=DEFAULT_SEED):
+def offset_variance(e, e_err, omega_rad, omega_err_rad, epoch_kind, names, n_samples=DEFAULT_SAMPLES,
+                    seed=DEFAULT_SEED):
     """Mean square deviation (orbits^2) of the event phase offsets d_k under e and omega errors.
 
     Returns shape (n, 6), columns in :data:`~planner.orbit.ORBIT_EVENTS` order, taken about the
     nominal offsets (so any bias of the draw counts as spread). Targets with e = 0, or with no e
-    and omega errors, get 0. Deterministic for a given ``seed``; targets are drawn in input order,
-    so a target's value does not depend on which others are in the table.
+    and omega errors, get 0. Each target draws from its own generator seeded by ``seed`` and the
+    CRC-32 of its name, so its value is reproducible and does not depend on the other targets.
     """
     e = np.asarray(e, float)
     n = e.size
@@ -68,11 +71,11 @@ def offset_variance(e, e_err, omega_rad, omega_err_rad, epoch_kind, n_samples=DE
     if todo.size == 0:
         return var
     nominal = _offsets(e[todo], omega_rad[todo], epoch_kind[todo])
-    rng = np.random.default_rng(seed)
     chunk = max(1, 2_000_000 // n_samples)
     for start in range(0, todo.size, chunk):
         idx = todo[start:start + chunk]
-        z = rng.standard_normal((2, idx.size, n_samples))
+        z = np.stack([np.random.default_rng([seed, zlib.crc32(str(names[i]).encode())]).standard_normal((2, n_samples))
+                      for i in idx], axis=1)
         es = np.minimum(np.abs(e[idx, None] + e_err[idx, None] * z[0]), _MAX_E_SAMPLE)
         ws = omega_rad[idx, None] + omega_err_rad[idx, None] * z[1]
         ph = orbit.event_phases(es, ws)  # (m, S, 6)
@@ -125,7 +128,7 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
     var_d = np.zeros((n, 7))
     var_d[:, :6] = offset_variance(e, targets["e_err"].to_numpy(float), omega,
                                    np.radians(targets["omega_err_deg"].to_numpy(float)), epoch_kind,
-                                   n_samples, seed)
+                                   targets["name"].to_numpy(object), n_samples, seed)
     want = np.zeros((n, 7), bool)
     for i, (evs, orb) in enumerate(zip(targets["events"], is_orbit)):
         for ev in evs:
