@@ -1,0 +1,87 @@
+"""Time-system conversions against astropy (ERFA) and the astropy documentation's example."""
+
+import numpy as np
+import pytest
+from astropy import units as u
+from astropy.coordinates import EarthLocation, SkyCoord
+from astropy.time import Time
+
+from planner import timescales
+
+SECOND_D = 1 / 86400
+#: A site's offset from the geocentre changes the light time by at most R_earth / c = 21.3 ms.
+GEOCENTRE_VS_SITE_D = 0.0215 * SECOND_D
+#: Our light time interpolates the Earth's position on a half-day grid; bound from the docstring.
+INTERPOLATION_D = 1e-4 * SECOND_D
+
+GEOCENTRE = EarthLocation.from_geocentric(0, 0, 0, unit=u.m)
+GREENWICH = EarthLocation.from_geodetic(-0.0014 * u.deg, 51.4778 * u.deg, 46 * u.m)
+# astropy documentation, "Barycentric and Heliocentric Light Travel Time Corrections" (astropy.time):
+# IP Peg at 23:23:08.55 +18:24:59.3, observatory Greenwich, MJD 56325.95833333 and 56325.978254 UTC
+# -> barycentric [-0.0037715, -0.00377286] d, heliocentric [-0.00376576, -0.00376712] d.
+IP_PEG = SkyCoord("23:23:08.55", "+18:24:59.3", unit=(u.hourangle, u.deg), frame="icrs")
+IP_PEG_MJD = [56325.95833333, 56325.978254]
+DOC_BARY_D = [-0.0037715, -0.00377286]
+DOC_HELIO_D = [-0.00376576, -0.00376712]
+DOC_HALF_UNIT_D = 0.5e-8  # the docs print 8 decimals
+
+
+def test_light_travel_time_matches_astropy_documentation():
+    t = Time(IP_PEG_MJD, format="mjd", scale="utc")
+    bary = timescales.light_travel_time_d(t.tdb.jd, IP_PEG.ra.deg, IP_PEG.dec.deg)
+    helio = timescales.light_travel_time_d(t.tdb.jd, IP_PEG.ra.deg, IP_PEG.dec.deg, "sun")
+    tol = DOC_HALF_UNIT_D + GEOCENTRE_VS_SITE_D + 1e-7  # the first doc value has 7 decimals
+    assert np.max(np.abs(bary - DOC_BARY_D)) <= tol
+    assert np.max(np.abs(helio - DOC_HELIO_D)) <= tol
+
+
+def test_light_travel_time_equals_astropy_geocentric_over_a_year():
+    rng = np.random.default_rng(5)
+    ra, dec = rng.uniform(0, 360, 300), np.degrees(np.arcsin(rng.uniform(-1, 1, 300)))
+    t = Time(2461000 + np.sort(rng.uniform(0, 400, 300)), format="jd", scale="tdb", location=GEOCENTRE)
+    ours = timescales.light_travel_time_d(t.jd, ra, dec)
+    ref = t.light_travel_time(SkyCoord(ra * u.deg, dec * u.deg)).to_value(u.day)
+    assert np.max(np.abs(ours - ref)) <= INTERPOLATION_D
+
+
+@pytest.mark.parametrize("system", ["JD_UTC", "HJD_UTC"])
+def test_to_bjd_tdb_against_astropy(system):
+    # Build the reference with astropy at a real site: BJD_TDB = t.tdb + barycentric light time;
+    # HJD_UTC = t.utc + heliocentric light time. Our geocentric conversion must agree within the
+    # geocentre/site light-time difference.
+    rng = np.random.default_rng(11)
+    ra, dec = rng.uniform(0, 360, 50), rng.uniform(-80, 80, 50)
+    coords = SkyCoord(ra * u.deg, dec * u.deg)
+    t = Time(2460500 + rng.uniform(0, 600, 50), format="jd", scale="utc", location=GREENWICH)
+    bjd_ref = (t.tdb + t.light_travel_time(coords)).jd
+    given = t.jd if system == "JD_UTC" else (t.utc + t.light_travel_time(coords, "heliocentric")).jd
+    ours = timescales.to_bjd_tdb(given, system, ra, dec)
+    assert np.max(np.abs(ours - bjd_ref)) <= GEOCENTRE_VS_SITE_D + INTERPOLATION_D + 2e-10
+
+
+def test_bjd_to_utc_round_trip_and_size_of_corrections():
+    # TT - UTC = 69.184 s since 2017 (IERS Bulletin C: TAI - UTC = 37 s; TT = TAI + 32.184 s),
+    # TDB - TT within +-1.7 ms; the light time stays within +-8.4 min (1 au / c = 499 s).
+    ra, dec = 80.0, 23.0
+    utc = Time(["2026-12-07T00:00:00", "2027-06-01T12:00:00"], scale="utc")
+    bjd = timescales.to_bjd_tdb(utc.jd, "JD_UTC", ra, dec)
+    back = timescales.bjd_tdb_to_utc(bjd, ra, dec)
+    assert np.max(np.abs((back - utc).to_value(u.s))) <= 1e-4
+    ltt = timescales.light_travel_time_d(utc.tdb.jd, ra, dec)
+    assert np.all(np.abs(ltt) * 86400 <= 500.0)
+    assert np.all(np.abs((bjd - utc.jd) * 86400 - ltt * 86400 - 69.184) <= 0.0017)
+
+
+def test_bjd_tdb_is_unchanged_and_unknown_system_refused():
+    assert timescales.to_bjd_tdb(2460000.5, "BJD_TDB", 10, 10) == 2460000.5
+    with pytest.raises(ValueError, match="unknown time system"):
+        timescales.to_bjd_tdb(2460000.5, "HJD_TT", 10, 10)
+
+
+def test_iso_and_local_strings_use_zoneinfo():
+    # 2026-03-29 01:00 UTC is when Europe/Madrid goes from CET (+01) to CEST (+02) (EU rule: last
+    # Sunday of March, 01:00 UTC; tz database).
+    t = Time(["2026-03-29T00:59:59", "2026-03-29T01:00:00"], scale="utc")
+    assert list(timescales.utc_to_iso_z(t)) == ["2026-03-29T00:59:59Z", "2026-03-29T01:00:00Z"]
+    assert list(timescales.utc_to_local_iso(t, "Europe/Madrid")) == [
+        "2026-03-29T01:59:59+01:00", "2026-03-29T03:00:00+02:00"]
