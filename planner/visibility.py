@@ -13,9 +13,9 @@ Conventions: altitudes are *airless* (geometric, no refraction; astropy AltAz wi
 azimuth from north through east, 0..360 deg; hour angle in hours, -12..12, positive west of the
 meridian; latitude geodetic (WGS84).
 
-The Sun and the Moon come from astropy's ``get_body`` (``builtin`` ephemeris, topocentric) on a
-15-minute grid, as topocentric CIRS unit vectors interpolated linearly and renormalised
-(:class:`SkyTracks`); the Moon's illuminated fraction comes from the geocentric Sun-Moon
+The Sun and the Moon come from astropy's ``get_body`` (``builtin`` ephemeris) on an hourly grid
+of geocentric CIRS positions, interpolated cubically and made topocentric by subtracting the
+observer's position (:class:`SkyTracks`); the Moon's illuminated fraction comes from the geocentric Sun-Moon
 elongation (the formula of astroplan's ``moon_illumination``).
 
 Notes
@@ -23,8 +23,8 @@ Notes
 Accuracy against astropy's full AltAz transform (pressure=0): about 1 arcsecond (polar motion and
 diurnal aberration, up to 0.3 arcsec each, are left out; the once-a-day apparent place adds
 < 0.3 arcsec); tests/test_visibility.py checks 1,000 targets x 7 nights to 0.005 deg. The
-interpolated Moon is good to about 0.001 deg (the 1-deg diurnal parallax wobble bends its
-topocentric track; linear interpolation over 15 min leaves A (omega h)^2 / 8 ~ 5e-4 deg).
+interpolated geocentric Moon moves 0.5 deg/h on a gently curved path, so the cubic's error over
+one hour is far below 1e-4 deg; the topocentric shift (up to 1 deg) is computed exactly.
 Speed: bench/bench_visibility.py.
 """
 
@@ -34,8 +34,9 @@ import dataclasses
 
 import numpy as np
 
-#: Step (days) of the Sun and Moon grids of :class:`SkyTracks`: 15 minutes.
-BODY_STEP_D = 15.0 / 1440.0
+#: Step (days) of the Sun and Moon grids of :class:`SkyTracks`: 1 hour (cubic interpolation of
+#: geocentric positions; the Moon's error is below 1e-4 deg, see the module notes).
+BODY_STEP_D = 1.0 / 24.0
 #: Length (days) of the blocks of times that share one apparent place.
 PLACE_BLOCK_D = 1.0
 _J2000_JD = 2451545.0
@@ -243,46 +244,59 @@ def separation_deg(u, v):
 class SkyTracks:
     """Sun and Moon seen from a site over a UTC span, on a grid, interpolated on demand.
 
-    ``jd_utc`` (G,) grid; ``sun_vec``/``moon_vec`` (G, 3) topocentric CIRS unit vectors;
+    ``jd_utc`` (G,) uniform grid of step ``step_d``; ``sun_km``/``moon_km`` (G, 3) geocentric
+    CIRS positions (km); ``site_itrs_km`` (3,) the observer's geocentric position;
     ``illumination`` (G,) the Moon's illuminated fraction 0..1 (geocentric elongation).
+    Positions are interpolated cubically (Catmull-Rom) and made topocentric by subtracting the
+    observer's position rotated by the Earth rotation angle (polar motion neglected: < 15 m).
     Build with :func:`sky_tracks`.
     """
 
     latitude_deg: float
     longitude_deg: float
     jd_utc: np.ndarray
-    sun_vec: np.ndarray
-    moon_vec: np.ndarray
+    step_d: float
+    sun_km: np.ndarray
+    moon_km: np.ndarray
+    site_itrs_km: np.ndarray
     illumination: np.ndarray
 
-    def _interp_vec(self, table, jd_utc):
+    def _interp(self, table, jd_utc):
         jd = np.asarray(jd_utc, dtype=float)
-        x = np.interp(jd, self.jd_utc, np.arange(self.jd_utc.size, dtype=float))
-        i = np.clip(np.floor(x).astype(int), 0, self.jd_utc.size - 2)
+        x = (jd - self.jd_utc[0]) / self.step_d
+        i = np.clip(np.floor(x).astype(int), 1, self.jd_utc.size - 3)
         f = (x - i)[..., None]
-        v = table[i] * (1.0 - f) + table[i + 1] * f
+        p0, p1, p2, p3 = table[i - 1], table[i], table[i + 1], table[i + 2]
+        return p1 + 0.5 * f * (p2 - p0 + f * (2 * p0 - 5 * p1 + 4 * p2 - p3 + f * (3 * (p1 - p2) + p3 - p0)))
+
+    def _topocentric(self, table, jd_utc, era_rad):
+        era = earth_rotation_angle_rad(jd_utc) if era_rad is None else np.asarray(era_rad)
+        x, y, z = self.site_itrs_km
+        c, s = np.cos(era), np.sin(era)
+        site = np.stack([x * c - y * s, x * s + y * c, np.broadcast_to(z, c.shape)], axis=-1)
+        v = self._interp(table, jd_utc) - site
         return v / np.linalg.norm(v, axis=-1, keepdims=True)
 
-    def sun_vector(self, jd_utc):
+    def sun_vector(self, jd_utc, era_rad=None):
         """Topocentric CIRS unit vector (..., 3) of the Sun at the given UTC Julian dates."""
-        return self._interp_vec(self.sun_vec, jd_utc)
+        return self._topocentric(self.sun_km, jd_utc, era_rad)
 
-    def moon_vector(self, jd_utc):
+    def moon_vector(self, jd_utc, era_rad=None):
         """Topocentric CIRS unit vector (..., 3) of the Moon at the given UTC Julian dates."""
-        return self._interp_vec(self.moon_vec, jd_utc)
+        return self._topocentric(self.moon_km, jd_utc, era_rad)
 
-    def _alt(self, vec, jd_utc, era_rad=None):
-        ra, dec = _ra_dec_from_vectors(vec)
-        era = earth_rotation_angle_rad(jd_utc) if era_rad is None else era_rad
+    def _altaz(self, table, jd_utc, era_rad):
+        era = earth_rotation_angle_rad(jd_utc) if era_rad is None else np.asarray(era_rad)
+        ra, dec = _ra_dec_from_vectors(self._topocentric(table, jd_utc, era))
         return horizontal(ra, dec, era, self.latitude_deg, self.longitude_deg)[1:]
 
     def sun_altaz_deg(self, jd_utc, era_rad=None):
         """(airless altitude, azimuth) of the Sun's centre, degrees, at UTC Julian dates."""
-        return self._alt(self.sun_vector(jd_utc), jd_utc, era_rad)
+        return self._altaz(self.sun_km, jd_utc, era_rad)
 
     def moon_altaz_deg(self, jd_utc, era_rad=None):
         """(airless topocentric altitude, azimuth) of the Moon's centre, degrees."""
-        return self._alt(self.moon_vector(jd_utc), jd_utc, era_rad)
+        return self._altaz(self.moon_km, jd_utc, era_rad)
 
     def moon_illumination(self, jd_utc):
         """Illuminated fraction of the Moon (0 new .. 1 full) at UTC Julian dates."""
@@ -291,7 +305,7 @@ class SkyTracks:
 
 def sky_tracks(latitude_deg: float, longitude_deg: float, elevation_m: float,
                start_jd_utc: float, end_jd_utc: float, step_d: float = BODY_STEP_D) -> SkyTracks:
-    """:class:`SkyTracks` of the Sun and Moon for a site, covering [start, end] (UTC JD) plus a step."""
+    """:class:`SkyTracks` of the Sun and Moon for a site, covering [start, end] (UTC JD)."""
     import astropy.units as u
     from astropy.coordinates import CIRS, EarthLocation, get_body
     from astropy.time import Time
@@ -299,22 +313,21 @@ def sky_tracks(latitude_deg: float, longitude_deg: float, elevation_m: float,
     from . import astro_offline
 
     astro_offline.configure()
-    n = int(np.ceil((end_jd_utc - start_jd_utc) / step_d)) + 3
-    grid = start_jd_utc - step_d + step_d * np.arange(n)
+    n = int(np.ceil((end_jd_utc - start_jd_utc) / step_d)) + 5
+    grid = start_jd_utc - 2 * step_d + step_d * np.arange(n)
     loc = EarthLocation.from_geodetic(longitude_deg * u.deg, latitude_deg * u.deg, elevation_m * u.m)
     with astro_offline.quiet_iers_warnings():
         t = Time(grid, format="jd", scale="utc")
-        frame = CIRS(obstime=t, location=loc)
-        vecs = []
-        for body in ("sun", "moon"):
-            c = get_body(body, t, location=loc, ephemeris="builtin").transform_to(frame)
-            vecs.append(unit_vectors_rad(c.ra.rad, c.dec.rad))
-        # illuminated fraction from the geocentric elongation (as astroplan.moon_illumination)
-        sun_g = get_body("sun", t, ephemeris="builtin")
-        moon_g = get_body("moon", t, ephemeris="builtin")
-        elong = sun_g.separation(moon_g).rad
-        r_sun = sun_g.distance.to_value(u.km)
-        r_moon = moon_g.distance.to_value(u.km)
+        frame = CIRS(obstime=t)
+        xyz = [get_body(body, t, ephemeris="builtin").transform_to(frame).cartesian.xyz.to_value(u.km).T
+               for body in ("sun", "moon")]
+    sun, moon = xyz
+    # illuminated fraction from the geocentric elongation (the formula of astroplan.moon_illumination)
+    r_sun = np.linalg.norm(sun, axis=-1)
+    r_moon = np.linalg.norm(moon, axis=-1)
+    elong = np.radians(separation_deg(sun / r_sun[:, None], moon / r_moon[:, None]))
     phase_angle = np.arctan2(r_sun * np.sin(elong), r_moon - r_sun * np.cos(elong))
     illumination = (1.0 + np.cos(phase_angle)) / 2.0
-    return SkyTracks(float(latitude_deg), float(longitude_deg), grid, vecs[0], vecs[1], illumination)
+    site_km = np.array([q.to_value(u.km) for q in loc.geocentric])
+    return SkyTracks(float(latitude_deg), float(longitude_deg), grid, float(step_d), sun, moon, site_km,
+                     illumination)
