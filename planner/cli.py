@@ -16,7 +16,7 @@ from . import __version__
 from .errors import PeriplanError
 
 #: Command modules in the order they appear in ``periplan --help``.
-COMMAND_MODULES = ("events",)
+COMMAND_MODULES = ("events", "nights")
 
 EXIT_USAGE = 2
 

@@ -5,15 +5,22 @@ from __future__ import annotations
 import argparse
 import sys
 
+import numpy as np
+
 from .. import orbit
 from ..errors import PeriplanError
 from ..output import FORMATS, render
+
+#: Most days of nights added either side of the span for windows widened by large timing
+#: uncertainties; beyond it the coverage of a window is counted only where nights are known.
+MAX_WINDOW_PAD_D = 30
 
 EXAMPLES = """\
 examples:
   periplan events sample_targets/targets.csv --start 2026-12-07 --days 60
   periplan events targets.csv --start 2026-12-07 --days 7 --kinds periastron primary_conjunction
   periplan events targets.csv --start 2026-12-07 --days 30 --tz Europe/Madrid --format csv > events.csv
+  periplan events sample_targets/targets.csv --start 2026-12-07 --days 14 --site sample_targets/site.toml --visible 0.8
 """
 
 
@@ -30,6 +37,17 @@ def register(sub):
     p.add_argument("--kinds", nargs="+", metavar="EVENT", choices=orbit.ALL_EVENTS,
                    help=f"only these events: {', '.join(orbit.ALL_EVENTS)}")
     p.add_argument("--tz", metavar="ZONE", help="IANA time zone for local times, e.g. Europe/Madrid")
+    p.add_argument("--site", metavar="SITE",
+                   help="site file (TOML): adds the night, the airless altitude and Moon separation at the "
+                        "event and the observable fraction of its window; local times in the site's zone")
+    p.add_argument("--visible", type=float, metavar="FRACTION",
+                   help="with --site: keep only events whose window is observable at least to this "
+                        "fraction (0..1)")
+    p.add_argument("--baseline-h", type=float, default=None, metavar="H",
+                   help="with --site: baseline wanted either side of the event, hours (default 1)")
+    p.add_argument("--k-sigma", type=float, default=None, metavar="K",
+                   help="with --site: widen each window by K times the 1-sigma timing uncertainty "
+                        "either side (default 2)")
     p.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
     p.set_defaults(run=run)
     return p
@@ -42,12 +60,75 @@ def run(args) -> int:
 
     if args.days <= 0:
         raise PeriplanError(f"--days must be positive; got {args.days:g}")
-    start_utc, end_utc = spans.span_utc(args.start, args.days, args.tz)
+    site_opts = [name for name, v in (("--visible", args.visible), ("--baseline-h", args.baseline_h),
+                                      ("--k-sigma", args.k_sigma)) if v is not None]
+    if site_opts and not args.site:
+        raise PeriplanError(f"{', '.join(site_opts)} need --site SITE (a site file)")
+    if args.visible is not None and not 0.0 <= args.visible <= 1.0:
+        raise PeriplanError(f"--visible must be a fraction between 0 and 1; got {args.visible:g}")
+    for name, v in (("--baseline-h", args.baseline_h), ("--k-sigma", args.k_sigma)):
+        if v is not None and not v >= 0:
+            raise PeriplanError(f"{name} must be zero or positive; got {v:g}")
+    site = None
+    if args.site:
+        from ..site import read_site
+
+        site = read_site(args.site)
+    tz = args.tz or (site.timezone if site else None)
+    start_utc, end_utc = spans.span_utc(args.start, args.days, tz)
     targets = catalogue.read_catalogue(args.catalog)
     events = predict_events(targets, *spans.bjd_bounds(start_utc, end_utc), kinds=args.kinds)
-    table = events_frame(events, targets, start_utc, end_utc, args.tz)
-    sys.stdout.write(render(table, args.format, {"bjd_tdb": ".6f", "sigma_min": ".2f", "duration_h": ".2f"}))
+    formats = {"bjd_tdb": ".6f", "sigma_min": ".2f", "duration_h": ".2f"}
+    if site is None:
+        table = events_frame(events, targets, start_utc, end_utc, tz)
+    else:
+        table = _with_visibility(events, targets, site, start_utc, end_utc, tz, args)
+        formats.update({"alt_deg": ".1f", "moon_sep_deg": ".1f", "observable_fraction": ".2f"})
+    sys.stdout.write(render(table, args.format, formats))
     if args.format == "table":
         print(f"{len(table)} events of {table['target'].nunique() if len(table) else 0} targets "
               f"from {start_utc.isot[:16]}Z to {end_utc.isot[:16]}Z", file=sys.stderr)
     return 0
+
+
+def _with_visibility(events, targets, site, start_utc, end_utc, tz, args):
+    """Events seen in the span with night, alt_deg, moon_sep_deg and observable_fraction added."""
+    import datetime as dt
+
+    from .. import timescales
+    from ..night import night_table, tracks_for_nights
+    from ..report import events_frame
+    from ..spans import zone
+    from ..windows import DEFAULT_BASELINE_H, DEFAULT_K_SIGMA, event_visibility, never_rising
+
+    for row in never_rising(targets, site).itertuples():
+        print(f"periplan: warning: {row.target} never rises high enough at {site.name}: {row.reason}; "
+              "its events are listed with observable_fraction 0", file=sys.stderr)
+    # the events that events_frame will keep, filtered the same way (so rows line up)
+    if len(events):
+        idx = events["target_index"].to_numpy()
+        t_utc = timescales.bjd_tdb_to_utc(events["bjd_tdb"].to_numpy(float),
+                                          targets["ra_deg"].to_numpy(float)[idx],
+                                          targets["dec_deg"].to_numpy(float)[idx])
+        events = events[(t_utc >= start_utc) & (t_utc < end_utc)].reset_index(drop=True)
+    table = events_frame(events, targets, start_utc, end_utc, tz)
+    baseline_h = DEFAULT_BASELINE_H if args.baseline_h is None else args.baseline_h
+    k_sigma = DEFAULT_K_SIGMA if args.k_sigma is None else args.k_sigma
+    # nights covering every window: the span, one night either side, plus the widest half-window
+    half_d = (events["sigma_d"].to_numpy(float) * k_sigma).max() if len(events) else 0.0
+    pad = 1 + int(min(np.ceil(np.nan_to_num(half_d) + 0.25), MAX_WINDOW_PAD_D))
+    tzinfo = zone(site.timezone)
+    first = start_utc.to_datetime(timezone=dt.timezone.utc).astimezone(tzinfo).date() - dt.timedelta(days=pad)
+    last = end_utc.to_datetime(timezone=dt.timezone.utc).astimezone(tzinfo).date() + dt.timedelta(days=pad)
+    n_nights = (last - first).days + 1
+    tracks = tracks_for_nights(site, first, n_nights)
+    nights = night_table(site, first, n_nights, tracks=tracks)
+    vis = event_visibility(events, targets, site, nights, baseline_h=baseline_h, k_sigma=k_sigma, tracks=tracks)
+    table["night"] = vis["night"].to_numpy(object)
+    table["alt_deg"] = vis["alt_deg"].to_numpy(float)
+    table["moon_sep_deg"] = vis["moon_sep_deg"].to_numpy(float)
+    table["observable_fraction"] = vis["observable_fraction"].to_numpy(float)
+    table["night"] = table["night"].where(table["night"].notna(), "")
+    if args.visible is not None:
+        table = table[table["observable_fraction"] >= args.visible].reset_index(drop=True)
+    return table
