@@ -110,9 +110,11 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
 
     Drawn: dark time and twilight shaded, one curve per target (thin), the scheduled block on it
     (thick), each fixed block's event window as a bracket with the event time as a diamond, the
-    altitude limit; the right axis gives airmass. Lines: k curves + one per block + one per event
+    altitude limit; the right axis gives airmass (Young 1994, as the visibility engine). Lines: k curves + one per block + one per event
     window + the limit.
     """
+    from .visibility import altitude_for_airmass_deg
+
     t = np.asarray(times_jd_utc, dtype=float)
     alt = np.atleast_2d(np.asarray(alt_deg, dtype=float))
     if alt.shape != (len(names), t.size):
@@ -158,8 +160,8 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     right = ax.twinx()
     right.set_ylim(0, 90)
     x_marks = np.array([1.0, 1.2, 1.5, 2.0, 3.0, 5.0])
-    right.set_yticks(np.degrees(np.arcsin(1.0 / x_marks)), [f"{v:g}" for v in x_marks])
-    right.set_ylabel("airmass (sec z)")
+    right.set_yticks([altitude_for_airmass_deg(v) for v in x_marks], [f"{v:g}" for v in x_marks])
+    right.set_ylabel("airmass")
     ax.grid(alpha=0.3, lw=0.5)
     ax.legend(loc="upper left", bbox_to_anchor=(1.08, 1.0), fontsize=8, frameon=False)
     ax.set_title(title or f"Night of {night['night']}: altitude of the scheduled targets", fontsize=11)

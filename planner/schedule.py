@@ -191,7 +191,9 @@ def fixed_candidates(visible: pd.DataFrame, targets: pd.DataFrame, altitude_deg=
 def _fixed_candidates(visible, targets, altitude_deg, options):
     """(candidates, (n, ALT_SAMPLES) altitudes through each block)."""
     _require(visible, VISIBLE_COLUMNS, "visible-event")
-    v = visible.reset_index(drop=True)
+    # a fixed order independent of the input's row order: the tie-break of best_intervals
+    v = visible.sort_values(["observable_start_jd_utc", "observable_end_jd_utc", "target_index", "event", "night"],
+                            kind="stable").reset_index(drop=True)
     start = v["observable_start_jd_utc"].to_numpy(float)
     end = v["observable_end_jd_utc"].to_numpy(float)
     with np.errstate(invalid="ignore"):

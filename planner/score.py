@@ -19,8 +19,8 @@ timing        max(0, 1 - 2 n sigma / W): how much of the window the +-n sigma ba
 The sum is additive so that the weighted interval scheduler (:mod:`planner.schedule`) maximises a
 plain total of points over the night. Weights are a policy, not physics: the defaults are our own
 choice ([common practice] that priority dominates and conditions break ties) and every plan prints
-them. Airmass is plane-parallel sec z (see :func:`airmass_from_alt`), the same quantity as
-astropy's ``AltAz.secz``; it is used only to rank blocks, never as a photometric correction.
+them. Airmass is Young's (1994) formula of the airless altitude (see :func:`airmass_from_alt`);
+it is used only to rank blocks, never as a photometric correction.
 """
 
 from __future__ import annotations
@@ -76,18 +76,14 @@ DEFAULT_WEIGHTS = ScoreWeights()
 
 
 def airmass_from_alt(alt_deg):
-    """Plane-parallel airmass sec z = 1 / sin(alt), shape of ``alt_deg``; inf at or below 0 deg.
+    """Airmass of airless altitudes ``alt_deg`` (Young 1994, as the rest of periplan); same shape.
 
-    Notes
-    -----
-    The same quantity as astropy's ``AltAz.secz`` (tests/test_score.py compares them). Within
-    0.3 per cent of Hardie's (1962) refined formula above 30 deg altitude, which is more than
-    enough to rank blocks.
+    Delegates to :func:`planner.visibility.airmass_young1994`, so the score ranks blocks with the
+    airmass the visibility engine and the outputs show; ``inf`` below -1 deg, NaN stays NaN.
     """
-    alt = np.asarray(alt_deg, dtype=float)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        x = 1.0 / np.sin(np.radians(alt))
-    return np.where(alt > 0.0, x, np.where(np.isnan(alt), np.nan, np.inf))
+    from .visibility import airmass_young1994
+
+    return airmass_young1994(alt_deg)
 
 
 def rarity_term(period_d):

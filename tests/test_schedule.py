@@ -1,0 +1,365 @@
+"""Night scheduler: exact choice of fixed blocks, overhead, flexible gap filling, week repeat rules.
+
+References: the optimality of the fixed-block choice is checked against brute force over every
+subset of small random cases (the definition of the optimum; the method is weighted interval
+scheduling, Kleinberg & Tardos, *Algorithm Design*, 2006, sec. 6.1). The tables are small and
+hand-made: they exercise the scheduler's logic, their values are not expected results.
+"""
+
+from __future__ import annotations
+
+import itertools
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from planner import schedule
+from planner.catalogue import parse_catalogue
+from planner.errors import PeriplanError
+from planner.score import ScoreWeights
+
+#: Score sums of at most 10 floats of order 100 agree to ~1e-13 relative; 1e-9 points is far
+#: above that rounding and far below any real difference between two plans.
+SCORE_TOL_PTS = 1e-9
+#: Block edges are sums of a few Julian dates (2.46e6 d, spacing 4.7e-10 d = 40 us);
+#: one millisecond of slack covers that rounding.
+TIME_TOL_D = 1e-3 / 86400.0
+
+J0 = 2461382.0  # 2026-12-07 12:00 UTC (JD); noon before the first night
+NIGHT_LABELS = ("2026-12-07", "2026-12-08", "2026-12-09")
+
+CATALOGUE = """\
+name,ra,dec,period_d,e,omega_deg,tp,priority,visit_h,visit_gap_h
+Alpha,10,20,111.4,0.5,30,2461000.5,5,,
+Beta,40,20,3.0,0.0,90,2461000.5,2,,
+Gamma,60,30,38.9,0.2,200,2461000.5,2,1.0,20
+Delta,80,10,9.0,0.3,100,2461000.5,1,0.5,
+"""
+
+
+@pytest.fixture(scope="module")
+def targets():
+    return parse_catalogue(CATALOGUE)
+
+
+def nights_table(labels=NIGHT_LABELS, dark=True):
+    k = np.arange(len(labels), dtype=float)
+    nan = np.full(len(labels), np.nan)
+    return pd.DataFrame({
+        "night": list(labels), "sunset_jd_utc": J0 + k + 0.20,
+        "dark_start_jd_utc": J0 + k + 0.26 if dark else nan, "dark_end_jd_utc": J0 + k + 0.74 if dark else nan,
+        "sunrise_jd_utc": J0 + k + 0.80, "moon_illumination": np.full(len(labels), 0.4),
+    })
+
+
+def visible_row(target, ti, night_k, start, end, event="periastron", fraction=1.0, sigma_d=0.002, sep=70.0):
+    """One visible-event row; start/end in days after the noon starting night ``night_k``."""
+    s, e = J0 + night_k + start, J0 + night_k + end
+    return {"target": target, "event": event, "label": event, "cycle": 0, "bjd_tdb": 0.5 * (s + e),
+            "sigma_d": sigma_d, "duration_d": np.nan, "eclipses": pd.NA, "target_index": ti,
+            "night": NIGHT_LABELS[night_k], "alt_deg": 50.0, "window_start_jd_utc": s, "window_end_jd_utc": e,
+            "observable_fraction": fraction, "observable_start_jd_utc": s, "observable_end_jd_utc": e,
+            "moon_sep_deg": sep, "moon_illumination": 0.4}
+
+
+def availability_rows(ti, name, nights=(0, 1, 2), start=0.27, end=0.73):
+    return pd.DataFrame([{"target_index": ti, "target": name, "night": NIGHT_LABELS[k],
+                          "start_jd_utc": J0 + k + start, "end_jd_utc": J0 + k + end, "max_alt_deg": 70.0}
+                         for k in nights])
+
+
+def altitude(ti, jd):
+    """A smooth invented altitude curve per target (deg): peak 75 deg near local midnight."""
+    frac = np.mod(jd - J0, 1.0)
+    return 75.0 - 180.0 * np.abs(frac - 0.5 - 0.03 * np.asarray(ti))
+
+
+def brute_force_best(start, end, weight, gap):
+    """Largest total weight over all subsets whose members are pairwise compatible."""
+    n = len(start)
+    best = 0.0
+    for r in range(1, n + 1):
+        for combo in itertools.combinations(range(n), r):
+            order = sorted(combo, key=lambda i: start[i])
+            if all(end[a] + gap <= start[b] for a, b in zip(order, order[1:])):
+                best = max(best, sum(weight[i] for i in combo))
+    return best
+
+
+def feasible(start, end, chosen, gap):
+    order = sorted(chosen, key=lambda i: start[i])
+    return all(end[a] + gap <= start[b] for a, b in zip(order, order[1:]))
+
+
+def test_best_intervals_is_optimal_against_brute_force():
+    # Reference: brute force over all 2^n subsets (n <= 9), 400 seeded random cases.
+    rng = np.random.default_rng(20261207)
+    for _ in range(400):
+        n = int(rng.integers(1, 10))
+        start = rng.uniform(0.0, 10.0, n)
+        length = rng.uniform(0.2, 3.0, n)
+        if n > 2:  # shared edges, to exercise ties: block 1 starts where block 0 ends
+            start[1] = start[0] + length[0]
+        end = start + length
+        if n > 2 and end[1] > start[2]:
+            end[2] = end[1]  # blocks 1 and 2 end together
+        weight = np.round(rng.uniform(0.0, 100.0, n), int(rng.integers(0, 3)))
+        gap = float(rng.choice([0.0, 0.1, 0.25, 1.0]))
+        chosen = schedule.best_intervals(start, end, weight, gap)
+        assert feasible(start, end, chosen, gap)
+        got = float(weight[chosen].sum())
+        assert abs(got - brute_force_best(start, end, weight, gap)) <= SCORE_TOL_PTS
+
+
+def test_best_intervals_overhead_decides_compatibility():
+    # Blocks 0 and 1 leave a 5-minute gap: compatible without overhead, not with 10 minutes.
+    start = np.array([0.0, 65.0]) / 1440.0
+    end = np.array([60.0, 125.0]) / 1440.0
+    w = np.array([3.0, 2.0])
+    assert list(schedule.best_intervals(start, end, w, 0.0)) == [0, 1]
+    assert list(schedule.best_intervals(start, end, w, 5.0 / 1440.0)) == [0, 1]  # exactly the gap
+    assert list(schedule.best_intervals(start, end, w, 10.0 / 1440.0)) == [0]
+
+
+def test_best_intervals_skips_worthless_blocks_and_refuses_empty_ones():
+    assert list(schedule.best_intervals([0.0], [1.0], [0.0])) == []
+    assert schedule.best_intervals([], [], []).size == 0
+    with pytest.raises(PeriplanError, match="end after it starts"):
+        schedule.best_intervals([1.0], [1.0], [5.0])
+
+
+def _random_week(rng, targets, n_per_night=6):
+    rows = []
+    names = list(targets["name"])
+    for k in range(len(NIGHT_LABELS)):
+        for _ in range(n_per_night):
+            ti = int(rng.integers(0, 2))  # the fixed-event targets Alpha and Beta
+            s = rng.uniform(0.26, 0.65)
+            rows.append(visible_row(names[ti], ti, k, s, s + rng.uniform(0.02, 0.12),
+                                    event=str(rng.choice(["periastron", "rv_max", "rv_min"])),
+                                    fraction=float(rng.uniform(0.3, 1.0)), sep=float(rng.uniform(5, 120))))
+    return pd.DataFrame(rows)
+
+
+def test_each_night_is_optimal_for_the_score(targets):
+    # Reference: brute force over the fixed candidates of each night (repeat rule "every", so the
+    # nights are independent and each must reach the brute-force optimum).
+    rng = np.random.default_rng(7)
+    options = schedule.ScheduleOptions(overhead_min=15.0)
+    for _ in range(5):
+        visible = _random_week(rng, targets)
+        cands = schedule.fixed_candidates(visible, targets, altitude, options)
+        plan = schedule.plan_week(visible, None, targets, nights_table(), altitude, options=options)
+        for label in NIGHT_LABELS:
+            c = cands[cands["night"] == label]
+            best = brute_force_best(c["start_jd_utc"].to_numpy(), c["end_jd_utc"].to_numpy(),
+                                    c["score"].to_numpy(), 15.0 / 1440.0)
+            got = plan.loc[plan["night"] == label, "score"].sum()
+            assert abs(got - best) <= SCORE_TOL_PTS
+
+
+def test_overhead_is_respected_between_all_blocks(targets):
+    rng = np.random.default_rng(11)
+    visible = _random_week(rng, targets, n_per_night=8)
+    availability = pd.concat([availability_rows(2, "Gamma"), availability_rows(3, "Delta")], ignore_index=True)
+    for overhead in (0.0, 10.0, 30.0):
+        options = schedule.ScheduleOptions(overhead_min=overhead)
+        plan = schedule.plan_week(visible, availability, targets, nights_table(), altitude, options=options)
+        assert (plan["kind"] == "flexible").any() and (plan["kind"] == "fixed").any()
+        for _, night in plan.groupby("night"):
+            s = night["start_jd_utc"].to_numpy()
+            e = night["end_jd_utc"].to_numpy()
+            assert np.all(np.diff(s) > 0)
+            gaps = s[1:] - e[:-1]
+            assert np.all(gaps >= overhead / 1440.0 - TIME_TOL_D)
+
+
+def test_same_input_same_plan_whatever_the_row_order(targets):
+    rng = np.random.default_rng(3)
+    visible = _random_week(rng, targets)
+    availability = pd.concat([availability_rows(2, "Gamma"), availability_rows(3, "Delta")], ignore_index=True)
+    first = schedule.plan_week(visible, availability, targets, nights_table(), altitude)
+    again = schedule.plan_week(visible, availability, targets, nights_table(), altitude)
+    shuffled = schedule.plan_week(visible.sample(frac=1.0, random_state=5), availability.iloc[::-1],
+                                  targets, nights_table(), altitude)
+    pd.testing.assert_frame_equal(first, again)
+    pd.testing.assert_frame_equal(first, shuffled)
+
+
+def test_identical_blocks_tie_break_is_stable(targets):
+    # Two equal-score candidates on the same stretch: the same one wins in any row order.
+    rows = [visible_row("Beta", 1, 0, 0.3, 0.4, event="rv_max"), visible_row("Beta", 1, 0, 0.3, 0.4, event="rv_min")]
+    a = schedule.plan_week(pd.DataFrame(rows), None, targets, nights_table(), altitude)
+    b = schedule.plan_week(pd.DataFrame(rows[::-1]), None, targets, nights_table(), altitude)
+    assert len(a) == 1 and list(a["event"]) == list(b["event"])
+
+
+def _three_nights_of_one_event(targets, seps=(100.0, 10.0, 60.0)):
+    # Alpha's periastron window on three nights; the Moon separation makes night 0 the best.
+    return pd.DataFrame([visible_row("Alpha", 0, k, 0.35, 0.45, sep=seps[k]) for k in range(3)])
+
+
+def test_repeat_rules(targets):
+    visible = _three_nights_of_one_event(targets, seps=(10.0, 100.0, 60.0))
+    run = lambda rule: schedule.plan_week(visible, None, targets, nights_table(), altitude,  # noqa: E731
+                                          options=schedule.ScheduleOptions(repeats=rule))
+    every, first, best = run("every"), run("first"), run("best")
+    assert list(every["night"]) == list(NIGHT_LABELS)
+    assert list(first["night"]) == [NIGHT_LABELS[0]]
+    cands = schedule.fixed_candidates(visible, targets, altitude)
+    assert list(best["night"]) == [cands.loc[cands["score"].idxmax(), "night"]] == [NIGHT_LABELS[1]]
+
+
+def _alpha_three_nights_with_beta_clash(clash_night):
+    """Alpha's periastron on three nights; a better Beta block clashes with it on ``clash_night``."""
+    rows = [visible_row("Alpha", 0, k, 0.35, 0.45, sep=(10.0, 100.0, 60.0)[k]) for k in range(3)]
+    rows.append(visible_row("Beta", 1, clash_night, 0.30, 0.50, event="rv_max"))
+    visible = pd.DataFrame(rows)
+    # Alpha's instance on the clash night is poorly covered and next to a full Moon, so Beta wins
+    visible.loc[clash_night, ["observable_fraction", "moon_sep_deg", "moon_illumination"]] = [0.01, 0.0, 1.0]
+    return visible
+
+
+#: Priority worth 1 point per unit, so that conditions can outweigh Alpha's higher priority.
+FLAT_PRIORITY = ScoreWeights(priority=1.0)
+
+
+def test_repeat_rule_first_keeps_the_first_scheduled_instance(targets):
+    visible = _alpha_three_nights_with_beta_clash(0)
+    cands = schedule.fixed_candidates(visible, targets, altitude, schedule.ScheduleOptions(weights=FLAT_PRIORITY))
+    n0 = cands[cands["night"] == NIGHT_LABELS[0]].set_index("target")["score"]
+    assert n0["Beta"] > n0["Alpha"]  # precondition of this case
+    plan = schedule.plan_week(visible, None, targets, nights_table(), altitude,
+                              options=schedule.ScheduleOptions(repeats="first", weights=FLAT_PRIORITY))
+    assert list(plan.loc[plan["target"] == "Alpha", "night"]) == [NIGHT_LABELS[1]]
+    assert list(plan.loc[plan["night"] == NIGHT_LABELS[0], "target"]) == ["Beta"]
+
+
+def test_repeat_rule_best_keeps_the_best_scheduled_instance(targets):
+    # Alpha's night-1 instance loses its night to Beta; of the instances that are scheduled
+    # (nights 0 and 2) the better one (night 2, Moon 60 deg away, not 10) is kept.
+    visible = _alpha_three_nights_with_beta_clash(1)
+    every = schedule.plan_week(visible, None, targets, nights_table(), altitude,
+                               options=schedule.ScheduleOptions(weights=FLAT_PRIORITY))
+    assert list(every.loc[every["target"] == "Alpha", "night"]) == [NIGHT_LABELS[0], NIGHT_LABELS[2]]
+    plan = schedule.plan_week(visible, None, targets, nights_table(), altitude,
+                              options=schedule.ScheduleOptions(repeats="best", weights=FLAT_PRIORITY))
+    assert list(plan.loc[plan["target"] == "Alpha", "night"]) == [NIGHT_LABELS[2]]
+    assert list(plan.loc[plan["night"] == NIGHT_LABELS[1], "target"]) == ["Beta"]
+
+
+def test_repeat_rule_best_schedules_each_event_at_most_once(targets):
+    rng = np.random.default_rng(19)
+    for _ in range(5):
+        visible = _random_week(rng, targets, n_per_night=5)
+        best = schedule.plan_week(visible, None, targets, nights_table(), altitude,
+                                  options=schedule.ScheduleOptions(repeats="best"))
+        every = schedule.plan_week(visible, None, targets, nights_table(), altitude)
+        assert not best.duplicated(["target", "event"]).any()
+        assert every.duplicated(["target", "event"]).any()  # so the rule had work to do
+        # each night of "best" is still optimal for the candidates it kept: no night scores more
+        # under "best" than under "every", which is optimal per night without the rule
+        for label in NIGHT_LABELS:
+            b = best.loc[best["night"] == label, "score"].sum()
+            e = every.loc[every["night"] == label, "score"].sum()
+            assert b <= e + SCORE_TOL_PTS
+
+
+def test_flexible_visits_respect_gap_one_per_night_and_fixed_blocks(targets):
+    visible = pd.DataFrame([visible_row("Alpha", 0, 0, 0.30, 0.50), visible_row("Beta", 1, 1, 0.28, 0.40)])
+    availability = pd.concat([availability_rows(2, "Gamma"), availability_rows(3, "Delta"),
+                              availability_rows(1, "Beta")], ignore_index=True)
+    plan = schedule.plan_week(visible, availability, targets, nights_table(), altitude,
+                              options=schedule.ScheduleOptions(overhead_min=10.0))
+    flex = plan[plan["kind"] == "flexible"]
+    # Beta has no visit_h: never flexible
+    assert set(flex["target"]) == {"Gamma", "Delta"}
+    # one visit per target per night
+    assert not flex.duplicated(["night", "target"]).any()
+    # Gamma: visit_gap_h = 20 h between the starts of consecutive visits
+    g = flex[flex["target"] == "Gamma"]["start_jd_utc"].to_numpy()
+    assert np.all(np.diff(g) >= 20.0 / 24.0 - TIME_TOL_D)
+    # length = visit_h
+    for name, hours in (("Gamma", 1.0), ("Delta", 0.5)):
+        d = flex[flex["target"] == name]
+        assert np.all(abs((d["end_jd_utc"] - d["start_jd_utc"]) * 24.0 - hours) <= TIME_TOL_D * 24)
+    # inside the availability
+    assert np.all(flex["start_jd_utc"] >= J0 + 0.27 - TIME_TOL_D)
+    assert flex["notes"].str.contains("flexible visit").all()
+    assert flex["event_jd_utc"].isna().all()
+
+
+def test_flexible_visit_not_added_for_a_target_with_a_fixed_block_that_night(targets):
+    visible = pd.DataFrame([visible_row("Gamma", 2, 0, 0.30, 0.40, event="rv_max")])
+    plan = schedule.plan_week(visible, availability_rows(2, "Gamma", nights=(0,)), targets,
+                              nights_table(), altitude)
+    assert list(plan["kind"]) == ["fixed"]
+
+
+def test_flexible_without_altitude_function_centres_on_availability(targets):
+    plan = schedule.plan_week(visible_frame_empty(), availability_rows(3, "Delta", nights=(0,), start=0.3, end=0.5),
+                              targets, nights_table())
+    mid = 0.5 * (plan["start_jd_utc"] + plan["end_jd_utc"]).iloc[0]
+    assert abs(mid - (J0 + 0.4)) <= TIME_TOL_D
+
+
+def visible_frame_empty():
+    return pd.DataFrame({c: [] for c in schedule.VISIBLE_COLUMNS + ("alt_deg",)})
+
+
+def test_nothing_visible_gives_an_empty_plan_with_the_columns(targets):
+    plan = schedule.plan_week(visible_frame_empty(), None, targets, nights_table(dark=False))
+    assert plan.empty and tuple(plan.columns) == schedule.SCHEDULE_COLUMNS
+    assert schedule.display_frame(plan, "Europe/Madrid").empty
+
+
+def test_notes_partial_meridian_twilight_and_sun(targets):
+    rows = [visible_row("Alpha", 0, 0, 0.45, 0.55, fraction=0.6),   # partial, crosses the peak at 0.5
+            visible_row("Beta", 1, 1, 0.24, 0.30, event="rv_max"),  # starts in twilight
+            visible_row("Alpha", 0, 2, 0.15, 0.25, event="rv_min")]  # starts before sunset
+    plan = schedule.plan_week(pd.DataFrame(rows), None, targets, nights_table(), altitude)
+    notes = dict(zip(plan["night"], plan["notes"]))
+    assert "partial: 60% of the event window" in notes[NIGHT_LABELS[0]]
+    assert "crosses the meridian" in notes[NIGHT_LABELS[0]]
+    assert "evening twilight" in notes[NIGHT_LABELS[1]]
+    assert "SUN ABOVE THE HORIZON" in notes[NIGHT_LABELS[2]]
+    no_dark = schedule.plan_week(pd.DataFrame(rows[:1]), None, targets, nights_table(dark=False), altitude)
+    assert "no astronomical darkness" in no_dark["notes"].iloc[0]
+
+
+def test_event_time_is_seen_from_earth_within_light_travel_of_bjd(targets):
+    # Reference bound: BJD_TDB - JD_UTC is at most about 8.3 min of light travel plus TT - UTC =
+    # 69.184 s (Eastman, Siverd & Gaudi 2010, PASP 122, 935; IERS Bulletin C).
+    bound_d = (8.4 * 60.0 + 69.2) / 86400.0
+    plan = schedule.plan_week(pd.DataFrame([visible_row("Alpha", 0, 0, 0.3, 0.5)]), None, targets, nights_table())
+    diff = plan["event_jd_utc"].iloc[0] - (J0 + 0.4)
+    assert abs(diff) <= bound_d
+    assert abs(diff) >= 60.0 / 86400.0  # TT - UTC alone is 69 s; a missing conversion would give 0
+
+
+def test_bad_tables_and_options_are_refused_with_the_column(targets):
+    with pytest.raises(PeriplanError, match="observable_start_jd_utc"):
+        schedule.plan_week(visible_frame_empty().drop(columns="observable_start_jd_utc"), None, targets,
+                           nights_table())
+    with pytest.raises(PeriplanError, match="dark_start_jd_utc"):
+        schedule.plan_week(visible_frame_empty(), None, targets, nights_table().drop(columns="dark_start_jd_utc"))
+    with pytest.raises(PeriplanError, match="repeat rule 'twice'"):
+        schedule.ScheduleOptions(repeats="twice")
+    with pytest.raises(PeriplanError, match="overhead_min"):
+        schedule.ScheduleOptions(overhead_min=-1.0)
+
+
+def test_display_frame_times_match_astropy(targets):
+    from astropy.time import Time
+
+    plan = schedule.plan_week(pd.DataFrame([visible_row("Alpha", 0, 0, 0.3, 0.5)]), None, targets, nights_table())
+    shown = schedule.display_frame(plan, "Europe/Madrid")
+    for col in ("night", "start_utc", "end_utc", "start_local", "end_local", "target", "event", "event_utc",
+                "score", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg", "notes"):
+        assert col in shown.columns
+    expect = Time(plan["start_jd_utc"].iloc[0], format="jd", scale="utc").isot[:19] + "Z"
+    assert shown["start_utc"].iloc[0] == expect
+    # Madrid is UTC+1 in December (IANA tz database, zone Europe/Madrid, CET)
+    assert shown["start_local"].iloc[0].endswith("+01:00")
+    assert shown["start_local"].iloc[0][11:13] == f"{(int(expect[11:13]) + 1) % 24:02d}"
