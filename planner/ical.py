@@ -81,7 +81,8 @@ def plan_calendar(schedule: pd.DataFrame, dtstamp_utc: dt.datetime | None = None
         ev.add("dtstamp", stamp.astimezone(dt.timezone.utc))
         ev.add("dtstart", utc_datetime(b["start_jd_utc"]))
         ev.add("dtend", utc_datetime(b["end_jd_utc"]))
-        what = "flexible visit" if b["kind"] == "flexible" else (b["label"] or b["event"])
+        label = b["label"] if isinstance(b["label"], str) and b["label"] else b["event"]
+        what = "flexible visit" if b["kind"] == "flexible" else label
         ev.add("summary", f"{b['target']}: {what}")
         ev.add("description", _description(b))
         if site_name:
