@@ -1,0 +1,159 @@
+"""Fast alt/az/hour angle against astropy's full transforms; airmass and refraction formulas."""
+
+import numpy as np
+import pytest
+
+from planner import visibility
+
+#: Altitude against astropy's full AltAz transform (pressure 0): the issue's bound. The fast
+#: path leaves out polar motion and diurnal aberration (0.3 arcsec each), so it is met with a
+#: wide margin (about 1 arcsec is typical).
+ALT_TOLERANCE_DEG = 0.005
+#: Sun and Moon positions (interpolated hourly grid) against astropy's AltAz of get_body:
+#: same bound; the interpolation error is below 1e-4 deg.
+BODY_TOLERANCE_DEG = 0.005
+SITES = [(37.62, -3.12, 1650.0), (69.65, 18.96, 10.0), (-30.17, -70.80, 2200.0), (-21.2, -175.2, 0.0)]
+
+
+def random_targets(n, seed=20261202):
+    rng = np.random.default_rng(seed)
+    ra = rng.uniform(0.0, 360.0, n)
+    dec = np.degrees(np.arcsin(rng.uniform(-1.0, 1.0, n)))  # uniform on the sphere
+    return ra, dec
+
+
+def astropy_altaz(ra, dec, jd, lat, lon, elev):
+    import astropy.units as u
+    from astropy.coordinates import AltAz, EarthLocation, SkyCoord
+    from astropy.time import Time
+
+    loc = EarthLocation.from_geodetic(lon * u.deg, lat * u.deg, elev * u.m)
+    t = Time(jd, format="jd", scale="utc")
+    c = SkyCoord(ra[:, None] * u.deg, dec[:, None] * u.deg)
+    return c.transform_to(AltAz(obstime=t[None, :], location=loc, pressure=0 * u.hPa)), loc, t
+
+
+def test_1000_targets_7_nights_altitude_against_astropy_altaz():
+    lat, lon, elev = SITES[0]
+    ra, dec = random_targets(1000)
+    # three samples in each of 7 nights (evening, midnight, morning at 3.1 W)
+    jd = 2461381.5 + np.concatenate([d + np.array([-0.3, 0.0, 0.25]) for d in range(7)])
+    fast = visibility.altaz_grid(ra, dec, jd, lat, lon)
+    ref, _, _ = astropy_altaz(ra, dec, jd, lat, lon, elev)
+    assert fast.alt_deg.shape == (1000, 21)
+    assert np.max(np.abs(fast.alt_deg - ref.alt.deg)) <= ALT_TOLERANCE_DEG
+    # azimuth, measured as an angle on the sky (scaled by cos alt), away from the zenith
+    daz = (fast.az_deg - ref.az.deg + 180.0) % 360.0 - 180.0
+    assert np.max(np.abs(daz * np.cos(np.radians(ref.alt.deg)))) <= ALT_TOLERANCE_DEG
+
+
+@pytest.mark.parametrize("lat, lon, elev", SITES[1:])
+def test_other_sites_altitude_and_hour_angle_against_astropy(lat, lon, elev):
+    import astropy.units as u
+    from astropy.coordinates import HADec
+
+    ra, dec = random_targets(200, seed=7)
+    jd = 2461560.5 + np.linspace(0.0, 2.0, 9)
+    fast = visibility.altaz_grid(ra, dec, jd, lat, lon)
+    ref, loc, t = astropy_altaz(ra, dec, jd, lat, lon, elev)
+    assert np.max(np.abs(fast.alt_deg - ref.alt.deg)) <= ALT_TOLERANCE_DEG
+    hadec = ref.transform_to(HADec(obstime=t[None, :], location=loc, pressure=0 * u.hPa))
+    dha_deg = ((fast.ha_h - hadec.ha.hour + 12.0) % 24.0 - 12.0) * 15.0
+    # hour angle as an angle on the sky: scaled by cos dec
+    assert np.max(np.abs(dha_deg * np.cos(np.radians(hadec.dec.deg)))) <= ALT_TOLERANCE_DEG
+    assert np.all((fast.ha_h >= -12.0) & (fast.ha_h <= 12.0))
+
+
+def test_array_path_equals_one_at_a_time():
+    ra, dec = random_targets(40, seed=3)
+    jd = 2461400.3 + np.linspace(0.0, 0.4, 5)
+    grid = visibility.altaz_grid(ra, dec, jd, 37.62, -3.12)
+    for i in range(40):
+        one = visibility.altaz_grid(ra[i], dec[i], jd, 37.62, -3.12)
+        assert np.all(np.abs(one.alt_deg[0] - grid.alt_deg[i]) < 1e-9)
+    pairs = visibility.altaz_at(ra[:, None], dec[:, None], jd[None, :], 37.62, -3.12)
+    assert np.all(np.abs(pairs.alt_deg - grid.alt_deg) < 1e-9)
+    assert np.all(np.abs(pairs.az_deg - grid.az_deg) < 1e-9)
+
+
+@pytest.mark.parametrize("lat, lon, elev", SITES)
+def test_sun_and_moon_tracks_against_astropy_get_body(lat, lon, elev):
+    import astropy.units as u
+    from astroplan import moon_illumination
+    from astropy.coordinates import AltAz, get_body
+
+    jd = 2461385.2 + np.linspace(0.0, 3.0, 61)
+    tracks = visibility.sky_tracks(lat, lon, elev, jd[0], jd[-1])
+    _, loc, t = astropy_altaz(np.zeros(1), np.zeros(1), jd, lat, lon, elev)
+    frame = AltAz(obstime=t, location=loc, pressure=0 * u.hPa)
+    for body, (alt, az) in (("sun", tracks.sun_altaz_deg(jd)), ("moon", tracks.moon_altaz_deg(jd))):
+        ref = get_body(body, t, location=loc).transform_to(frame)
+        assert np.max(np.abs(alt - ref.alt.deg)) < BODY_TOLERANCE_DEG, body
+        daz = (az - ref.az.deg + 180.0) % 360.0 - 180.0
+        assert np.max(np.abs(daz * np.cos(np.radians(ref.alt.deg)))) < BODY_TOLERANCE_DEG, body
+    # astroplan.moon_illumination, same formula and ephemeris: 0.001 of the disc
+    assert np.max(np.abs(tracks.moon_illumination(jd) - moon_illumination(t))) < 1e-3
+
+
+def test_moon_separation_against_astropy():
+    import astropy.units as u
+    from astropy.coordinates import SkyCoord, get_body
+
+    lat, lon, elev = SITES[0]
+    ra, dec = random_targets(50, seed=11)
+    jd = 2461390.4 + np.linspace(0.0, 0.5, 4)
+    tracks = visibility.sky_tracks(lat, lon, elev, jd[0], jd[-1])
+    _, loc, t = astropy_altaz(ra, dec, jd, lat, lon, elev)
+    moon = get_body("moon", t, location=loc)
+    for k in range(jd.size):
+        ri, di = visibility.cirs_place(ra, dec, visibility.utc_to_tdb_jd(jd[k]))
+        sep = visibility.separation_deg(visibility.unit_vectors_rad(ri, di), tracks.moon_vector(jd[k]))
+        # in the Moon's frame (topocentric GCRS), as astroplan's MoonSeparationConstraint does
+        targets = SkyCoord(ra * u.deg, dec * u.deg).transform_to(moon[k].frame)
+        ref = moon[k].separation(targets).deg
+        assert np.max(np.abs(sep - ref)) < BODY_TOLERANCE_DEG
+
+
+def test_airmass_young_1994_against_hardie_1962():
+    # Hardie 1962 (Astronomical Techniques, p. 180), a fit to Bemporad's table good to 0.1 per cent
+    # up to X = 6.8, is in terms of the observed (refracted) zenith distance; Young 1994 (Applied
+    # Optics 33, 1108) in terms of the true one. Compare with z_obs = z_true - refraction.
+    # Tolerance 0.3 per cent: Hardie's stated accuracy plus the refraction formula's.
+    z_true = np.array([0.0, 20.0, 40.0, 60.0, 70.0, 75.0, 80.0])
+    alt = 90.0 - z_true
+    sec = 1.0 / np.cos(np.radians(z_true - visibility.refraction_saemundsson_deg(alt)))
+    hardie = sec - 0.0018167 * (sec - 1) - 0.002875 * (sec - 1) ** 2 - 0.0008083 * (sec - 1) ** 3
+    young = visibility.airmass_young1994(alt)
+    assert np.max(np.abs(young / hardie - 1.0)) < 3e-3
+    # and close to the plane-parallel sec z high in the sky: astropy's AltAz.secz at 60 deg zenith
+    # distance is 2.000; a curved atmosphere gives about 0.4 per cent less
+    assert abs(visibility.airmass_young1994(30.0) - 2.0) < 0.01
+    assert visibility.airmass_young1994(30.0) < 2.0
+    assert np.isinf(visibility.airmass_young1994(-5.0))
+
+
+def test_altitude_for_airmass_inverts_the_formula():
+    for x in (1.2, 2.0, 3.0, 5.0):
+        alt = visibility.altitude_for_airmass_deg(x)
+        assert abs(visibility.airmass_young1994(alt) - x) < 1e-9
+
+
+def test_refraction_against_astropy_erfa_model():
+    # astropy AltAz with pressure 1010 hPa, 10 C, dry air, 0.55 um (ERFA refco two-term model)
+    # against Saemundsson 1986 (Sky & Telescope 72, 70; Meeus eq. 16.4) for the same conditions.
+    # The two models differ by up to ~4 per cent at 15 deg (8 arcsec); 0.003 deg is far below
+    # what a printed altitude shows. Refraction is for display only.
+    import astropy.units as u
+    from astropy.coordinates import AltAz, EarthLocation, SkyCoord
+    from astropy.time import Time
+
+    loc = EarthLocation.from_geodetic(0 * u.deg, 40 * u.deg, 0 * u.m)
+    t = Time("2026-12-07T22:00:00", scale="utc")
+    alts = np.array([15.0, 20.0, 30.0, 45.0, 60.0, 80.0])
+    airless = SkyCoord(alt=alts * u.deg, az=np.full(alts.size, 100.0) * u.deg,
+                       frame=AltAz(obstime=t, location=loc, pressure=0 * u.hPa))
+    observed = airless.icrs.transform_to(AltAz(obstime=t, location=loc, pressure=1010 * u.hPa,
+                                               temperature=10 * u.deg_C, relative_humidity=0,
+                                               obswl=0.55 * u.micron))
+    ref = observed.alt.deg - alts
+    assert np.max(np.abs(visibility.refraction_saemundsson_deg(alts) - ref)) < 0.003
