@@ -149,8 +149,10 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
     rep = np.repeat(np.arange(ti.size), count)
     cycle = first[rep] + (np.arange(rep.size) - np.repeat(np.cumsum(count) - count, count))
     t_i, k_i = ti[rep], ki[rep]
-    bjd = epoch[t_i] + period[t_i] * (cycle + offsets[t_i, k_i])
     x = cycle + offsets[t_i, k_i]
+    bjd = epoch[t_i] + period[t_i] * x
+    order = np.lexsort((t_i, bjd))  # by time, then catalogue order: deterministic
+    t_i, k_i, cycle, x, bjd = t_i[order], k_i[order], cycle[order], x[order], bjd[order]
     sigma = np.sqrt(epoch_err[t_i] ** 2 + (period_err[t_i] * x) ** 2
                     + (period[t_i] ** 2 + period_err[t_i] ** 2) * var_d[t_i, k_i])
     event_names = np.asarray(names, dtype=object)[k_i]
@@ -169,7 +171,7 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
         "eclipses": pd.array(eclipses, dtype="boolean"),
         "target_index": t_i.astype(np.int64),
     })
-    return out.sort_values(["bjd_tdb", "target"], kind="stable").reset_index(drop=True)
+    return out
 
 
 def _durations_d(targets, e, omega, period):

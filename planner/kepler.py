@@ -33,7 +33,9 @@ def _check_eccentricity(e: np.ndarray) -> None:
 
 def wrap_angle(angle_rad):
     """Angle reduced to [0, 2 pi), same shape as the input."""
-    return np.mod(angle_rad, TWO_PI)
+    angle_rad = np.asarray(angle_rad, dtype=float)
+    out = angle_rad - TWO_PI * np.floor(angle_rad / TWO_PI)
+    return np.where(out >= TWO_PI, 0.0, out)  # x just below a multiple of 2 pi can round up
 
 
 def solve_kepler(mean_anomaly_rad, e):

@@ -44,35 +44,47 @@ def _body_positions_au(jd_tdb, body: str):
     return earth - sun
 
 
+class _EarthTrack:
+    """The Earth's barycentric or heliocentric position on a half-day grid, interpolated.
+
+    Built once for a span of TDB Julian dates; :meth:`delay_d` gives the Roemer delay for unit
+    vectors towards targets. Cubic (Catmull-Rom) interpolation of each coordinate: error below
+    1e-4 s of delay (its second derivative is at most ~2 pi^2 x 500 s / yr^2).
+    """
+
+    def __init__(self, jd_lo, jd_hi, reference):
+        import astropy.units as u
+        from astropy.constants import c
+
+        n = int(np.ceil((jd_hi - jd_lo) / _LTT_GRID_D)) + 1
+        self.grid0 = jd_lo - _LTT_GRID_D
+        self.pos = _body_positions_au(self.grid0 + _LTT_GRID_D * np.arange(n + 3), reference)
+        self.au_light_d = (u.au / c).to("day").value
+
+    def delay_d(self, jd_tdb, unit):
+        x = (jd_tdb - self.grid0) / _LTT_GRID_D
+        i = np.clip(np.floor(x).astype(np.int64), 1, len(self.pos) - 3)
+        f = x - i
+        # project the grid positions on each direction first: four dot products, then 1-D cubic
+        p0, p1, p2, p3 = (np.einsum("...k,...k->...", self.pos[i + j], unit) for j in (-1, 0, 1, 2))
+        r = p1 + 0.5 * f * (p2 - p0 + f * (2 * p0 - 5 * p1 + 4 * p2 - p3 + f * (3 * (p1 - p2) + p3 - p0)))
+        return r * self.au_light_d
+
+
 def light_travel_time_d(jd_tdb, ra_deg, dec_deg, reference: str = "barycentre"):
     """Roemer delay (days) to add to a geocentric time to refer it to the barycentre or the Sun.
 
     ``jd_tdb``, ``ra_deg`` and ``dec_deg`` broadcast together; ``reference`` is ``"barycentre"``
-    (for BJD) or ``"sun"`` (for HJD). The Earth's position is evaluated on a grid of half-day
-    steps spanning the times and interpolated cubically (error below 1e-4 s: the delay's second
-    derivative is at most ~2 pi^2 x 500 s / yr^2), so a million events cost a few grid points.
+    (for BJD) or ``"sun"`` (for HJD). The Earth's position comes from a half-day grid spanning the
+    times (see :class:`_EarthTrack`), so a million events cost a few grid points.
     """
-    import astropy.units as u
-    from astropy.constants import c
-
     jd, ra, dec = np.broadcast_arrays(
         np.asarray(jd_tdb, float), np.asarray(ra_deg, float), np.asarray(dec_deg, float)
     )
     if jd.size == 0:
         return np.zeros(jd.shape)
-    lo, hi = np.nanmin(jd), np.nanmax(jd)
-    n = int(np.ceil((hi - lo) / _LTT_GRID_D)) + 1
-    grid = lo + _LTT_GRID_D * (np.arange(-1, n + 2))
-    pos = _body_positions_au(grid, reference)
-    au_light_d = (u.au / c).to("day").value
-    # cubic (Catmull-Rom) interpolation of each coordinate on the uniform grid
-    x = (jd - grid[0]) / _LTT_GRID_D
-    i = np.clip(np.floor(x).astype(int), 1, len(grid) - 3)
-    f = x - i
-    p0, p1, p2, p3 = pos[i - 1], pos[i], pos[i + 1], pos[i + 2]
-    ff = f[..., None]
-    r = p1 + 0.5 * ff * (p2 - p0 + ff * (2 * p0 - 5 * p1 + 4 * p2 - p3 + ff * (3 * (p1 - p2) + p3 - p0)))
-    return np.einsum("...k,...k->...", r, unit_vectors(ra, dec)) * au_light_d
+    track = _EarthTrack(np.nanmin(jd), np.nanmax(jd), reference)
+    return track.delay_d(jd, unit_vectors(ra, dec))
 
 
 def _utc_jd_to_tdb_jd(jd_utc):
@@ -82,10 +94,41 @@ def _utc_jd_to_tdb_jd(jd_utc):
     return t.jd1 + t.jd2
 
 
+#: Grid step (days) of the TDB - UTC offset used for bulk conversions; linear interpolation of the
+#: periodic TDB - TT term (1.7 ms annual amplitude) on it errs by < 1e-7 s.
+_OFFSET_GRID_D = 0.5
+
+
+def _tdb_jd_to_utc_jd(jd_tdb):
+    """UTC Julian dates (astropy's quasi-JD, leap seconds inside their day) for TDB Julian dates.
+
+    astropy converts the grid points; in between, the offset TDB - UTC is interpolated. Events in a
+    grid cell that holds a leap second (offset jump > 0.5 s) are converted by astropy one by one.
+    """
+    from astropy.time import Time
+
+    jd = np.asarray(jd_tdb, dtype=float)
+    if jd.size < 1000:
+        t = Time(jd, format="jd", scale="tdb").utc
+        return t.jd1 + t.jd2
+    lo, hi = np.nanmin(jd), np.nanmax(jd)
+    grid = lo + _OFFSET_GRID_D * np.arange(int(np.ceil((hi - lo) / _OFFSET_GRID_D)) + 2)
+    g = Time(grid, format="jd", scale="tdb").utc
+    offset = (grid - g.jd1) - g.jd2
+    out = jd - np.interp(jd, grid, offset)
+    cell = np.clip(((jd - lo) / _OFFSET_GRID_D).astype(np.int64), 0, len(grid) - 2)
+    jump = np.abs(np.diff(offset)) > 0.5 / 86400
+    exact = jump[cell]
+    if exact.any():
+        t = Time(jd[exact], format="jd", scale="tdb").utc
+        out[exact] = t.jd1 + t.jd2
+    return out
+
+
 def _tdb_jd_to_utc_time(jd_tdb):
     from astropy.time import Time
 
-    return Time(np.asarray(jd_tdb, dtype=float), format="jd", scale="tdb").utc
+    return Time(_tdb_jd_to_utc_jd(jd_tdb), format="jd", scale="utc")
 
 
 def to_bjd_tdb(jd, time_system, ra_deg, dec_deg):
@@ -117,10 +160,15 @@ def to_bjd_tdb(jd, time_system, ra_deg, dec_deg):
 
 def bjd_tdb_to_geocentric_tdb(bjd_tdb, ra_deg, dec_deg):
     """Geocentric TDB Julian date at which light from the barycentric event reaches the Earth."""
-    bjd = np.asarray(bjd_tdb, dtype=float)
+    bjd, ra, dec = np.broadcast_arrays(np.asarray(bjd_tdb, float), np.asarray(ra_deg, float),
+                                       np.asarray(dec_deg, float))
+    if bjd.size == 0:
+        return bjd.copy()
+    unit = unit_vectors(ra, dec)
+    track = _EarthTrack(np.nanmin(bjd) - 0.01, np.nanmax(bjd), "barycentre")
     geo = bjd.copy()
-    for _ in range(2):
-        geo = bjd - light_travel_time_d(geo, ra_deg, dec_deg)
+    for _ in range(2):  # the delay changes by < 1e-4 s/s: two steps converge to < 1e-8 s
+        geo = bjd - track.delay_d(geo, unit)
     return geo
 
 
@@ -129,17 +177,26 @@ def bjd_tdb_to_utc(bjd_tdb, ra_deg, dec_deg):
     return _tdb_jd_to_utc_time(bjd_tdb_to_geocentric_tdb(bjd_tdb, ra_deg, dec_deg))
 
 
+def _utc_seconds(t_utc) -> np.ndarray:
+    """datetime64[s] of astropy UTC times, rounded to the nearest second."""
+    unix = np.atleast_1d(np.asarray(t_utc.unix, dtype=float))
+    return np.round(unix).astype(np.int64).astype("datetime64[s]")
+
+
 def utc_to_iso_z(t_utc) -> np.ndarray:
     """ISO 8601 strings ``YYYY-MM-DDTHH:MM:SSZ`` (rounded to the second) for astropy UTC times."""
-    import pandas as pd
-
-    ts = pd.to_datetime(np.atleast_1d(t_utc.unix), unit="s", utc=True).round("s")
-    return np.asarray(ts.strftime("%Y-%m-%dT%H:%M:%SZ"))
+    return np.char.add(np.datetime_as_string(_utc_seconds(t_utc), unit="s"), "Z").astype(object)
 
 
 def utc_to_local_iso(t_utc, tz: str) -> np.ndarray:
     """Local clock times ``YYYY-MM-DDTHH:MM:SS+HH:MM`` in the IANA zone ``tz`` (zoneinfo rules)."""
     import pandas as pd
 
-    ts = pd.to_datetime(np.atleast_1d(t_utc.unix), unit="s", utc=True).round("s").tz_convert(tz)
-    return np.asarray([x.isoformat() for x in ts])
+    utc = _utc_seconds(t_utc)
+    local = pd.DatetimeIndex(utc).tz_localize("UTC").tz_convert(tz).tz_localize(None).to_numpy().astype("datetime64[s]")
+    offset_min = ((local - utc).astype(np.int64) // 60).astype(np.int64)
+    sign = np.where(offset_min < 0, "-", "+")
+    hh, mm = np.divmod(np.abs(offset_min), 60)
+    suffix = np.char.add(np.char.add(sign, np.char.zfill(hh.astype(str), 2)),
+                         np.char.add(":", np.char.zfill(mm.astype(str), 2)))
+    return np.char.add(np.datetime_as_string(local, unit="s"), suffix).astype(object)
