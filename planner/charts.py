@@ -1,7 +1,8 @@
 """Charts of the plan (PNG, matplotlib): the night's altitudes, the week's blocks, RV over phase.
 
 Each chart has a builder that returns a matplotlib ``Figure`` (``night_figure``, ``week_figure``,
-``rv_figure``; tests count its lines and patches) and a writer that saves it as PNG through
+``rv_figure``; every drawn element carries a ``gid`` naming what it shows: ``curve``, ``block``,
+``window``, ``event``, ``limit``, ``dark``, ``twilight``, ``planned``, so tests can count them) and a writer that saves it as PNG through
 :func:`planner.output.atomic_write` (``write_night_chart``, ``write_week_chart``,
 ``write_rv_chart``). Figures are made with the object-oriented API on an Agg canvas created inside
 each function: no pyplot, no global backend switch, nothing happens on import.
@@ -87,11 +88,12 @@ def _shade_night(ax, night, ref_jd, lo_h, hi_h, y0=None, y1=None, label=True):
     tw0 = sunset if np.isfinite(sunset) else lo_h
     tw1 = sunrise if np.isfinite(sunrise) else hi_h
     if np.isfinite(d0) and np.isfinite(d1):
-        span(tw0, d0, color=TWILIGHT_SHADE, alpha=0.18, lw=0, label="twilight" if label else None)
-        span(d1, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0)
-        span(d0, d1, color=DARK_SHADE, alpha=0.22, lw=0, label="astronomical darkness" if label else None)
+        span(tw0, d0, color=TWILIGHT_SHADE, alpha=0.18, lw=0, label="twilight" if label else None, gid="twilight")
+        span(d1, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0, gid="twilight")
+        span(d0, d1, color=DARK_SHADE, alpha=0.22, lw=0, label="astronomical darkness" if label else None, gid="dark")
     elif np.isfinite(sunset) or np.isfinite(sunrise):
-        span(tw0, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0, label="Sun down, no full darkness" if label else None)
+        span(tw0, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0, label="Sun down, no full darkness" if label else None,
+             gid="twilight")
 
 
 def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_alt_deg: float,
@@ -127,23 +129,24 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     _shade_night(ax, night, ref, lo_h, hi_h)
     colour = {nm: PALETTE[i % len(PALETTE)] for i, nm in enumerate(names)}
     for nm, a in zip(names, alt):
-        ax.plot(x, a, color=colour[nm], lw=1.2, label=str(nm))
-    ax.axhline(min_alt_deg, color="#333333", lw=1.0, ls="--", label=f"altitude limit {min_alt_deg:g} deg")
+        ax.plot(x, a, color=colour[nm], lw=1.2, label=str(nm), gid="curve")
+    ax.axhline(min_alt_deg, color="#333333", lw=1.0, ls="--", label=f"altitude limit {min_alt_deg:g} deg", gid="limit")
     for j, (_, b) in enumerate(blocks.iterrows()):
         c = colour.get(b["target"], "#000000")
         xs, xe = (b["start_jd_utc"] - ref) * 24, (b["end_jd_utc"] - ref) * 24
         inside = (x >= xs) & (x <= xe)
         row = names.index(b["target"]) if b["target"] in names else None
         if row is not None and inside.any():
-            ax.plot(x[inside], alt[row][inside], color=c, lw=4.5, alpha=0.8, solid_capstyle="butt")
+            ax.plot(x[inside], alt[row][inside], color=c, lw=4.5, alpha=0.8, solid_capstyle="butt", gid="block")
         if b["kind"] == "fixed" and np.isfinite(b["window_start_jd_utc"]):
             y = 3.0 + 3.5 * (j % 6)
             ws, we = (b["window_start_jd_utc"] - ref) * 24, (b["window_end_jd_utc"] - ref) * 24
-            ax.plot([ws, we], [y, y], color=c, lw=2.0, marker="|", markersize=10)
+            ax.plot([ws, we], [y, y], color=c, lw=2.0, marker="|", markersize=10, gid="window")
             if np.isfinite(b["event_jd_utc"]):
                 xe_ = (b["event_jd_utc"] - ref) * 24
-                ax.plot([xe_], [y], marker="D", color=c, markersize=6, ls="none")
-            ax.annotate(f"{b['target']} {b['label'] or b['event']}", (ws, y), xytext=(0, 3),
+                ax.plot([xe_], [y], marker="D", color=c, markersize=6, ls="none", gid="event")
+            what = b["label"] if isinstance(b["label"], str) and b["label"] else b["event"]
+            ax.annotate(f"{b['target']} {what}", (ws, y), xytext=(0, 3),
                         textcoords="offset points", fontsize=7, color=c)
     ax.set_ylim(0, 90)
     ax.set_xlim(lo_h, hi_h)
@@ -205,7 +208,7 @@ def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = N
             flexible = b["kind"] == "flexible"
             ax.broken_barh([(xs, xe - xs)], (y - 0.3, 0.6), facecolors=colour[str(b["target"])],
                            alpha=0.55 if flexible else 0.9, hatch="//" if flexible else None,
-                           edgecolor="white", lw=0.8)
+                           edgecolor="white", lw=0.8, gid="block")
             ax.text(0.5 * (xs + xe), y, str(b["target"]), ha="center", va="center", fontsize=7,
                     color="black" if flexible else "white", clip_on=True)
         if here.empty:
@@ -255,13 +258,13 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600):
     rv = orbit.radial_velocity(tp + phase * p, tp, p, e, w, k if known_k else 1.0, gamma)
     fig = _figure(8.0, 4.2)
     ax = fig.add_subplot()
-    ax.plot(phase, rv, color=PALETTE[0], lw=1.6, label="RV of the primary")
+    ax.plot(phase, rv, color=PALETTE[0], lw=1.6, label="RV of the primary", gid="curve")
     ph_events = orbit.event_phases(e, w)
     wanted = target.get("events", orbit.ORBIT_EVENTS) or orbit.ORBIT_EVENTS
     for i, name in enumerate(orbit.ORBIT_EVENTS):
         if name not in wanted:
             continue
-        ax.axvline(ph_events[i], color=PALETTE[1 + i % (len(PALETTE) - 1)], lw=1.0, ls=":")
+        ax.axvline(ph_events[i], color=PALETTE[1 + i % (len(PALETTE) - 1)], lw=1.0, ls=":", gid=f"event:{name}")
         ax.annotate(name.replace("_", " "), (ph_events[i], 1.0), xycoords=("data", "axes fraction"),
                     xytext=(2, -4), textcoords="offset points", rotation=90, va="top", fontsize=7)
     if len(blocks):
@@ -273,11 +276,12 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600):
             width = min((e_b - s_b) / p, 1.0)
             pieces = [(p0, min(p0 + width, 1.0))] + ([(0.0, p0 + width - 1.0)] if p0 + width > 1.0 else [])
             for a, z in pieces:
-                ax.axvspan(a, max(z, a + 0.002), color="#d08c00", alpha=0.35, lw=0)
+                ax.axvspan(a, max(z, a + 0.002), color="#d08c00", alpha=0.35, lw=0, gid="block")
             mid_bjd = 0.5 * (s_b + e_b)
             mid_ph = np.mod((mid_bjd - tp) / p, 1.0)
             mid_rv = orbit.radial_velocity(mid_bjd, tp, p, e, w, k if known_k else 1.0, gamma)
-            ax.plot([mid_ph], [mid_rv], marker="o", color="#d08c00", markeredgecolor="black", ls="none")
+            ax.plot([mid_ph], [mid_rv], marker="o", color="#d08c00", markeredgecolor="black", ls="none",
+                    gid="planned")
             ax.annotate(str(b["night"]), (p0, 0.02), xycoords=("data", "axes fraction"), fontsize=7,
                         rotation=90, va="bottom")
     ax.set_xlim(0.0, 1.0)

@@ -89,6 +89,13 @@ def reasons(block) -> list[str]:
     return out
 
 
+def _what(b) -> str:
+    """Name of what a block observes: the event's label, or "flexible visit"."""
+    if b["kind"] == "flexible":
+        return "flexible visit"
+    return b["label"] if isinstance(b.get("label"), str) and b.get("label") else str(b["event"])
+
+
 def _title(night, site_name):
     return f"Observing list, night of {night['night']}" + (f" - {site_name}" if site_name else "")
 
@@ -103,7 +110,7 @@ def _empty_message(night) -> str:
 
 
 def _block_lines(b, tz):
-    what = "flexible visit" if b["kind"] == "flexible" else (b["label"] or b["event"])
+    what = _what(b)
     when_utc = f"{_clock(b['start_jd_utc'])}-{_clock(b['end_jd_utc'])} UTC"
     when_local = f"{_clock(b['start_jd_utc'], tz)}-{_clock(b['end_jd_utc'], tz)} local" if tz else ""
     head = f"{when_local + '  (' + when_utc + ')' if tz else when_utc}  {b['target']}: {what}"
@@ -248,7 +255,7 @@ def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | No
             lines.append(f"{label}  {dark_text}  nothing scheduled")
             continue
         items = ", ".join(f"{_clock(b['start_jd_utc'], tz)} {b['target']} "
-                          f"{'visit' if b['kind'] == 'flexible' else (b['label'] or b['event'])}"
+                          f"{_what(b)}"
                           for _, b in here.iterrows())
         lines.append(f"{label}  {dark_text}  {len(here)} block{'s' if len(here) != 1 else ''}: {items}")
     n = len(schedule)
