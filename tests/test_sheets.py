@@ -1,0 +1,139 @@
+"""Nightly lists, schedule CSV and terminal summary: caution, times, order, escaping, empty nights.
+
+References: astropy Time (Julian date -> UTC clock time), the IANA time-zone database through
+Python's zoneinfo (UTC -> local clock time), the HTML rules for escaping ``<``, ``>`` and ``&``
+(WHATWG HTML, "Serializing HTML fragments", escapingString) as implemented by ``html.escape``.
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+import html
+import re
+from zoneinfo import ZoneInfo
+
+import numpy as np
+import pandas as pd
+
+from planner import schedule, sheets
+
+J0 = 2461382.0  # 2026-12-07 12:00 UTC
+TZ = "Europe/Madrid"
+NIGHT = pd.Series({"night": "2026-12-07", "sunset_jd_utc": J0 + 0.2013, "dark_start_jd_utc": J0 + 0.2637,
+                   "dark_end_jd_utc": J0 + 0.7391, "sunrise_jd_utc": J0 + 0.8012, "moon_illumination": 0.43})
+NO_DARK = pd.Series({"night": "2026-12-08", "sunset_jd_utc": J0 + 1.2, "dark_start_jd_utc": np.nan,
+                     "dark_end_jd_utc": np.nan, "sunrise_jd_utc": J0 + 1.8, "moon_illumination": 0.5})
+
+
+def block(s, e, target, event="periastron", kind="fixed", night="2026-12-07", **extra):
+    row = {c: np.nan for c in schedule.SCHEDULE_COLUMNS}
+    row.update(night=night, start_jd_utc=J0 + s, end_jd_utc=J0 + e, target=target, target_index=0,
+               event=event, label=event if kind == "fixed" else "flexible visit", kind=kind,
+               event_jd_utc=J0 + 0.5 * (s + e) if kind == "fixed" else np.nan,
+               event_sigma_d=3.0 / 1440 if kind == "fixed" else np.nan,
+               window_start_jd_utc=J0 + s - 0.01 if kind == "fixed" else np.nan,
+               window_end_jd_utc=J0 + e + 0.01 if kind == "fixed" else np.nan,
+               observable_fraction=0.9 if kind == "fixed" else np.nan, priority=5.0,
+               period_d=111.4 if kind == "fixed" else np.nan, alt_start_deg=40.0, alt_mid_deg=55.0,
+               alt_end_deg=48.0, airmass=1.3, moon_sep_deg=70.0, moon_illumination=0.43,
+               pts_priority=50.0, pts_rarity=18.4, pts_coverage=18.0, pts_airmass=8.5, pts_moon=10.0,
+               pts_timing=9.0, score=113.9, notes="partial: 90% of the event window is observable")
+    row.update(extra)
+    return row
+
+
+def blocks_shuffled():
+    rows = [block(0.55, 0.60, "Late one", event="rv_max"), block(0.30, 0.40, "Early one"),
+            block(0.45, 0.50, "Middle one", event="visit", kind="flexible")]
+    return pd.DataFrame(rows)[list(schedule.SCHEDULE_COLUMNS)]
+
+
+def utc_clock(jd):
+    from astropy.time import Time
+
+    t = Time(jd, format="jd", scale="utc").to_datetime(timezone=dt.timezone.utc)
+    return (t + dt.timedelta(seconds=0.5)).replace(microsecond=0)
+
+
+def test_caution_on_every_list_including_empty_ones():
+    for night, blocks in ((NIGHT, blocks_shuffled()), (NO_DARK, blocks_shuffled().iloc[:0])):
+        for text in (sheets.night_sheet_text(night, blocks, TZ), sheets.night_sheet_html(night, blocks, TZ)):
+            plain = html.unescape(text)
+            assert "Never point the telescope at or near the Sun" in plain
+            assert "the observatory's own safety rules and local regulations come first" in plain.lower()
+            assert plain.count("Never point the telescope") == 2  # at the top and at the bottom
+
+
+def test_sky_times_in_utc_and_local():
+    text = sheets.night_sheet_text(NIGHT, blocks_shuffled(), TZ)
+    for col, name in sheets.SKY_ROWS:
+        utc = utc_clock(NIGHT[col])
+        local = utc.astimezone(ZoneInfo(TZ))
+        line = next(ln for ln in text.splitlines() if ln.startswith(name))
+        assert line.split()[-2:] == [utc.strftime("%H:%M"), local.strftime("%H:%M")]
+    assert "Moon: 43% illuminated" in text
+
+
+def test_blocks_are_listed_in_time_order_with_what_and_why():
+    text = sheets.night_sheet_text(NIGHT, blocks_shuffled(), TZ)
+    heads = [ln for ln in text.splitlines() if re.match(r"^\d+\. ", ln)]
+    assert [h.split()[0] for h in heads] == ["1.", "2.", "3."]
+    assert ["Early one" in heads[0], "Middle one" in heads[1], "Late one" in heads[2]] == [True] * 3
+    starts = [re.search(r"\((\d\d:\d\d)-", h).group(1) for h in heads]
+    expect = [utc_clock(J0 + s).strftime("%H:%M") for s in (0.30, 0.45, 0.55)]
+    assert starts == expect
+    local0 = utc_clock(J0 + 0.30).astimezone(ZoneInfo(TZ)).strftime("%H:%M")
+    assert heads[0].startswith(f"1. {local0}-")
+    assert "Do: cover the periastron passage" in text
+    assert "Why: score 113.9 = priority 5 (50.0) + event recurs every 111.4 d (18.4)" in text
+    assert "timing +-3.0 min (1 sigma)" in text
+    assert "Notes: partial: 90% of the event window is observable." in text
+    assert "one visit" in text  # the flexible block's action
+
+
+def test_html_escapes_names_and_notes_and_has_print_styling():
+    evil = "<Tgt & Co> \"b\""
+    blocks = pd.DataFrame([block(0.3, 0.4, evil, notes="alt < 30 & <script>")])[list(schedule.SCHEDULE_COLUMNS)]
+    page = sheets.night_sheet_html(NIGHT, blocks, TZ, site_name="Obs <1>")
+    assert evil not in page and "<script>" not in page and "Obs <1>" not in page
+    assert "&lt;Tgt &amp; Co&gt; &quot;b&quot;" in page
+    assert "alt &lt; 30 &amp; &lt;script&gt;" in page
+    assert "@media print" in page and "<!DOCTYPE html>" in page
+
+
+def test_empty_nights_say_why():
+    none = blocks_shuffled().iloc[:0]
+    assert "No astronomical darkness this night" in sheets.night_sheet_text(NO_DARK, none, TZ)
+    assert "Nothing scheduled" in sheets.night_sheet_text(NIGHT, none, TZ)
+    assert "Nothing scheduled" in sheets.night_sheet_html(NIGHT, none, TZ)
+    nights = pd.DataFrame([NIGHT, NO_DARK])
+    summary = sheets.week_summary_text(none, nights, TZ)
+    assert "2026-12-08  no darkness  nothing scheduled" in summary
+    assert "Nothing could be scheduled this week" in summary
+
+
+def test_writers_produce_one_text_and_one_html_per_night_and_the_csv(tmp_path):
+    nights = pd.DataFrame([NIGHT, NO_DARK])
+    plan = blocks_shuffled()
+    paths = sheets.write_night_sheets(tmp_path, plan, nights, TZ, "Test site")
+    names = sorted(p.rsplit("/", 1)[-1] for p in paths)
+    assert names == ["night-2026-12-07.html", "night-2026-12-07.txt", "night-2026-12-08.html", "night-2026-12-08.txt"]
+    csv_path = sheets.write_schedule_csv(tmp_path / "schedule.csv", plan, TZ)
+    back = pd.read_csv(csv_path, keep_default_na=False)
+    for col in ("night", "start_utc", "end_utc", "start_local", "end_local", "target", "event", "event_utc",
+                "score", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg", "notes"):
+        assert col in back.columns
+    assert len(back) == 3
+    first = back.iloc[0]
+    start = utc_clock(J0 + 0.55)
+    assert first["start_utc"] == start.strftime("%Y-%m-%dT%H:%M:%SZ")
+    assert first["start_local"] == start.astimezone(ZoneInfo(TZ)).isoformat()
+    assert not [p for p in tmp_path.iterdir() if p.name.startswith(".periplan-")]  # no temporary left
+
+
+def test_summary_lists_each_night_in_order():
+    nights = pd.DataFrame([NIGHT, NO_DARK])
+    summary = sheets.week_summary_text(blocks_shuffled(), nights, TZ).splitlines()
+    assert summary[0].startswith("2026-12-07") and "3 blocks" in summary[0]
+    assert summary[0].index("Early one") < summary[0].index("Middle one") < summary[0].index("Late one")
+    assert summary[-1].startswith("3 blocks, 3 targets, 2 nights")
