@@ -1,0 +1,88 @@
+"""Malformed inputs: each gives one clear line per problem naming file, row and column, exit 2,
+no traceback, and nothing on stdout. The corpus lives in tests/data/bad_*/."""
+
+import subprocess
+import sys
+
+import pytest
+
+from conftest import REPO
+from planner import cli
+
+BAD_CATALOGUES = REPO / "tests" / "data" / "bad_catalogues"
+
+#: file -> (row, column, what the message must say); row/column None where the file has none.
+CATALOGUE_EXPECTED = {
+    "empty.csv": (None, None, "empty catalogue; expected a header row"),
+    "only_comments.csv": (None, None, "empty catalogue"),
+    "binary_junk.csv": (None, None, "not a text file"),
+    "latin1_text.csv": (None, None, "not UTF-8 text"),
+    "missing_name_column.csv": (1, "name", "missing required column 'name'"),
+    "missing_epoch_column.csv": (1, "tp", "missing epoch column"),
+    "missing_period_column.csv": (1, "period_d", "missing column 'period_d'"),
+    "unknown_column.csv": (1, "perod_d", "did you mean 'period_d'?"),
+    "duplicate_header_column.csv": (1, "e", "appears twice in the header"),
+    "eccentricity_one.csv": (3, "e", "1 is not a bound orbit; eccentricity must satisfy 0 <= e < 1"),
+    "eccentricity_negative.csv": (2, "e", "-0.2 is not a bound orbit"),
+    "period_negative.csv": (2, "period_d", "-3.5 must be positive"),
+    "period_zero.csv": (2, "period_d", "0 must be positive"),
+    "period_text.csv": (2, "period_d", "'three' is not a number"),
+    "period_nan.csv": (2, "period_d", "'nan' is not a number"),
+    "swapped_ra_dec.csv": (2, "dec", "200.1 is outside -90..+90 deg"),
+    "ra_out_of_range.csv": (2, "ra", "400 is outside 0 <= ra < 360 deg"),
+    "ra_sexagesimal_typo.csv": (2, "ra", "'12:7x:00' is not a right ascension"),
+    "ra_minutes_sixty.csv": (2, "ra", "minutes and seconds must be below 60"),
+    "ra_hours_signed.csv": (2, "ra", "a right ascension in hours has no sign"),
+    "dec_beyond_pole.csv": (2, "dec", "+95:00:00 is outside -90..+90 deg"),
+    "dec_text.csv": (2, "dec", "'north' is not a declination"),
+    "unknown_time_system.csv": (2, "time_system", "unknown time system 'BJD_UTC'; expected one of"),
+    "reduced_jd_no_offset.csv": (2, "tc", "looks like a reduced Julian date; give the offset in column time_offset_d"),
+    "implausible_epoch_after_offset.csv": (2, "tc", "is not a plausible Julian date"),
+    "duplicate_names.csv": (3, "name", "duplicate target name 'Good-1' (first at row 2)"),
+    "missing_omega.csv": (2, "omega_deg", "required when e > 0"),
+    "missing_epoch_value.csv": (2, "tc", "missing epoch"),
+    "two_epochs.csv": (2, "tc", "give exactly one"),
+    "unknown_event.csv": (2, "events", "unknown event 'transit'"),
+    "too_many_fields.csv": (2, None, "8 fields but the header has 7"),
+    "negative_uncertainty.csv": (2, "period_err_d", "must not be negative"),
+    "omega_of_unknown.csv": (2, "omega_of", "expected 'primary' or 'companion'"),
+    "priority_zero.csv": (2, "priority", "0 must be positive"),
+    "a_rstar_inside_star.csv": (2, "a_rstar", "a/R* must exceed 1"),
+    "inclination_and_impact.csv": (2, "b", "give either inc_deg or b, not both"),
+    "empty_name.csv": (2, "name", "empty target name"),
+    "tp_on_linear_ephemeris.csv": (2, "tp", "needs e and omega_deg"),
+}
+
+
+def test_corpus_is_complete():
+    on_disk = {p.name for p in BAD_CATALOGUES.iterdir()}
+    assert on_disk == set(CATALOGUE_EXPECTED)
+    assert len(on_disk) >= 30
+
+
+@pytest.mark.parametrize("name", sorted(CATALOGUE_EXPECTED))
+def test_bad_catalogue(name, capsys):
+    row, column, text = CATALOGUE_EXPECTED[name]
+    code = cli.main(["events", str(BAD_CATALOGUES / name), "--start", "2026-12-07", "--days", "3"])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == ""
+    lines = err.strip().splitlines()
+    prefix = f"periplan: error: {name}"
+    assert all(line.startswith(prefix) for line in lines)
+    where = prefix + (f", row {row}" if row else "") + (f", column {column}" if column else "") + ":"
+    hits = [line for line in lines if line.startswith(where) and text in line]
+    assert hits, f"expected a line starting {where!r} containing {text!r}; got {lines}"
+
+
+def test_every_bad_row_in_one_run(tmp_path):
+    # one file, many problems: all reported, in file order, by a real process without traceback
+    text = "name,ra,dec,period_d,e,omega_deg,tc\n" + "".join(
+        f"T{i},10,20,{-i},0.1,45,2460000.5\n" for i in range(1, 41))
+    path = tmp_path / "many.csv"
+    path.write_text(text)
+    proc = subprocess.run([sys.executable, "-m", "planner", "events", str(path), "--start", "2026-12-07"],
+                          capture_output=True, text=True, cwd=REPO)
+    assert proc.returncode == 2 and "Traceback" not in proc.stderr
+    lines = proc.stderr.strip().splitlines()
+    assert len(lines) == 40
+    assert [int(ln.split("row ")[1].split(",")[0]) for ln in lines] == list(range(2, 42))
