@@ -2,9 +2,9 @@
 
 Each chart has a builder that returns a matplotlib ``Figure`` (``night_figure``, ``week_figure``,
 ``rv_figure``; every drawn element carries a ``gid`` naming what it shows: ``curve``, ``block``,
-``window``, ``event``, ``limit``, ``dark``, ``twilight``, ``planned``, so tests can count them) and a writer that saves it as PNG through
-:func:`planner.output.atomic_write` (``write_night_chart``, ``write_week_chart``,
-``write_rv_chart``). Figures are made with the object-oriented API on an Agg canvas created inside
+``window``, ``event``, ``limit``, ``moon``, ``dark``, ``twilight``, ``planned``, so tests can count
+them) and a writer that saves it as PNG through :func:`planner.output.atomic_write`
+(``write_night_chart``, ``write_week_chart``, ``write_rv_chart``). Figures are made with the object-oriented API on an Agg canvas created inside
 each function: no pyplot, no global backend switch, nothing happens on import.
 
 Charts do no astronomy: altitude curves, night edges and the schedule come in as arrays and
@@ -97,7 +97,7 @@ def _shade_night(ax, night, ref_jd, lo_h, hi_h, y0=None, y1=None, label=True):
 
 
 def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_alt_deg: float,
-                 tz: str | None = None, title: str | None = None):
+                 tz: str | None = None, title: str | None = None, moon_alt_deg=None):
     """Altitude against time for the night's scheduled targets: a matplotlib Figure.
 
     Parameters
@@ -109,11 +109,13 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     blocks : the schedule rows of this night
     min_alt_deg : the site's minimum altitude, drawn as a dashed line
     tz : IANA zone; local clock hours on the top axis
+    moon_alt_deg : optional (m,) altitude of the Moon at the same times, drawn grey and dotted
 
     Drawn: dark time and twilight shaded, one curve per target (thin), the scheduled block on it
     (thick), each fixed block's event window as a bracket with the event time as a diamond, the
-    altitude limit; the right axis gives airmass (Young 1994, as the visibility engine). Lines: k curves + one per block + one per event
-    window + the limit.
+    altitude limit, the Moon when given; the right axis gives airmass (Young 1994, as the
+    visibility engine). Lines: k curves + one per block + one per event window + one per event
+    time + the limit (+ the Moon).
     """
     from .visibility import altitude_for_airmass_deg
 
@@ -131,6 +133,11 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     for nm, a in zip(names, alt):
         ax.plot(x, a, color=colour[nm], lw=1.2, label=str(nm), gid="curve")
     ax.axhline(min_alt_deg, color="#333333", lw=1.0, ls="--", label=f"altitude limit {min_alt_deg:g} deg", gid="limit")
+    if moon_alt_deg is not None:
+        lit = night["moon_illumination"] if "moon_illumination" in night else np.nan
+        lit_text = f", {100 * float(lit):.0f}% lit" if np.isfinite(lit) else ""
+        ax.plot(x, np.asarray(moon_alt_deg, dtype=float), color="#8c8c8c", lw=1.4, ls=":",
+                label=f"Moon{lit_text}", gid="moon")
     for j, (_, b) in enumerate(blocks.iterrows()):
         c = colour.get(b["target"], "#000000")
         xs, xe = (b["start_jd_utc"] - ref) * 24, (b["end_jd_utc"] - ref) * 24
@@ -171,9 +178,11 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     return fig
 
 
-def write_night_chart(path, night, times_jd_utc, alt_deg, names, blocks, min_alt_deg, tz=None, title=None):
+def write_night_chart(path, night, times_jd_utc, alt_deg, names, blocks, min_alt_deg, tz=None, title=None,
+                      moon_alt_deg=None):
     """PNG of :func:`night_figure` at ``path`` (atomic); returns ``path``."""
-    return save_png(night_figure(night, times_jd_utc, alt_deg, names, blocks, min_alt_deg, tz, title), path)
+    return save_png(night_figure(night, times_jd_utc, alt_deg, names, blocks, min_alt_deg, tz, title,
+                                 moon_alt_deg), path)
 
 
 def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None, title: str | None = None):

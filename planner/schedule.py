@@ -75,11 +75,14 @@ class ScheduleOptions:
     ``min_block_min``: fixed candidates with a shorter observable stretch are dropped.
     ``twilight_margin_min``: a block starting or ending this close to the edges of astronomical
     darkness gets a note. ``flex_step_min``: step of the search for a flexible visit's start.
-    ``weights``: the score weights.
+    ``event_inside_only``: keep only fixed blocks that contain the predicted event moment (a
+    block that catches only the baseline or a wing of a long window is dropped); set False to
+    schedule partial windows whatever they hold. ``weights``: the score weights.
     """
 
     overhead_min: float = 10.0
     repeats: str = "every"
+    event_inside_only: bool = True
     min_block_min: float = 10.0
     twilight_margin_min: float = 30.0
     flex_step_min: float = 5.0
@@ -161,9 +164,45 @@ def _altitudes(altitude_deg, target_index, times):
     return alt
 
 
+def night_index(jd_utc, nights: pd.DataFrame) -> np.ndarray:
+    """Row of ``nights`` (int array, -1 when none) whose night holds each UTC Julian date.
+
+    A night runs from ``noon_jd_utc`` to ``next_noon_jd_utc`` when the table has them (the
+    night engine's windows); otherwise from 12 h before to 12 h after the middle of sunset and
+    sunrise (or of the dark interval, or of the label date's following midnight UTC).
+    """
+    jd = np.atleast_1d(np.asarray(jd_utc, dtype=float))
+    if len(nights) == 0:
+        return np.full(jd.shape, -1)
+    if "noon_jd_utc" in nights and "next_noon_jd_utc" in nights:
+        lo = nights["noon_jd_utc"].to_numpy(float)
+        hi = nights["next_noon_jd_utc"].to_numpy(float)
+    else:
+        mid = 0.5 * (nights["sunset_jd_utc"].to_numpy(float) + nights["sunrise_jd_utc"].to_numpy(float))
+        dark_mid = 0.5 * (nights["dark_start_jd_utc"].to_numpy(float) + nights["dark_end_jd_utc"].to_numpy(float))
+        label_mid = np.array([_label_midnight_jd_utc(x) for x in nights["night"].astype(str)])
+        mid = np.where(np.isfinite(mid), mid, np.where(np.isfinite(dark_mid), dark_mid, label_mid))
+        lo, hi = mid - 0.5, mid + 0.5
+    inside = (jd[:, None] >= lo[None, :]) & (jd[:, None] < hi[None, :])
+    return np.where(inside.any(axis=1), np.argmax(inside, axis=1), -1)
+
+
+def _label_midnight_jd_utc(label: str) -> float:
+    """JD (UTC) of 00:00 UTC on the day after the date ``label``; NaN when it is not a date."""
+    import datetime as dt
+
+    try:
+        return dt.date.fromisoformat(label).toordinal() + 1721425.5
+    except ValueError:
+        return np.nan
+
+
 def _event_jd_utc(visible, targets):
+    """UTC Julian date at which each event is seen: the table's ``jd_utc`` or computed from BJD_TDB."""
     if visible.empty:
         return np.zeros(0)
+    if "jd_utc" in visible:
+        return visible["jd_utc"].to_numpy(float)
     from .timescales import bjd_tdb_to_utc
 
     idx = visible["target_index"].to_numpy(int)
@@ -182,8 +221,11 @@ def fixed_candidates(visible: pd.DataFrame, targets: pd.DataFrame, altitude_deg=
     optional function ``f(target_index, jd_utc) -> alt_deg`` (integer and float arrays of the same
     shape, result that shape); with it the airmass is the mean through the block, without it the
     table's ``alt_deg`` (when present) stands for the whole block. ``event_jd_utc`` is the moment
-    the event is seen from the Earth (BJD_TDB minus light travel time, TDB -> UTC). A block whose
-    airmass is unknown earns no airmass points.
+    the event is seen from the Earth (the table's ``jd_utc`` when present, else BJD_TDB minus
+    light travel time, TDB -> UTC). With ``options.event_inside_only`` (default) blocks that do not
+    contain that moment are dropped. A block whose airmass is unknown earns no airmass points.
+    ``night`` is the table's label; :func:`plan_week` re-assigns each block to the night that holds
+    its middle (:func:`night_index`).
     """
     return _fixed_candidates(visible, targets, altitude_deg, options)[0]
 
@@ -197,8 +239,13 @@ def _fixed_candidates(visible, targets, altitude_deg, options):
     start = v["observable_start_jd_utc"].to_numpy(float)
     end = v["observable_end_jd_utc"].to_numpy(float)
     with np.errstate(invalid="ignore"):
-        keep = np.isfinite(start) & np.isfinite(end) & ((end - start) * _MIN_PER_DAY >= max(options.min_block_min, 1e-6))
+        long_enough = (end - start) * _MIN_PER_DAY >= max(options.min_block_min, 1e-6)
+        keep = np.isfinite(start) & np.isfinite(end) & long_enough
     v, start, end = v[keep].reset_index(drop=True), start[keep], end[keep]
+    event_jd = _event_jd_utc(v, targets)
+    if options.event_inside_only:
+        inside = (event_jd >= start) & (event_jd <= end)
+        v, start, end, event_jd = v[inside].reset_index(drop=True), start[inside], end[inside], event_jd[inside]
     n = len(v)
     idx = v["target_index"].to_numpy(int)
     times = _sample_times(start, end)
@@ -217,7 +264,7 @@ def _fixed_candidates(visible, targets, altitude_deg, options):
         "night": v["night"].astype(str).to_numpy(object), "start_jd_utc": start, "end_jd_utc": end,
         "target": v["target"].to_numpy(object), "target_index": idx.astype(np.int64),
         "event": v["event"].to_numpy(object), "label": v["label"].to_numpy(object),
-        "kind": np.full(n, FIXED, dtype=object), "event_jd_utc": _event_jd_utc(v, targets),
+        "kind": np.full(n, FIXED, dtype=object), "event_jd_utc": event_jd,
         "event_sigma_d": v["sigma_d"].to_numpy(float),
         "window_start_jd_utc": v["window_start_jd_utc"].to_numpy(float),
         "window_end_jd_utc": v["window_end_jd_utc"].to_numpy(float),
@@ -454,6 +501,10 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
         _require(availability, AVAILABILITY_COLUMNS, "flexible availability")
     order = list(nights["night"].astype(str))
     cands, alt_fixed = _fixed_candidates(visible, targets, altitude_deg, options)
+    # a long window (large timing uncertainty) can have its observable stretch on a night other
+    # than the event's: a block belongs to the night that holds its middle, so nights never overlap
+    held = night_index(0.5 * (cands["start_jd_utc"] + cands["end_jd_utc"]).to_numpy(float), nights)
+    cands["night"] = np.where(held >= 0, np.asarray(order + [""], dtype=object)[held], "")
     in_week = cands["night"].isin(order).to_numpy()
     cands, alt_fixed = cands[in_week].reset_index(drop=True), alt_fixed[in_week]
     mask = _choose_fixed(cands, order, options.overhead_min / _MIN_PER_DAY, options.repeats)

@@ -71,6 +71,10 @@ def test_night_chart_png_and_artists(tmp_path):
     bx = by_gid(lines, "block")[0].get_xdata()
     step_h = (t[1] - t[0]) * 24
     assert abs(bx.min() - (0.30 + 0.5) * 24) <= step_h and abs(bx.max() - (0.42 + 0.5) * 24) <= step_h
+    assert by_gid(lines, "moon") == []
+    with_moon = charts.night_figure(NIGHT, t, alt, names, blocks, 30.0, moon_alt_deg=np.linspace(-10, 40, t.size))
+    moon = by_gid(with_moon.axes[0].get_lines(), "moon")
+    assert len(moon) == 1 and moon[0].get_label() == "Moon, 40% lit"
     path = charts.write_night_chart(tmp_path / "night.png", NIGHT, t, alt, names, blocks, 30.0, tz="Europe/Madrid")
     (w, h), size = png_size(path)
     assert (w, h) == (int(10.0 * charts.DPI), int(5.2 * charts.DPI))

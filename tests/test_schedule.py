@@ -363,3 +363,26 @@ def test_display_frame_times_match_astropy(targets):
     # Madrid is UTC+1 in December (IANA tz database, zone Europe/Madrid, CET)
     assert shown["start_local"].iloc[0].endswith("+01:00")
     assert shown["start_local"].iloc[0][11:13] == f"{(int(expect[11:13]) + 1) % 24:02d}"
+
+
+def test_blocks_without_the_event_moment_are_dropped_unless_asked(targets):
+    # the observable stretch ends 1 h before the event: only the baseline would be observed
+    row = visible_row("Alpha", 0, 0, 0.30, 0.40)
+    row["bjd_tdb"] = J0 + 0.45
+    visible = pd.DataFrame([row])
+    assert schedule.plan_week(visible, None, targets, nights_table(), altitude).empty
+    kept = schedule.plan_week(visible, None, targets, nights_table(), altitude,
+                              options=schedule.ScheduleOptions(event_inside_only=False))
+    assert len(kept) == 1 and "the event time itself lies outside the block" in kept["notes"].iloc[0]
+
+
+def test_block_belongs_to_the_night_that_holds_it(targets):
+    # A wide window labelled with night 1 (its event's night) whose observable stretch lies in
+    # night 0: the block goes to night 0 and competes there, so nights never overlap.
+    wide = visible_row("Alpha", 0, 0, 0.30, 0.45)
+    wide["night"] = NIGHT_LABELS[1]
+    other = visible_row("Beta", 1, 0, 0.40, 0.50, event="rv_max")
+    plan = schedule.plan_week(pd.DataFrame([wide, other]), None, targets, nights_table(), altitude)
+    assert set(plan["night"]) == {NIGHT_LABELS[0]}
+    assert len(plan) == 1  # the two overlap, only one fits
+    assert list(schedule.night_index([J0 + 0.3, J0 + 1.3, J0 + 2.9, J0 + 5.0], nights_table())) == [0, 1, 2, -1]
