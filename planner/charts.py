@@ -4,8 +4,9 @@ Each chart has a builder that returns a matplotlib ``Figure`` (``night_figure``,
 ``rv_figure``; every drawn element carries a ``gid`` naming what it shows: ``curve``, ``block``,
 ``window``, ``event``, ``limit``, ``moon``, ``dark``, ``twilight``, ``planned``, so tests can count
 them) and a writer that saves it as PNG through :func:`planner.output.atomic_write`
-(``write_night_chart``, ``write_week_chart``, ``write_rv_chart``). Figures are made with the object-oriented API on an Agg canvas created inside
-each function: no pyplot, no global backend switch, nothing happens on import.
+(``write_night_chart``, ``write_week_chart``, ``write_rv_chart``). Figures are made with the
+object-oriented API on an Agg canvas created inside each function: no pyplot, no global backend
+switch, nothing happens on import.
 
 Charts do no astronomy: altitude curves, night edges and the schedule come in as arrays and
 tables (Julian dates in UTC). The RV chart evaluates the orbit (:func:`planner.orbit.radial_velocity`,
