@@ -63,7 +63,8 @@ def run(args) -> int:
     site_opts = [name for name, v in (("--visible", args.visible), ("--baseline-h", args.baseline_h),
                                       ("--k-sigma", args.k_sigma)) if v is not None]
     if site_opts and not args.site:
-        raise PeriplanError(f"{', '.join(site_opts)} need --site SITE (a site file)")
+        raise PeriplanError(f"{', '.join(site_opts)} {'needs' if len(site_opts) == 1 else 'need'} "
+                            "--site SITE (a site file)")
     if args.visible is not None and not 0.0 <= args.visible <= 1.0:
         raise PeriplanError(f"--visible must be a fraction between 0 and 1; got {args.visible:g}")
     for name, v in (("--baseline-h", args.baseline_h), ("--k-sigma", args.k_sigma)):
