@@ -386,3 +386,17 @@ def test_block_belongs_to_the_night_that_holds_it(targets):
     assert set(plan["night"]) == {NIGHT_LABELS[0]}
     assert len(plan) == 1  # the two overlap, only one fits
     assert list(schedule.night_index([J0 + 0.3, J0 + 1.3, J0 + 2.9, J0 + 5.0], nights_table())) == [0, 1, 2, -1]
+
+
+def test_flexible_gap_goes_to_the_higher_score_and_uses_the_moon_function(targets):
+    # One 1.2-h stretch: Gamma (priority 2, 1 h) and Delta (priority 1, 0.5 h) cannot both fit
+    # with the 10-min overhead (1.67 h); greedy by score places Gamma.
+    availability = pd.concat([availability_rows(2, "Gamma", nights=(0,), start=0.30, end=0.35),
+                              availability_rows(3, "Delta", nights=(0,), start=0.30, end=0.35)], ignore_index=True)
+    plan = schedule.plan_week(visible_frame_empty(), availability, targets, nights_table(), altitude)
+    assert list(plan["target"]) == ["Gamma"]
+    # a Moon 6 deg away at 40 per cent illumination: moon term 1 - 0.4 (1 - 6/60) = 0.64
+    near_moon = schedule.plan_week(visible_frame_empty(), availability, targets, nights_table(), altitude,
+                                   moon_sep_deg=lambda ti, jd: np.full(np.shape(jd), 6.0))
+    assert abs(near_moon["moon_sep_deg"].iloc[0] - 6.0) <= 1e-12
+    assert abs(near_moon["pts_moon"].iloc[0] - 10.0 * (1 - 0.4 * (1 - 6.0 / 60.0))) <= SCORE_TOL_PTS
