@@ -96,6 +96,21 @@ def _what(b) -> str:
     return b["label"] if isinstance(b.get("label"), str) and b.get("label") else str(b["event"])
 
 
+def _moon_text(night, tz=None) -> str:
+    """The Moon in one line: illumination, and rise/set and hours up in the dark when known."""
+    lit = night["moon_illumination"]
+    parts = [f"{100 * lit:.0f}% illuminated" if np.isfinite(lit) else "illumination not known"]
+    zone = " local" if tz else " UTC"
+    for col, word in (("moon_rise_jd_utc", "rises"), ("moon_set_jd_utc", "sets")):
+        v = night.get(col, np.nan)
+        if v is not None and np.isfinite(v):
+            parts.append(f"{word} {_clock(v, tz)}{zone}")
+    up = night.get("moon_up_dark_h", np.nan)
+    if up is not None and np.isfinite(up):
+        parts.append(f"up for {up:.1f} h of the dark time")
+    return ", ".join(parts)
+
+
 def _title(night, site_name):
     return f"Observing list, night of {night['night']}" + (f" - {site_name}" if site_name else "")
 
@@ -135,8 +150,7 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
     lines.append(f"{'Sky':32s}{'UTC':>7s}" + (f"   local ({tz})" if tz else ""))
     for col, name in SKY_ROWS:
         lines.append(f"{name:32s}{_clock(night[col]):>7s}" + (f"   {_clock(night[col], tz)}" if tz else ""))
-    lit = night["moon_illumination"]
-    lines.append(f"Moon: {100 * lit:.0f}% illuminated" if np.isfinite(lit) else "Moon: illumination not known")
+    lines.append(f"Moon: {_moon_text(night, tz)}")
     lines.append("")
     blocks = blocks.sort_values("start_jd_utc", kind="stable")
     if blocks.empty:
@@ -188,9 +202,7 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
     for col, name in SKY_ROWS:
         local = f"<td>{e(_clock(night[col], tz))}</td>" if tz else ""
         out.append(f"<tr><td>{e(name)}</td><td>{e(_clock(night[col]))}</td>{local}</tr>")
-    lit = night["moon_illumination"]
-    moon = f"{100 * lit:.0f}% illuminated" if np.isfinite(lit) else "illumination not known"
-    out.append(f"<tr><td>Moon</td><td colspan=\"{2 if tz else 1}\">{e(moon)}</td></tr>")
+    out.append(f"<tr><td>Moon</td><td colspan=\"{2 if tz else 1}\">{e(_moon_text(night, tz))}</td></tr>")
     out.append("</table>")
     blocks = blocks.sort_values("start_jd_utc", kind="stable")
     if blocks.empty:

@@ -72,6 +72,11 @@ def test_sky_times_in_utc_and_local():
         line = next(ln for ln in text.splitlines() if ln.startswith(name))
         assert line.split()[-2:] == [utc.strftime("%H:%M"), local.strftime("%H:%M")]
     assert "Moon: 43% illuminated" in text
+    with_moon = NIGHT.copy()
+    with_moon["moon_rise_jd_utc"], with_moon["moon_set_jd_utc"], with_moon["moon_up_dark_h"] = J0 + 0.55, np.nan, 4.4
+    rise = utc_clock(J0 + 0.55).astimezone(ZoneInfo(TZ)).strftime("%H:%M")
+    assert f"Moon: 43% illuminated, rises {rise} local, up for 4.4 h of the dark time" in \
+        sheets.night_sheet_text(with_moon, blocks_shuffled(), TZ)
 
 
 def test_blocks_are_listed_in_time_order_with_what_and_why():
