@@ -1,19 +1,17 @@
 """Keep astropy from reaching the network: Earth-orientation data come from astropy-iers-data.
 
 Called by the engine entry points that need Earth orientation (never on import). Beyond the
-range of the bundled tables astropy extrapolates; we let it, with one warning of our own per
-process, because a planner for dates decades ahead still wants an answer good to a second or so
-of UT1 (see DEVELOPERS.md, "Offline").
+range of the bundled tables astropy extrapolates; we let it, and the command line folds its many
+warnings into the one of :data:`FAR_FUTURE_MESSAGE`, because a planner for dates decades ahead
+still wants an answer good to a second or so.
 """
 
 from __future__ import annotations
 
-import logging
+import contextlib
 import warnings
 
-log = logging.getLogger(__name__)
 _configured = False
-_warned_far_future = False
 
 
 def configure() -> None:
@@ -29,37 +27,37 @@ def configure() -> None:
     _configured = True
 
 
-def quiet_iers_warnings():
-    """Context manager that turns astropy's repeated IERS range warnings into one of ours."""
-    from astropy.utils.exceptions import AstropyWarning
+#: The one warning shown (once) for dates beyond the bundled tables, whatever astropy or ERFA said.
+FAR_FUTURE_MESSAGE = (
+    "dates lie beyond the bundled leap-second and Earth-orientation tables; UTC - TAI and UT1 are "
+    "extrapolated, so clock times may be off by a second or more (a future leap second) and sky "
+    "positions by a few arcseconds"
+)
 
-    class _Ctx:
-        def __enter__(self):
-            self._cm = warnings.catch_warnings(record=True)
-            self._rec = self._cm.__enter__()
-            warnings.simplefilter("always", AstropyWarning)
-            return self
 
-        def __exit__(self, *exc):
-            self._cm.__exit__(*exc)
-            global _warned_far_future
-            iers_hits = [w for w in self._rec if "IERS" in str(w.message) or "dubious year" in str(w.message)]
-            others = [w for w in self._rec if w not in iers_hits]
-            for w in others:
-                warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
-            if iers_hits and not _warned_far_future:
-                _warned_far_future = True
-                warnings.warn(
-                    "dates lie outside the bundled Earth-orientation tables; UT1 and polar motion are "
-                    "extrapolated, so sky positions may be off by up to a few arcseconds and clock "
-                    "times by about a second",
-                    FarFutureWarning,
-                    stacklevel=2,
-                )
-            return False
-
-    return _Ctx()
+def is_time_table_warning(message: str) -> bool:
+    """True for astropy/ERFA warnings about dates outside the leap-second or IERS tables."""
+    return "dubious year" in message or "IERS" in message or "polar motion" in message.lower()
 
 
 class FarFutureWarning(UserWarning):
-    """Dates beyond the bundled Earth-orientation data: results degrade gracefully."""
+    """Dates beyond the bundled leap-second/Earth-orientation tables: results degrade gracefully."""
+
+
+@contextlib.contextmanager
+def quiet_iers_warnings():
+    """Fold astropy/ERFA warnings about dates outside the bundled tables into one FarFutureWarning.
+
+    Other warnings pass through unchanged.
+    """
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        yield
+    folded = False
+    for w in caught:
+        if is_time_table_warning(str(w.message)):
+            folded = True
+        else:
+            warnings.warn_explicit(w.message, w.category, w.filename, w.lineno)
+    if folded:
+        warnings.warn(FAR_FUTURE_MESSAGE, FarFutureWarning, stacklevel=3)

@@ -11,14 +11,30 @@ import argparse
 import importlib
 import logging
 import sys
+import warnings
 
-from . import __version__
+from . import __version__, astro_offline
 from .errors import PeriplanError
 
 #: Command modules in the order they appear in ``periplan --help``.
 COMMAND_MODULES = ("events", "nights")
 
 EXIT_USAGE = 2
+
+
+def _one_line_warnings():
+    """A ``warnings.showwarning`` that prints each distinct warning once, on one line."""
+    seen = set()
+
+    def show(message, category, filename, lineno, file=None, line=None):
+        text = str(message)
+        if astro_offline.is_time_table_warning(text):
+            text = astro_offline.FAR_FUTURE_MESSAGE
+        if text not in seen:
+            seen.add(text)
+            print(f"periplan: warning: {text}", file=sys.stderr)
+
+    return show
 
 
 class _Parser(argparse.ArgumentParser):
@@ -51,7 +67,11 @@ def main(argv=None) -> int:
     logging.basicConfig(level=logging.INFO if args.verbose else logging.WARNING,
                         format="periplan: %(message)s")
     try:
-        return int(args.run(args) or 0)
+        with warnings.catch_warnings():
+            warnings.showwarning = _one_line_warnings()
+            warnings.simplefilter("default")
+            astro_offline.configure()
+            return int(args.run(args) or 0)
     except PeriplanError as exc:
         for line in str(exc).splitlines():
             print(f"periplan: error: {line}", file=sys.stderr)

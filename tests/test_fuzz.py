@@ -67,7 +67,10 @@ def test_event_invariants(el):
     nu = orbit.event_true_anomalies(np.radians(t.omega_deg[0]))
     order = [orbit.ORBIT_EVENTS[i] for i in np.argsort(nu, kind="stable")]
     first = ev[ev.bjd_tdb >= peri[0]].head(6)
-    if len(set(np.round(nu, 9))) == 6:
+    # (skip orders that float64 BJDs cannot resolve: events closer than 1e-6 d)
+    ph = np.sort(orbit.event_phases(e, np.radians(t.omega_deg[0])))
+    gaps = np.diff(np.concatenate([ph, [ph[0] + 1]]))
+    if gaps.min() * p > 1e-6:
         assert list(first.event) == order
     # the RV at rv_max is the curve's maximum, at rv_min its minimum
     tp = t.tp_bjd_tdb[0]
