@@ -8,7 +8,9 @@ Method, per night:
 
 1. Fixed-time candidates: every visible event window becomes one block covering the observable
    stretch of its window (``observable_start_jd_utc`` .. ``observable_end_jd_utc``), scored by
-   :func:`planner.score.score_components`.
+   :func:`planner.score.score_components`. By default a block must contain the predicted event
+   moment (``ScheduleOptions.event_inside_only``), and it belongs to the night that holds its
+   middle (a wide window can reach into the night before or after the event's).
 2. Exact choice of fixed blocks: weighted interval scheduling (:func:`best_intervals`), the
    O(n log n) dynamic programme over blocks sorted by end time with a binary search for the last
    compatible block (Kleinberg & Tardos, *Algorithm Design*, 2006, sec. 6.1). Two blocks are
