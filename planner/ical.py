@@ -43,7 +43,7 @@ def _description(b: pd.Series) -> str:
     if b["kind"] == "flexible":
         lines.append("Event: flexible visit (any time inside the block)")
     else:
-        what = b["label"] if isinstance(b.get("label"), str) and b["label"] else b["event"]
+        what = (b["label"] if isinstance(b.get("label"), str) and b["label"] else b["event"]).replace("_", " ")
         ev = b["event_jd_utc"]
         when = utc_datetime(ev).strftime("%Y-%m-%dT%H:%M:%SZ") if np.isfinite(ev) else "unknown"
         sigma = b["event_sigma_d"] * 1440.0
@@ -61,9 +61,10 @@ def plan_calendar(schedule: pd.DataFrame, dtstamp_utc: dt.datetime | None = None
     """icalendar ``Calendar`` with one VEVENT per row of the schedule table (:mod:`planner.schedule`).
 
     DTSTART/DTEND are the block's start and end in UTC (written with a trailing ``Z``, RFC 5545
-    sec. 3.3.5 form 2), SUMMARY is ``target: event``, DESCRIPTION holds target, event, its UTC time
-    and 1-sigma uncertainty, the score and its points, the notes and the Sun caution. ``dtstamp_utc``
-    (aware datetime) is written as every event's DTSTAMP; default: now.
+    sec. 3.3.5 form 2), SUMMARY is ``target: event`` (underscores of event names as spaces),
+    DESCRIPTION holds target, event, its UTC time and 1-sigma uncertainty, the score and its
+    points, the notes and the Sun caution. ``dtstamp_utc`` (aware datetime) is written as every
+    event's DTSTAMP; default: now (pass a fixed value for byte-identical reruns).
     """
     from icalendar import Calendar, Event
 
@@ -82,7 +83,7 @@ def plan_calendar(schedule: pd.DataFrame, dtstamp_utc: dt.datetime | None = None
         ev.add("dtstart", utc_datetime(b["start_jd_utc"]))
         ev.add("dtend", utc_datetime(b["end_jd_utc"]))
         label = b["label"] if isinstance(b["label"], str) and b["label"] else b["event"]
-        what = "flexible visit" if b["kind"] == "flexible" else label
+        what = "flexible visit" if b["kind"] == "flexible" else label.replace("_", " ")
         ev.add("summary", f"{b['target']}: {what}")
         ev.add("description", _description(b))
         if site_name:

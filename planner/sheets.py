@@ -93,7 +93,8 @@ def _what(b) -> str:
     """Name of what a block observes: the event's label, or "flexible visit"."""
     if b["kind"] == "flexible":
         return "flexible visit"
-    return b["label"] if isinstance(b.get("label"), str) and b.get("label") else str(b["event"])
+    what = b["label"] if isinstance(b.get("label"), str) and b.get("label") else str(b["event"])
+    return what.replace("_", " ")
 
 
 def _moon_text(night, tz=None) -> str:

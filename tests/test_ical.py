@@ -73,7 +73,7 @@ def test_written_file_parses_back_with_one_event_per_block(tmp_path):
             when = (when + dt.timedelta(microseconds=500_000)).replace(microsecond=0)
             assert when.strftime("%Y-%m-%dT%H:%M:%SZ") in desc
             assert "+- 4.0 min (1 sigma)" in desc
-            assert b["event"] in summary
+            assert summary == f"{b['target']}: {b['event'].replace('_', ' ')}"
         assert f"Score: {b['score']:.1f}" in desc
 
 
