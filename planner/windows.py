@@ -114,6 +114,45 @@ def _margin_deg(site, ra_c, dec_c, cos_moon, cos_sun, era, illumination, dec_ok)
     return np.where(dec_ok, m, -90.0)
 
 
+def _fast_mask(site, ra_c, dec_c, tvec, era, moon_v, sun_v, illumination, dec_ok):
+    """Boolean (N, T): every constraint but darkness holds; the same limits as :func:`_margin_deg`.
+
+    ``ra_c``/``dec_c``/``tvec`` (N,), (N,), (N, 3) CIRS places; ``era`` (T,) Earth rotation angle;
+    ``moon_v``/``sun_v`` (T, 3) topocentric CIRS unit vectors; ``illumination`` (T,); ``dec_ok``
+    (N,). No trigonometry on the (N, T) grid: altitude above h0 is cos H > (sin h0 - sin phi
+    sin delta) / (cos phi cos delta), with cos H = cos(theta - alpha) from a (N, 2) x (2, T)
+    product, and separations are dot products. Azimuth and hour angle (for a horizon profile
+    above the minimum altitude, or hour-angle limits) are computed only where the rest holds.
+    """
+    lat = np.radians(site.latitude_deg)
+    h0 = site.min_altitude_deg
+    if site.max_airmass is not None:
+        h0 = max(h0, visibility.altitude_for_airmass_deg(site.max_airmass))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        c = (np.sin(np.radians(h0)) - np.sin(lat) * np.sin(dec_c)) / (np.cos(lat) * np.cos(dec_c))
+    theta = np.asarray(era) + np.radians(site.longitude_deg)
+    cos_h = np.stack([np.cos(ra_c), np.sin(ra_c)], axis=1) @ np.stack([np.cos(theta), np.sin(theta)])
+    m = cos_h > c[:, None]
+    m &= np.asarray(dec_ok)[:, None]
+    if site.moon_min_sep_deg > 0 or site.moon_sep_growth_deg > 0:
+        need_cos = np.cos(np.radians(site.moon_min_sep_at_deg(illumination)))
+        m &= (tvec @ moon_v.T) < need_cos[None, :]
+    if site.sun_min_sep_deg > 0:
+        m &= (tvec @ sun_v.T) < np.cos(np.radians(site.sun_min_sep_deg))
+    profile_matters = bool(site.horizon_alt_deg) and max(site.horizon_alt_deg) > h0
+    if profile_matters or site.min_hour_angle_h is not None or site.max_hour_angle_h is not None:
+        i, t = np.nonzero(m)
+        ha, alt, az = visibility.horizontal(ra_c[i], dec_c[i], np.asarray(era)[t], site.latitude_deg,
+                                            site.longitude_deg)
+        ok = alt > altitude_limit_deg(site, az)
+        if site.min_hour_angle_h is not None:
+            ok &= ha > site.min_hour_angle_h
+        if site.max_hour_angle_h is not None:
+            ok &= ha < site.max_hour_angle_h
+        m[i[~ok], t[~ok]] = False
+    return m
+
+
 def _tracks(site, nights, tracks):
     if tracks is not None:
         return tracks
@@ -126,6 +165,7 @@ def observable_mask(ra_deg, dec_deg, site, jd_utc, tracks=None):
 
     ``ra_deg``/``dec_deg`` ICRS (N,), ``jd_utc`` (T,). ``tracks`` (:class:`SkyTracks`) must
     cover the times; built when absent. Apparent places once per day-long block of times.
+    Speed: bench/bench_visibility.py.
     """
     ra = np.atleast_1d(np.asarray(ra_deg, float))
     dec = np.atleast_1d(np.asarray(dec_deg, float))
@@ -134,19 +174,22 @@ def observable_mask(ra_deg, dec_deg, site, jd_utc, tracks=None):
         tracks = visibility.sky_tracks(site.latitude_deg, site.longitude_deg, site.elevation_m,
                                        float(jd.min()), float(jd.max()))
     era = visibility.earth_rotation_angle_rad(jd)
-    sun_alt = tracks.sun_altaz_deg(jd, era)[0]
-    moon_v, sun_v = tracks.moon_vector(jd), tracks.sun_vector(jd)
+    sun_v = tracks.sun_vector(jd, era)
+    moon_v = tracks.moon_vector(jd, era)
+    sun_alt = visibility.horizontal(*visibility._ra_dec_from_vectors(sun_v), era, site.latitude_deg,
+                                    site.longitude_deg)[1]
+    dark = sun_alt < site.darkness_sun_alt_deg
     illum = tracks.moon_illumination(jd)
     out = np.zeros((ra.size, jd.size), bool)
     block, ids, mids = visibility._blocks(jd)
-    dec_ok = _dec_ok(site, dec)[:, None]
+    dec_ok = _dec_ok(site, dec)
     for b, mid_tdb in zip(ids, visibility.utc_to_tdb_jd(mids)):
-        cols = np.flatnonzero(block == b)
+        cols = np.flatnonzero((block == b) & dark)
+        if cols.size == 0:
+            continue
         ri, di = visibility.cirs_place(ra, dec, mid_tdb)
         tv = visibility.unit_vectors_rad(ri, di)
-        m = _margin_deg(site, ri[:, None], di[:, None], tv @ moon_v[cols].T, tv @ sun_v[cols].T,
-                        era[None, cols], illum[None, cols], dec_ok)
-        out[:, cols] = (m > 0) & (sun_alt[None, cols] < site.darkness_sun_alt_deg)
+        out[:, cols] = _fast_mask(site, ri, di, tv, era[cols], moon_v[cols], sun_v[cols], illum[cols], dec_ok)
     return out
 
 
@@ -158,6 +201,8 @@ def observable_intervals(targets: pd.DataFrame, site, nights: pd.DataFrame, trac
     rows to use (default all); ``nights``: :func:`planner.night.night_table`. Times are UTC
     Julian dates; ``max_alt_deg`` is the highest airless altitude inside the interval (the
     upper culmination when it falls inside). Rows sorted by night, target, start.
+    The grid (step ``step_d``) brackets the edges with the fast mask; each edge is then refined
+    by bisection on the continuous margin.
     """
     idx = np.arange(len(targets)) if target_indices is None else np.asarray(target_indices, int)
     ra = targets["ra_deg"].to_numpy(float)[idx]
@@ -180,25 +225,24 @@ def observable_intervals(targets: pd.DataFrame, site, nights: pd.DataFrame, trac
     tvec = visibility.unit_vectors_rad(ra_c, dec_c)  # (J, N, 3)
     dec_ok = _dec_ok(site, dec)
 
-    # the margin on the grid, night by night: (J, N, T)
-    flat = grid.ravel()
-    era = visibility.earth_rotation_angle_rad(flat).reshape(grid.shape)
-    moon_v = tracks.moon_vector(grid)  # (J, T, 3)
-    sun_v = tracks.sun_vector(grid)
+    # the sign of the margin on the grid, night by night, from the fast mask: (J, N, T)
+    era = visibility.earth_rotation_angle_rad(grid.ravel()).reshape(grid.shape)
+    moon_v = tracks.moon_vector(grid, era)  # (J, T, 3)
+    sun_v = tracks.sun_vector(grid, era)
     illum = tracks.moon_illumination(grid)
     values = np.empty((night_rows.size, n_t, n_steps))
     for j in range(night_rows.size):
-        values[j] = _margin_deg(site, ra_c[j][:, None], dec_c[j][:, None], tvec[j] @ moon_v[j].T,
-                                tvec[j] @ sun_v[j].T, era[j][None, :], illum[j][None, :], dec_ok[:, None])
+        m = _fast_mask(site, ra_c[j], dec_c[j], tvec[j], era[j], moon_v[j], sun_v[j], illum[j], dec_ok)
+        values[j] = np.where(m, 1.0, -1.0)
     values = values.reshape(-1, n_steps)  # row = j * N + n
-    row_grid = np.repeat(grid, n_t, axis=0)
+    row_grid = np.broadcast_to(grid[:, None, :], (night_rows.size, n_t, n_steps)).reshape(-1, n_steps)
 
     def func(jd, rows):
         j, n = rows // n_t, rows % n_t
         e = visibility.earth_rotation_angle_rad(jd)
         tv = tvec[j, n]
-        cm = np.einsum("ik,ik->i", tv, tracks.moon_vector(jd))
-        cs = np.einsum("ik,ik->i", tv, tracks.sun_vector(jd))
+        cm = np.einsum("ik,ik->i", tv, tracks.moon_vector(jd, e))
+        cs = np.einsum("ik,ik->i", tv, tracks.sun_vector(jd, e))
         return _margin_deg(site, ra_c[j, n], dec_c[j, n], cm, cs, e, tracks.moon_illumination(jd), dec_ok[n])
 
     rows, jd, rising = find_crossings(func, row_grid, values)
