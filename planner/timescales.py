@@ -87,42 +87,46 @@ def light_travel_time_d(jd_tdb, ra_deg, dec_deg, reference: str = "barycentre"):
     return track.delay_d(jd, unit_vectors(ra, dec))
 
 
-def _utc_jd_to_tdb_jd(jd_utc):
-    from astropy.time import Time
-
-    t = Time(np.asarray(jd_utc, dtype=float), format="jd", scale="utc").tdb
-    return t.jd1 + t.jd2
-
-
 #: Grid step (days) of the TDB - UTC offset used for bulk conversions; linear interpolation of the
 #: periodic TDB - TT term (1.7 ms annual amplitude) on it errs by < 1e-7 s.
 _OFFSET_GRID_D = 0.5
+#: Below this many times, astropy converts each one directly.
+_DIRECT_MAX = 1000
 
 
-def _tdb_jd_to_utc_jd(jd_tdb):
-    """UTC Julian dates (astropy's quasi-JD, leap seconds inside their day) for TDB Julian dates.
+def _convert_jd(jd, from_scale: str, to_scale: str):
+    """Julian dates converted between astropy time scales (UTC uses astropy's quasi-JD).
 
-    astropy converts the grid points; in between, the offset TDB - UTC is interpolated. Events in a
-    grid cell that holds a leap second (offset jump > 0.5 s) are converted by astropy one by one.
+    Large arrays: astropy converts a half-day grid and the offset is interpolated in between;
+    times in a grid cell that holds a leap second (offset jump > 0.5 s) are converted by astropy
+    one by one, so the result equals astropy's to < 1e-7 s everywhere.
     """
     from astropy.time import Time
 
-    jd = np.asarray(jd_tdb, dtype=float)
-    if jd.size < 1000:
-        t = Time(jd, format="jd", scale="tdb").utc
+    jd = np.asarray(jd, dtype=float)
+    finite = np.isfinite(jd)
+    if jd.size < _DIRECT_MAX or not finite.any():
+        t = getattr(Time(jd, format="jd", scale=from_scale), to_scale)
         return t.jd1 + t.jd2
-    lo, hi = np.nanmin(jd), np.nanmax(jd)
+    lo, hi = np.min(jd[finite]), np.max(jd[finite])
     grid = lo + _OFFSET_GRID_D * np.arange(int(np.ceil((hi - lo) / _OFFSET_GRID_D)) + 2)
-    g = Time(grid, format="jd", scale="tdb").utc
-    offset = (grid - g.jd1) - g.jd2
-    out = jd - np.interp(jd, grid, offset)
-    cell = np.clip(((jd - lo) / _OFFSET_GRID_D).astype(np.int64), 0, len(grid) - 2)
-    jump = np.abs(np.diff(offset)) > 0.5 / 86400
-    exact = jump[cell]
+    g = getattr(Time(grid, format="jd", scale=from_scale), to_scale)
+    offset = (g.jd1 - grid) + g.jd2
+    out = jd + np.interp(jd, grid, offset)
+    cell = np.clip(((np.where(finite, jd, lo) - lo) / _OFFSET_GRID_D).astype(np.int64), 0, len(grid) - 2)
+    exact = np.abs(np.diff(offset))[cell] > 0.5 / 86400
     if exact.any():
-        t = Time(jd[exact], format="jd", scale="tdb").utc
+        t = getattr(Time(jd[exact], format="jd", scale=from_scale), to_scale)
         out[exact] = t.jd1 + t.jd2
     return out
+
+
+def _utc_jd_to_tdb_jd(jd_utc):
+    return _convert_jd(jd_utc, "utc", "tdb")
+
+
+def _tdb_jd_to_utc_jd(jd_tdb):
+    return _convert_jd(jd_tdb, "tdb", "utc")
 
 
 def _tdb_jd_to_utc_time(jd_tdb):
@@ -178,13 +182,29 @@ def bjd_tdb_to_utc(bjd_tdb, ra_deg, dec_deg):
 
 
 def _utc_seconds(t_utc) -> np.ndarray:
-    """datetime64[s] of astropy UTC times, rounded to the nearest second."""
-    unix = np.atleast_1d(np.asarray(t_utc.unix, dtype=float))
-    return np.round(unix).astype(np.int64).astype("datetime64[s]")
+    """datetime64[s] of astropy UTC times, rounded to the nearest second.
+
+    Calendar fields come from ERFA's d2dtf, which knows the leap seconds (astropy's ``unix``
+    spreads a leap second over its day and is up to 1 s off there); a time rounded into a leap
+    second (23:59:60) becomes the next day's 00:00:00, as in Unix time.
+    """
+    import erfa
+
+    jd1 = np.atleast_1d(np.asarray(t_utc.jd1, dtype=float))
+    jd2 = np.atleast_1d(np.asarray(t_utc.jd2, dtype=float))
+    iy, im, iday, ihmsf = erfa.d2dtf("UTC", 0, jd1, jd2)
+    mjd0, mjd = erfa.cal2jd(iy, im, iday)
+    unix_day = np.round(mjd0 + mjd - 2440587.5).astype(np.int64)  # days since 1970-01-01
+    secs = unix_day * 86400 + ihmsf["h"].astype(np.int64) * 3600 + ihmsf["m"] * 60 + ihmsf["s"]
+    return secs.astype("datetime64[s]")
 
 
 def utc_to_iso_z(t_utc) -> np.ndarray:
-    """ISO 8601 strings ``YYYY-MM-DDTHH:MM:SSZ`` (rounded to the second) for astropy UTC times."""
+    """ISO 8601 strings ``YYYY-MM-DDTHH:MM:SSZ`` (rounded to the second) for astropy UTC times.
+
+    Strings follow the Unix-time convention: a moment inside a leap second (23:59:60) is shown as
+    the start of the following second.
+    """
     return np.char.add(np.datetime_as_string(_utc_seconds(t_utc), unit="s"), "Z").astype(object)
 
 

@@ -85,3 +85,23 @@ def test_iso_and_local_strings_use_zoneinfo():
     assert list(timescales.utc_to_iso_z(t)) == ["2026-03-29T00:59:59Z", "2026-03-29T01:00:00Z"]
     assert list(timescales.utc_to_local_iso(t, "Europe/Madrid")) == [
         "2026-03-29T01:59:59+01:00", "2026-03-29T03:00:00+02:00"]
+
+
+def test_bulk_conversion_equals_astropy_across_the_2016_leap_second():
+    # IERS Bulletin C 52 (2016): a leap second 2016-12-31 23:59:60 UTC, TAI - UTC 36 s -> 37 s.
+    # The bulk path (interpolated offsets) must equal astropy's direct conversion, including the
+    # times inside the leap-second day and the leap second itself.
+    utc = Time("2016-12-31T23:59:59", scale="utc") + np.linspace(-2, 2, 5001) * u.day
+    leap = Time(["2016-12-31T23:59:60.2", "2016-12-31T23:59:58.8", "2017-01-01T00:00:01.2"], scale="utc")
+    utc = Time(np.concatenate([utc.jd1, leap.jd1]), np.concatenate([utc.jd2, leap.jd2]), format="jd", scale="utc")
+    # a single float64 Julian date near 2.46e6 resolves 2**-31 d = 40 us: allow two of those
+    two_ulp_s = 2 * 2.0**-31 * 86400
+    bulk = timescales._utc_jd_to_tdb_jd(utc.jd1 + utc.jd2)
+    direct = utc.tdb
+    assert np.max(np.abs(bulk - (direct.jd1 + direct.jd2))) * 86400 <= two_ulp_s
+    back = timescales._tdb_jd_to_utc_jd(direct.jd1 + direct.jd2)
+    assert np.max(np.abs(back - (utc.jd1 + utc.jd2))) * 86400 <= two_ulp_s
+    # display strings follow the Unix-time convention: a moment inside the leap second shows as
+    # the start of the next second; the seconds either side are unaffected
+    iso = timescales.utc_to_iso_z(Time(back[-3:], format="jd", scale="utc"))
+    assert list(iso) == ["2017-01-01T00:00:00Z", "2016-12-31T23:59:59Z", "2017-01-01T00:00:01Z"]
