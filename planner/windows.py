@@ -173,7 +173,7 @@ def observable_mask(ra_deg, dec_deg, site, jd_utc, tracks=None):
     if tracks is None:
         tracks = visibility.sky_tracks(site.latitude_deg, site.longitude_deg, site.elevation_m,
                                        float(jd.min()), float(jd.max()))
-    era = visibility.earth_rotation_angle_rad(jd)
+    era = tracks.era_rad(jd)
     sun_v = tracks.sun_vector(jd, era)
     moon_v = tracks.moon_vector(jd, era)
     sun_alt = visibility.horizontal(*visibility._ra_dec_from_vectors(sun_v), era, site.latitude_deg,
@@ -226,7 +226,7 @@ def observable_intervals(targets: pd.DataFrame, site, nights: pd.DataFrame, trac
     dec_ok = _dec_ok(site, dec)
 
     # the sign of the margin on the grid, night by night, from the fast mask: (J, N, T)
-    era = visibility.earth_rotation_angle_rad(grid.ravel()).reshape(grid.shape)
+    era = tracks.era_rad(grid)
     moon_v = tracks.moon_vector(grid, era)  # (J, T, 3)
     sun_v = tracks.sun_vector(grid, era)
     illum = tracks.moon_illumination(grid)
@@ -239,7 +239,7 @@ def observable_intervals(targets: pd.DataFrame, site, nights: pd.DataFrame, trac
 
     def func(jd, rows):
         j, n = rows // n_t, rows % n_t
-        e = visibility.earth_rotation_angle_rad(jd)
+        e = tracks.era_rad(jd)
         tv = tvec[j, n]
         cm = np.einsum("ik,ik->i", tv, tracks.moon_vector(jd, e))
         cs = np.einsum("ik,ik->i", tv, tracks.sun_vector(jd, e))
