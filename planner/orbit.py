@@ -51,9 +51,16 @@ def event_phases(e, omega_rad):
 
     Shape ``e.shape + (6,)``, columns in the order of :data:`ORBIT_EVENTS`.
     """
-    nu = event_true_anomalies(omega_rad)
-    m = kepler.mean_from_true(nu, np.asarray(e, dtype=float)[..., None])
-    return kepler.wrap_angle(m) / kepler.TWO_PI
+    e = np.asarray(e, dtype=float)
+    w = np.asarray(omega_rad, dtype=float)
+    shape = np.broadcast_shapes(e.shape, w.shape)
+    out = np.empty(shape + (len(ORBIT_EVENTS),))
+    out[..., 0] = 0.0  # periastron: M = 0
+    out[..., 1] = 0.5  # apastron: M = pi for every e
+    nu = event_true_anomalies(w)[..., 2:]  # the four events that depend on omega
+    m = kepler.mean_from_true(nu, e[..., None])
+    out[..., 2:] = kepler.wrap_angle(m) / kepler.TWO_PI
+    return out
 
 
 def tp_from_tc(tc, period_d, e, omega_rad, secondary: bool = False):
