@@ -66,6 +66,7 @@ DEFAULT_EVENT_LENGTH_H = 2.0
 #: Grid step (days) of the interval search: 5 minutes. An observable stretch shorter than this
 #: between two unobservable ones can be missed; the edges of those found are exact to 0.05 s.
 WINDOW_STEP_D = 5.0 / 1440.0
+_CHUNK_SAMPLES = 2_000_000
 
 INTERVAL_COLUMNS = ("target_index", "target", "night", "start_jd_utc", "end_jd_utc", "duration_h",
                     "max_alt_deg")
@@ -214,28 +215,51 @@ def observable_intervals(targets: pd.DataFrame, site, nights: pd.DataFrame, trac
     if n_t == 0 or night_rows.size == 0:
         return pd.DataFrame({c: [] for c in INTERVAL_COLUMNS})
     tracks = _tracks(site, nights, tracks)
-    d0 = nights["dark_start_jd_utc"].to_numpy(float)[night_rows]
-    d1 = nights["dark_end_jd_utc"].to_numpy(float)[night_rows]
-    n_steps = max(2, int(np.ceil(np.max(d1 - d0) / step_d)) + 1)
+    d0_all = nights["dark_start_jd_utc"].to_numpy(float)[night_rows]
+    d1_all = nights["dark_end_jd_utc"].to_numpy(float)[night_rows]
+    n_steps = max(2, int(np.ceil(np.max(d1_all - d0_all) / step_d)) + 1)
+    dec_ok = _dec_ok(site, dec)
+    labels = nights["night"].to_numpy(object)[night_rows]
+    # nights in chunks of about 2 million grid samples, to bound memory on long spans
+    per_chunk = max(1, _CHUNK_SAMPLES // (n_t * n_steps))
+    parts = []
+    for c0 in range(0, night_rows.size, per_chunk):
+        sl = slice(c0, c0 + per_chunk)
+        j, n, start, end, max_alt = _interval_chunk(site, tracks, ra, dec, dec_ok, d0_all[sl], d1_all[sl], n_steps)
+        parts.append(pd.DataFrame({
+            "target_index": idx[n].astype(np.int64),
+            "target": names[idx[n]],
+            "night": labels[sl][j],
+            "start_jd_utc": start,
+            "end_jd_utc": end,
+            "duration_h": (end - start) * 24.0,
+            "max_alt_deg": max_alt,
+        }))
+    return pd.concat(parts, ignore_index=True)
+
+
+def _interval_chunk(site, tracks, ra, dec, dec_ok, d0, d1, n_steps):
+    """Intervals of all targets in the nights with dark intervals [d0, d1] (J,): arrays
+    (night j, target n, start, end, max altitude), sorted by night, target, start."""
+    n_t = ra.size
     grid = d0[:, None] + (d1 - d0)[:, None] * np.linspace(0.0, 1.0, n_steps)[None, :]  # (J, T)
     mid_tdb = visibility.utc_to_tdb_jd(0.5 * (d0 + d1))
     places = [visibility.cirs_place(ra, dec, m) for m in mid_tdb]
     ra_c = np.stack([p[0] for p in places])  # (J, N)
     dec_c = np.stack([p[1] for p in places])
     tvec = visibility.unit_vectors_rad(ra_c, dec_c)  # (J, N, 3)
-    dec_ok = _dec_ok(site, dec)
 
     # the sign of the margin on the grid, night by night, from the fast mask: (J, N, T)
     era = tracks.era_rad(grid)
     moon_v = tracks.moon_vector(grid, era)  # (J, T, 3)
     sun_v = tracks.sun_vector(grid, era)
     illum = tracks.moon_illumination(grid)
-    values = np.empty((night_rows.size, n_t, n_steps))
-    for j in range(night_rows.size):
+    values = np.empty((d0.size, n_t, n_steps))
+    for j in range(d0.size):
         m = _fast_mask(site, ra_c[j], dec_c[j], tvec[j], era[j], moon_v[j], sun_v[j], illum[j], dec_ok)
         values[j] = np.where(m, 1.0, -1.0)
     values = values.reshape(-1, n_steps)  # row = j * N + n
-    row_grid = np.broadcast_to(grid[:, None, :], (night_rows.size, n_t, n_steps)).reshape(-1, n_steps)
+    row_grid = np.broadcast_to(grid[:, None, :], (d0.size, n_t, n_steps)).reshape(-1, n_steps)
 
     def func(jd, rows):
         j, n = rows // n_t, rows % n_t
@@ -249,27 +273,20 @@ def observable_intervals(targets: pd.DataFrame, site, nights: pd.DataFrame, trac
     r, start, end = positive_intervals(rows, jd, rising, values[:, 0] > 0, values[:, -1] > 0,
                                        row_grid[:, 0], row_grid[:, -1])
     j, n = r // n_t, r % n_t
-    labels = nights["night"].to_numpy(object)[night_rows]
-    return pd.DataFrame({
-        "target_index": idx[n].astype(np.int64),
-        "target": names[idx[n]],
-        "night": labels[j],
-        "start_jd_utc": start,
-        "end_jd_utc": end,
-        "duration_h": (end - start) * 24.0,
-        "max_alt_deg": _max_altitude_deg(ra_c[j, n], dec_c[j, n], start, end, site),
-    })
+    max_alt = _max_altitude_deg(ra_c[j, n], dec_c[j, n], tracks.era_rad(start), tracks.era_rad(end),
+                                start, end, site)
+    return j, n, start, end, max_alt
 
 
-def _max_altitude_deg(ra_c, dec_c, start_jd, end_jd, site):
+def _max_altitude_deg(ra_c, dec_c, era0, era1, start_jd, end_jd, site):
     """Highest airless altitude over [start, end]: the upper culmination if inside, else an end.
 
     Altitude is monotonic in hour angle on each side of the meridian, so these are the only
     candidates.
     """
     lat, lon = site.latitude_deg, site.longitude_deg
-    ha0, alt0, _ = visibility.horizontal(ra_c, dec_c, visibility.earth_rotation_angle_rad(start_jd), lat, lon)
-    _, alt1, _ = visibility.horizontal(ra_c, dec_c, visibility.earth_rotation_angle_rad(end_jd), lat, lon)
+    ha0, alt0, _ = visibility.horizontal(ra_c, dec_c, era0, lat, lon)
+    _, alt1, _ = visibility.horizontal(ra_c, dec_c, era1, lat, lon)
     sidereal_h = (end_jd - start_jd) * 24.0 * 1.00273790935
     to_transit_h = np.mod(-ha0, 24.0)
     culm = 90.0 - np.abs(lat - np.degrees(dec_c))

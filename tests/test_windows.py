@@ -271,3 +271,18 @@ def test_empty_events_keep_the_columns(setup):
     ev = events_for(targets, s, nights, np.array([]), np.array([], int), np.array([]), np.array([]))
     vis = windows.event_visibility(ev, targets, s, nights, tracks=tracks)
     assert len(vis) == 0 and set(windows.VISIBILITY_COLUMNS) <= set(vis.columns)
+
+
+def test_intervals_together_equal_one_at_a_time_and_in_chunks(setup, monkeypatch):
+    s, targets, nights, tracks, jd, _ = setup
+    together = windows.observable_intervals(targets, s, nights, tracks, target_indices=range(8))
+    for i in range(8):
+        alone = windows.observable_intervals(targets, s, nights, tracks, target_indices=[i])
+        mine = together[together.target_index == i].reset_index(drop=True)
+        assert len(alone) == len(mine)
+        # same bisection to 0.05 s, on the same grid
+        assert np.all(np.abs(alone.start_jd_utc - mine.start_jd_utc) * SECONDS_PER_DAY < 0.1)
+        assert np.all(np.abs(alone.end_jd_utc - mine.end_jd_utc) * SECONDS_PER_DAY < 0.1)
+    monkeypatch.setattr(windows, "_CHUNK_SAMPLES", 1)  # one night per chunk
+    chunked = windows.observable_intervals(targets, s, nights, tracks, target_indices=range(8))
+    pd.testing.assert_frame_equal(chunked, together)
