@@ -4,7 +4,6 @@ import io
 import subprocess
 import sys
 
-import numpy as np
 import pandas as pd
 import pytest
 
