@@ -12,8 +12,15 @@ A target is *observable* at a moment when every constraint of the site holds:
 All of them are folded into one continuous *margin* in degrees (the least of altitude minus its
 limit, 15 x hour-angle distance to a limit, separation minus the needed separation), positive
 when observable. Interval edges are the zero crossings of the margin, found by the planner's one
-crossing search (:func:`planner.crossings.find_crossings`) on a 5-minute grid across the dark
-interval and refined to 0.05 s; an interval cut by dusk or dawn starts or ends there.
+crossing search (:func:`planner.crossings.find_crossings`): bracketed on a 5-minute grid across
+the dark interval by a fast mask with the same limits and no trigonometry on the grid (see
+:func:`_fast_mask`), then refined by bisection on the margin to 0.05 s; an interval cut by dusk
+or dawn starts or ends there. :func:`observable_mask` gives the mask itself on any time grid.
+
+Accuracy: masks equal astroplan's AltitudeConstraint / AtNightConstraint /
+MoonSeparationConstraint on 46,680 test samples, and on 2 million benchmark samples except where
+a limit is within 0.01 deg (tests/test_windows.py, bench/bench_visibility.py). Airmass limits use
+Young 1994 (astroplan's AirmassConstraint uses plane-parallel sec z: 0.4 per cent more at X = 2).
 
 Tables
 ------
