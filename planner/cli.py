@@ -17,7 +17,7 @@ from . import __version__, astro_offline
 from .errors import PeriplanError
 
 #: Command modules in the order they appear in ``periplan --help``.
-COMMAND_MODULES = ("events", "nights")
+COMMAND_MODULES = ("events", "nights", "plan", "demo")
 
 EXIT_USAGE = 2
 

@@ -1,0 +1,132 @@
+"""The whole pipeline in one call: target table + site + nights -> :class:`Plan`.
+
+:func:`make_plan` runs the stages in order (nights, events, observable intervals, event
+visibility, schedule) and returns every intermediate table, so the command line, the notebook
+and the tests see the same thing. It reads and writes no files; :mod:`planner.plan_files` writes
+a plan out. Times are UTC Julian dates (``*_jd_utc``) except the events' ``bjd_tdb``.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import datetime as dt
+import logging
+
+import numpy as np
+import pandas as pd
+
+from . import night as night_mod
+from . import visibility, windows
+from .events import predict_events
+from .schedule import ScheduleOptions, plan_week
+
+log = logging.getLogger(__name__)
+
+#: Stages reported to a progress callback, in order.
+STAGES = ("nights", "events", "intervals", "visibility", "schedule")
+#: Events are predicted this many days beyond the nights' edges, so that a window reaching into
+#: the week from an event just outside it (a long transit, a wide timing uncertainty) is seen.
+EVENT_MARGIN_D = 1.0
+
+
+@dataclasses.dataclass(frozen=True)
+class PlanSettings:
+    """What the observer asks for beyond the site file.
+
+    ``baseline_h``: out-of-event time wanted either side of each event; ``k_sigma``: windows are
+    widened by this many 1-sigma timing uncertainties either side; ``schedule``: the
+    scheduler's options (overhead, repeat rule, score weights).
+    """
+
+    baseline_h: float = windows.DEFAULT_BASELINE_H
+    k_sigma: float = windows.DEFAULT_K_SIGMA
+    schedule: ScheduleOptions = ScheduleOptions()
+
+
+@dataclasses.dataclass
+class Plan:
+    """Everything a week's plan is made of (tables as in the modules that make them)."""
+
+    site: object
+    targets: pd.DataFrame
+    nights: pd.DataFrame
+    events: pd.DataFrame        # planner.windows.event_visibility output, events in the nights only
+    intervals: pd.DataFrame     # planner.windows.observable_intervals
+    schedule: pd.DataFrame      # planner.schedule.plan_week
+    never_rising: pd.DataFrame  # planner.windows.never_rising
+    tracks: object              # planner.visibility.SkyTracks of the Sun and Moon
+    settings: PlanSettings
+
+    def altitude_deg(self, target_index, jd_utc):
+        """Airless altitude (deg) of targets (row numbers) at UTC Julian dates, broadcast."""
+        return windows.target_positions(self.targets, self.site, target_index, jd_utc).alt_deg
+
+    def moon_sep_deg(self, target_index, jd_utc):
+        """Topocentric Moon-target separation (deg) of targets at UTC Julian dates, broadcast."""
+        return moon_separation_deg(self.targets, self.tracks, target_index, jd_utc)
+
+
+def moon_separation_deg(targets, tracks, target_index, jd_utc):
+    """Moon-target separation (deg), broadcast over ``target_index`` and ``jd_utc``.
+
+    The target's apparent (CIRS) place is taken once, at the middle of the times: it moves by
+    well under an arcsecond in a week, against the Moon's half-degree disc.
+    """
+    ti, jd = np.broadcast_arrays(np.asarray(target_index, dtype=int), np.asarray(jd_utc, dtype=float))
+    if ti.size == 0:
+        return np.zeros(ti.shape)
+    mid_tdb = float(visibility.utc_to_tdb_jd(np.array([np.nanmean(jd)]))[0])
+    uniq, inverse = np.unique(ti, return_inverse=True)
+    ra, dec = visibility.cirs_place(targets["ra_deg"].to_numpy(float)[uniq],
+                                    targets["dec_deg"].to_numpy(float)[uniq], mid_tdb)
+    vec = visibility.unit_vectors_rad(ra, dec)[inverse.reshape(ti.shape)]
+    return visibility.separation_deg(vec, tracks.moon_vector(jd))
+
+
+def first_night_for(start, timezone: str) -> dt.date:
+    """The first night's label: ``start`` as a date, or tonight's local date at the site."""
+    if start is not None:
+        return start if isinstance(start, dt.date) else dt.date.fromisoformat(str(start))
+    from .spans import zone
+
+    return dt.datetime.now(zone(timezone)).date()
+
+
+def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
+              settings: PlanSettings = PlanSettings(), progress=None) -> Plan:
+    """The week's :class:`Plan` for ``n_nights`` nights from ``first_night`` (a date label).
+
+    ``targets`` from :func:`planner.catalogue.read_catalogue`, ``site`` from
+    :func:`planner.site.read_site`. ``progress``, when given, is called with each name of
+    :data:`STAGES` as that stage starts. Deterministic: the same inputs give the same plan.
+    """
+    from astropy.time import Time
+
+    def stage(name):
+        log.info("stage: %s", name)
+        if progress is not None:
+            progress(name)
+
+    stage("nights")
+    tracks = night_mod.tracks_for_nights(site, first_night, n_nights)
+    nights = night_mod.night_table(site, first_night, n_nights, tracks=tracks)
+
+    stage("events")
+    span = Time([nights["noon_jd_utc"].min(), nights["next_noon_jd_utc"].max()], format="jd", scale="utc").tdb.jd
+    events = predict_events(targets, span[0] - EVENT_MARGIN_D, span[1] + EVENT_MARGIN_D)
+
+    stage("intervals")
+    intervals = windows.observable_intervals(targets, site, nights, tracks=tracks)
+
+    stage("visibility")
+    visible = windows.event_visibility(events, targets, site, nights, baseline_h=settings.baseline_h,
+                                       k_sigma=settings.k_sigma, tracks=tracks, intervals=intervals)
+    visible = visible[visible["night"].notna()].reset_index(drop=True)
+
+    stage("schedule")
+    plan = Plan(site=site, targets=targets, nights=nights, events=visible, intervals=intervals,
+                schedule=pd.DataFrame(), never_rising=windows.never_rising(targets, site), tracks=tracks,
+                settings=settings)
+    plan.schedule = plan_week(visible, intervals, targets, nights, altitude_deg=plan.altitude_deg,
+                              moon_sep_deg=plan.moon_sep_deg, options=settings.schedule)
+    return plan

@@ -1,0 +1,130 @@
+"""Write a :class:`~planner.plan.Plan` to a folder: schedule, nightly lists, charts, calendar.
+
+Files (all in ``out_dir``):
+
+=============================  ===============================================================
+``schedule.csv``               one row per block (:func:`planner.sheets.write_schedule_csv`)
+``night-YYYY-MM-DD.txt/.html`` printable list of each night (:mod:`planner.sheets`)
+``altitude-YYYY-MM-DD.png``    altitude of the night's scheduled targets (:mod:`planner.charts`)
+``week.png``                   the week's blocks, one row per night
+``rv-TARGET.png``              RV over orbital phase of each scheduled eccentric target with K
+``plan.ics``                   one calendar event per block (:mod:`planner.ical`)
+``summary.txt``                the terminal summary
+=============================  ===============================================================
+
+Nothing is half-written: every file is first made in a temporary folder beside ``out_dir`` and
+moved into place only when all of them exist, each move an atomic rename, so an error or an
+interruption leaves a previous plan in ``out_dir`` as it was. Existing files are replaced only
+with ``force=True``; otherwise :class:`OutputExists` is raised before anything is computed.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+import shutil
+import tempfile
+
+import numpy as np
+
+from .errors import PeriplanError
+
+#: Sample step (days) of the altitude curves in the night charts: 5 minutes.
+CHART_STEP_D = 5.0 / 1440.0
+FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt")
+_PLAN_FILE = re.compile(r"^(night-\d{4}-\d{2}-\d{2}\.(txt|html)|altitude-\d{4}-\d{2}-\d{2}\.png|rv-.+\.png)$")
+
+
+class OutputExists(PeriplanError):
+    """The output folder already holds plan files and ``force`` was not given."""
+
+
+def safe_file_name(name: str) -> str:
+    """A target name made safe for a file name: letters, digits, '-', '_' and '.' kept."""
+    return re.sub(r"[^A-Za-z0-9._-]+", "_", name).strip("_") or "target"
+
+
+def existing_plan_files(out_dir) -> list[str]:
+    """Names of files in ``out_dir`` that a plan would write (empty when none or no folder)."""
+    try:
+        names = os.listdir(out_dir)
+    except (FileNotFoundError, NotADirectoryError):
+        return []
+    return sorted(n for n in names if n in FIXED_NAMES or _PLAN_FILE.match(n))
+
+
+def check_out_dir(out_dir, force: bool) -> None:
+    """Raise :class:`OutputExists` (or PeriplanError) when ``out_dir`` cannot take a new plan."""
+    out_dir = os.fspath(out_dir)
+    if os.path.exists(out_dir) and not os.path.isdir(out_dir):
+        raise PeriplanError(f"--out {out_dir}: exists and is not a folder")
+    found = existing_plan_files(out_dir)
+    if found and not force:
+        shown = ", ".join(found[:3]) + (", ..." if len(found) > 3 else "")
+        raise OutputExists(f"--out {out_dir}: already holds a plan ({shown}); add --force to replace it "
+                           "or choose another folder")
+
+
+def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = None, progress=None) -> list[str]:
+    """Write every file of ``plan`` into ``out_dir`` (created if needed); returns their paths.
+
+    ``progress``, when given, is called with the name of each file as it is made.
+    """
+    from . import charts, ical, sheets
+
+    out_dir = os.fspath(out_dir)
+    check_out_dir(out_dir, force)
+    os.makedirs(out_dir, exist_ok=True)
+    tz = plan.site.timezone
+    staging = tempfile.mkdtemp(prefix=".periplan-", dir=out_dir)
+    made = []
+
+    def path(name):
+        made.append(name)
+        if progress is not None:
+            progress(name)
+        return os.path.join(staging, name)
+
+    try:
+        schedule, nights = plan.schedule, plan.nights
+        sheets.write_schedule_csv(path("schedule.csv"), schedule, tz=tz)
+        for p in sheets.write_night_sheets(staging, schedule, nights, tz=tz, site_name=plan.site.name):
+            made.append(os.path.basename(p))
+        ical.write_ics(path("plan.ics"), schedule, site_name=plan.site.name)
+        charts.write_week_chart(path("week.png"), schedule, nights, tz=tz, title=f"{plan.site.name}: the week's plan")
+        for _, night in nights.iterrows():
+            blocks = schedule[schedule["night"].astype(str) == str(night["night"])]
+            if blocks.empty:
+                continue
+            _night_chart(plan, night, blocks, path(f"altitude-{night['night']}.png"))
+        for ti in sorted(set(schedule["target_index"].astype(int))) if len(schedule) else []:
+            target = plan.targets.iloc[ti]
+            if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
+                charts.write_rv_chart(path(f"rv-{safe_file_name(str(target['name']))}.png"), target,
+                                      schedule[schedule["target_index"] == ti])
+        if summary_text is not None:
+            with open(path("summary.txt"), "w", encoding="utf-8") as fh:
+                fh.write(summary_text)
+        final = []
+        for name in made:
+            os.replace(os.path.join(staging, name), os.path.join(out_dir, name))
+            final.append(os.path.join(out_dir, name))
+        return final
+    finally:
+        shutil.rmtree(staging, ignore_errors=True)
+
+
+def _night_chart(plan, night, blocks, path):
+    from . import charts
+
+    start = night["sunset_jd_utc"] if np.isfinite(night["sunset_jd_utc"]) else night["noon_jd_utc"]
+    end = night["sunrise_jd_utc"] if np.isfinite(night["sunrise_jd_utc"]) else night["next_noon_jd_utc"]
+    start, end = start - 1.0 / 24, end + 1.0 / 24
+    t = np.arange(start, end + CHART_STEP_D / 2, CHART_STEP_D)
+    order = list(dict.fromkeys(blocks["target_index"].astype(int)))
+    alt = plan.altitude_deg(np.array(order)[:, None], t[None, :])
+    names = [str(plan.targets["name"].iloc[i]) for i in order]
+    moon = plan.tracks.moon_altaz_deg(t)[0]
+    charts.write_night_chart(path, night, t, alt, names, blocks, plan.site.min_altitude_deg,
+                             tz=plan.site.timezone, title=f"{plan.site.name}, night of {night['night']}",
+                             moon_alt_deg=moon)
