@@ -202,28 +202,43 @@ def altaz_grid(ra_deg, dec_deg, jd_utc, latitude_deg: float, longitude_deg: floa
     return Horizontal(alt, az, ha)
 
 
+def cirs_places_at(ra_deg, dec_deg, jd_utc):
+    """CIRS (ra, dec) in rad of targets at times, elementwise (1-D arrays of one length).
+
+    One apparent place per day-long block of times; NaN where the time is NaN.
+    """
+    ra = np.asarray(ra_deg, float).ravel()
+    dec = np.asarray(dec_deg, float).ravel()
+    jd = np.asarray(jd_utc, float).ravel()
+    ri = np.full(jd.shape, np.nan)
+    di = np.full(jd.shape, np.nan)
+    ok = np.isfinite(jd)
+    if ok.any():
+        sel = np.flatnonzero(ok)
+        block, ids, mids_utc = _blocks(jd[ok])
+        for b, mid_tdb in zip(ids, utc_to_tdb_jd(mids_utc)):
+            idx = sel[block == b]
+            ri[idx], di[idx] = cirs_place(ra[idx], dec[idx], mid_tdb)
+    return ri, di
+
+
 def altaz_at(ra_deg, dec_deg, jd_utc, latitude_deg: float, longitude_deg: float) -> Horizontal:
     """Positions (:class:`Horizontal`) of targets at times, elementwise; inputs broadcast together.
 
     For the scheduler's altitude at block start/middle/end: one target and one time per element.
+    NaN where the time is NaN.
     """
     ra, dec, jd = np.broadcast_arrays(np.asarray(ra_deg, float), np.asarray(dec_deg, float),
                                       np.asarray(jd_utc, float))
     shape = jd.shape
-    ra, dec, jd = ra.ravel(), dec.ravel(), jd.ravel()
-    alt, az, ha = (np.full(jd.shape, np.nan) for _ in range(3))
-    ok = np.isfinite(jd)
+    ri, di = cirs_places_at(ra, dec, jd)
+    flat = jd.ravel()
+    era = np.full(flat.shape, np.nan)
+    ok = np.isfinite(flat)
     if ok.any():
-        era = earth_rotation_angle_rad(jd[ok])
-        block, ids, mids_utc = _blocks(jd[ok])
-        sel = np.flatnonzero(ok)
-        for b, mid_tdb in zip(ids, utc_to_tdb_jd(mids_utc)):
-            cols = block == b
-            idx = sel[cols]
-            ri, di = cirs_place(ra[idx], dec[idx], mid_tdb)
-            ha[idx], alt[idx], az[idx] = horizontal(ri, di, era[cols], latitude_deg, longitude_deg)
-    out = [a.reshape(shape) for a in (alt, az, ha)]
-    return Horizontal(out[0], out[1], out[2])
+        era[ok] = earth_rotation_angle_rad(flat[ok])
+    ha, alt, az = horizontal(ri, di, era, latitude_deg, longitude_deg)
+    return Horizontal(alt.reshape(shape), az.reshape(shape), ha.reshape(shape))
 
 
 def unit_vectors_rad(ra_rad, dec_rad):

@@ -376,11 +376,7 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
     era = visibility.earth_rotation_angle_rad(jd)
     sun_alt = np.where(covered, tracks.sun_altaz_deg(jd, era)[0], np.nan)
     # Moon separation in CIRS: target place at the event, the Moon's topocentric vector
-    tdb = visibility.utc_to_tdb_jd(jd)
-    tv = np.empty((n, 3))
-    for k in range(n):  # one apparent place per event; events are few
-        ri, di = visibility.cirs_place(ra[k:k + 1], dec[k:k + 1], tdb[k])
-        tv[k] = visibility.unit_vectors_rad(ri, di)[0]
+    tv = visibility.unit_vectors_rad(*visibility.cirs_places_at(ra, dec, jd))
     moon_sep = np.where(covered, visibility.separation_deg(tv, tracks.moon_vector(jd)), np.nan)
     illum = np.where(covered, tracks.moon_illumination(jd), np.nan)
     night_idx = night_of(jd, nights)

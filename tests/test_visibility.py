@@ -157,3 +157,8 @@ def test_refraction_against_astropy_erfa_model():
                                                obswl=0.55 * u.micron))
     ref = observed.alt.deg - alts
     assert np.max(np.abs(visibility.refraction_saemundsson_deg(alts) - ref)) < 0.003
+
+
+def test_nan_times_give_nan_positions_without_warnings():
+    pos = visibility.altaz_at([10.0, 20.0], [5.0, 6.0], [2461400.3, np.nan], 37.62, -3.12)
+    assert np.isfinite(pos.alt_deg[0]) and np.isnan(pos.alt_deg[1]) and np.isnan(pos.airmass[1])
