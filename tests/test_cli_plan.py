@@ -1,0 +1,159 @@
+"""``periplan plan`` and ``periplan demo`` end to end: files, their agreement, safety of outputs."""
+
+import filecmp
+import io
+import os
+import socket
+
+import numpy as np
+import pandas as pd
+import pytest
+from astropy.time import Time
+
+from conftest import REPO, SAMPLE_TARGETS
+from planner import cli, plan_files
+
+SITE = REPO / "sample_targets" / "site.toml"
+START = "2026-12-07"
+
+
+def run(args, capsys):
+    code = cli.main(args)
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+@pytest.fixture(scope="module")
+def demo_dir(tmp_path_factory):
+    out = tmp_path_factory.mktemp("plan") / "week"
+    assert cli.main(["plan", str(SAMPLE_TARGETS), "--site", str(SITE), "--start", START, "--nights", "7",
+                     "--out", str(out)]) == 0
+    return out
+
+
+def test_demo_data_in_the_package_is_the_sample_scenario():
+    assert filecmp.cmp(SAMPLE_TARGETS, REPO / "planner" / "data" / "demo_targets.csv", shallow=False)
+    assert filecmp.cmp(SITE, REPO / "planner" / "data" / "demo_site.toml", shallow=False)
+
+
+def test_files_written(demo_dir):
+    names = set(os.listdir(demo_dir))
+    nights = [f"2026-12-{d:02d}" for d in range(7, 14)]
+    expected = {"schedule.csv", "plan.ics", "week.png", "summary.txt"}
+    expected |= {f"night-{n}.{ext}" for n in nights for ext in ("txt", "html")}
+    assert expected <= names
+    assert not [n for n in names if n.startswith(".periplan-")]  # no staging left behind
+    for n in names:
+        assert (demo_dir / n).stat().st_size > 0
+    png = (demo_dir / "week.png").read_bytes()
+    assert png[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_schedule_blocks_do_not_overlap_and_hold_their_events(demo_dir):
+    sched = pd.read_csv(demo_dir / "schedule.csv")
+    for col in ("night", "start_utc", "end_utc", "start_local", "end_local", "target", "event", "event_utc",
+                "score", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg", "notes"):
+        assert col in sched.columns
+    start = Time(list(sched.start_utc.str.rstrip("Z")), scale="utc").jd
+    end = Time(list(sched.end_utc.str.rstrip("Z")), scale="utc").jd
+    overhead_d = 10 / 1440  # the default setup/slew time
+    for night, rows in sched.assign(s=start, e=end).groupby("night"):
+        rows = rows.sort_values("s")
+        assert np.all(rows.s.to_numpy()[1:] >= rows.e.to_numpy()[:-1] + overhead_d - 1.5 / 86400)
+    fixed = sched[sched.kind == "fixed"]
+    ev = Time(list(fixed.event_utc.str.rstrip("Z")), scale="utc").jd
+    fs, fe = start[fixed.index], end[fixed.index]
+    assert np.all((ev >= fs - 1 / 86400) & (ev <= fe + 1 / 86400))
+    # the altitude limit of the site (30 deg) holds at every block's start, middle and end
+    assert (sched[["alt_start_deg", "alt_mid_deg", "alt_end_deg"]] >= 30 - 0.05).all().all()
+
+
+def test_event_times_agree_with_periplan_events(demo_dir, capsys):
+    sched = pd.read_csv(demo_dir / "schedule.csv")
+    code, out, _ = run(["events", str(SAMPLE_TARGETS), "--start", START, "--days", "8", "--format", "csv"], capsys)
+    events = pd.read_csv(io.StringIO(out))
+    fixed = sched[sched.kind == "fixed"]
+    merged = fixed.merge(events, left_on=["target", "event", "event_utc"], right_on=["target", "event", "utc"])
+    assert len(merged) == len(fixed)
+
+
+def test_calendar_has_one_event_per_block(demo_dir):
+    import icalendar
+
+    cal = icalendar.Calendar.from_ical((demo_dir / "plan.ics").read_bytes())
+    vevents = [c for c in cal.walk() if c.name == "VEVENT"]
+    sched = pd.read_csv(demo_dir / "schedule.csv")
+    assert len(vevents) == len(sched)
+    starts = sorted(v.decoded("dtstart").strftime("%Y-%m-%dT%H:%M:%SZ") for v in vevents)
+    assert starts == sorted(sched.start_utc)
+
+
+def test_sheets_carry_the_caution(demo_dir):
+    for name in os.listdir(demo_dir):
+        if name.startswith("night-"):
+            text = (demo_dir / name).read_text()
+            assert "Never point the telescope at or near the Sun" in text
+            assert "local regulations" in text
+
+
+def test_existing_plan_is_not_overwritten_without_force(demo_dir, capsys):
+    before = {n: (demo_dir / n).stat().st_mtime_ns for n in os.listdir(demo_dir)}
+    code, out, err = run(["plan", str(SAMPLE_TARGETS), "--site", str(SITE), "--start", START, "--nights", "2",
+                          "--out", str(demo_dir)], capsys)
+    assert code == 2 and "already holds a plan" in err and "--force" in err
+    assert before == {n: (demo_dir / n).stat().st_mtime_ns for n in os.listdir(demo_dir)}
+
+
+def test_force_replaces_and_interrupted_run_keeps_previous(tmp_path, monkeypatch, capsys):
+    out = tmp_path / "p"
+    args = ["plan", str(SAMPLE_TARGETS), "--site", str(SITE), "--start", START, "--nights", "2", "--out", str(out)]
+    assert run(args, capsys)[0] == 0
+    original = (out / "schedule.csv").read_bytes()
+    from planner import charts
+
+    def interrupted(*a, **k):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(charts, "write_week_chart", interrupted)
+    code, _, err = run(args + ["--force", "--nights", "3"], capsys)
+    assert code == 130 and "nothing was written" in err
+    assert (out / "schedule.csv").read_bytes() == original
+    assert not [n for n in os.listdir(out) if n.startswith(".periplan-")]
+    monkeypatch.undo()
+    assert run(args + ["--force", "--nights", "3"], capsys)[0] == 0
+    assert (out / "schedule.csv").read_bytes() != original
+
+
+def test_bad_site_stops_before_writing(tmp_path, capsys):
+    site = tmp_path / "bad.toml"
+    site.write_text('name = "X"\nlatitude_deg = 95\nlongitude_deg = 0\nelevation_m = 0\ntimezone = "UTC"\n')
+    out = tmp_path / "never"
+    code, _, err = run(["plan", str(SAMPLE_TARGETS), "--site", str(site), "--out", str(out)], capsys)
+    assert code == 2 and "bad.toml" in err and "latitude_deg" in err
+    assert not out.exists()
+
+
+def test_week_without_darkness_says_so(tmp_path, capsys):
+    # 78.2 N in mid-June: the Sun never sets (polar day), so there is no dark time at all.
+    site = tmp_path / "arctic.toml"
+    site.write_text('name = "High Arctic test site"\nlatitude_deg = 78.2\nlongitude_deg = 15.6\n'
+                    'elevation_m = 10\ntimezone = "Arctic/Longyearbyen"\n')
+    out = tmp_path / "summer"
+    code, stdout, _ = run(["plan", str(SAMPLE_TARGETS), "--site", str(site), "--start", "2027-06-15",
+                           "--nights", "3", "--out", str(out)], capsys)
+    assert code == 0
+    assert "Nothing can be scheduled" in stdout
+    assert stdout.count("no darkness") == 3
+    assert len(pd.read_csv(out / "schedule.csv")) == 0
+
+
+def test_whole_flow_runs_offline(tmp_path, monkeypatch, capsys):
+    # Any attempt to open a network connection fails the test.
+    def refuse(*args, **kwargs):
+        raise AssertionError(f"network access attempted: {args}")
+
+    monkeypatch.setattr(socket.socket, "connect", refuse)
+    monkeypatch.setattr(socket, "create_connection", refuse)
+    code, out, err = run(["demo", "--start", START, "--nights", "2", "--out", str(tmp_path / "d")], capsys)
+    assert code == 0, err
+    assert "files in" in out
