@@ -87,6 +87,7 @@ def run(args) -> int:
         formats.update({"alt_deg": ".1f", "moon_sep_deg": ".1f", "observable_fraction": ".2f"})
     sys.stdout.write(render(table, args.format, formats))
     if args.format == "table":
+        sys.stdout.flush()  # the summary line on stderr comes after the table
         print(f"{len(table)} events of {table['target'].nunique() if len(table) else 0} targets "
               f"from {start_utc.isot[:16]}Z to {end_utc.isot[:16]}Z", file=sys.stderr)
     return 0

@@ -84,6 +84,7 @@ def run(args) -> int:
     sys.stdout.write(render(table, args.format, {"dark_h": ".2f", "moon_illumination": ".3f",
                                                  "moon_up_dark_h": ".2f"}))
     if args.format == "table":
+        sys.stdout.flush()  # the summary line on stderr comes after the table
         print(f"{len(table)} nights at {site.name} ({site.timezone}); dark = Sun's centre below "
               f"{site.darkness_sun_alt_deg:g} deg. Never point a telescope near the Sun; the observatory's "
               "own safety rules and local regulations come first.", file=sys.stderr)
