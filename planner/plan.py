@@ -108,12 +108,17 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
             progress(name)
 
     stage("nights")
-    tracks = night_mod.tracks_for_nights(site, first_night, n_nights)
+    _, noons = night_mod.solar_noons_jd_utc(first_night, n_nights, site.timezone, site.longitude_deg)
+    span_utc = (float(noons.min()) - EVENT_MARGIN_D, float(noons.max()) + 1.0 + EVENT_MARGIN_D)
+    # Sun and Moon tracks reach past the nights by the event margin (plus the light time), so that
+    # events just outside the week can still be placed
+    tracks = visibility.sky_tracks(site.latitude_deg, site.longitude_deg, site.elevation_m,
+                                   span_utc[0] - 0.05, span_utc[1] + 0.05)
     nights = night_mod.night_table(site, first_night, n_nights, tracks=tracks)
 
     stage("events")
-    span = Time([nights["noon_jd_utc"].min(), nights["next_noon_jd_utc"].max()], format="jd", scale="utc").tdb.jd
-    events = predict_events(targets, span[0] - EVENT_MARGIN_D, span[1] + EVENT_MARGIN_D)
+    span = Time(list(span_utc), format="jd", scale="utc").tdb.jd
+    events = predict_events(targets, span[0], span[1])
 
     stage("intervals")
     intervals = windows.observable_intervals(targets, site, nights, tracks=tracks)
