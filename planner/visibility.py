@@ -297,6 +297,11 @@ class SkyTracks:
 
     def _interp(self, table, jd_utc):
         jd = np.asarray(jd_utc, dtype=float)
+        if jd.size and np.any(np.isfinite(jd)):
+            lo, hi = np.nanmin(jd), np.nanmax(jd)
+            if lo < self.jd_utc[1] - 1e-9 or hi > self.jd_utc[-2] + 1e-9:
+                raise ValueError(f"times JD {lo:.4f}..{hi:.4f} (UTC) outside the Sun/Moon tracks "
+                                 f"{self.jd_utc[1]:.4f}..{self.jd_utc[-2]:.4f}; build sky_tracks for the span")
         x = (jd - self.jd_utc[0]) / self.step_d
         i = np.clip(np.floor(x).astype(int), 1, self.jd_utc.size - 3)
         f = (x - i)[..., None]

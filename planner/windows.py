@@ -372,13 +372,18 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
     w0, w1 = jd - half_d, jd + half_d
 
     pos = visibility.altaz_at(ra, dec, jd, site.latitude_deg, site.longitude_deg)
-    covered = (jd >= tracks.jd_utc[0]) & (jd <= tracks.jd_utc[-1])
-    era = visibility.earth_rotation_angle_rad(jd)
-    sun_alt = np.where(covered, tracks.sun_altaz_deg(jd, era)[0], np.nan)
-    # Moon separation in CIRS: target place at the event, the Moon's topocentric vector
-    tv = visibility.unit_vectors_rad(*visibility.cirs_places_at(ra, dec, jd))
-    moon_sep = np.where(covered, visibility.separation_deg(tv, tracks.moon_vector(jd)), np.nan)
-    illum = np.where(covered, tracks.moon_illumination(jd), np.nan)
+    covered = (jd >= tracks.jd_utc[1]) & (jd <= tracks.jd_utc[-2])
+    sun_alt = np.full(n, np.nan)
+    moon_sep = np.full(n, np.nan)
+    illum = np.full(n, np.nan)
+    if covered.any():
+        jc = jd[covered]
+        era = tracks.era_rad(jc)
+        sun_alt[covered] = tracks.sun_altaz_deg(jc, era)[0]
+        # Moon separation in CIRS: the target's place at the event, the Moon's topocentric vector
+        tv = visibility.unit_vectors_rad(*visibility.cirs_places_at(ra[covered], dec[covered], jc))
+        moon_sep[covered] = visibility.separation_deg(tv, tracks.moon_vector(jc, era))
+        illum[covered] = tracks.moon_illumination(jc)
     night_idx = night_of(jd, nights)
     labels = nights["night"].to_numpy(object)
     night = pd.array([labels[i] if i >= 0 else pd.NA for i in night_idx], dtype="string")
