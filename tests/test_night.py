@@ -243,3 +243,27 @@ def test_solar_noon_windows_start_near_local_noon():
     frac = (noons + 0.5) % 1.0
     assert np.all(np.abs(frac * 24 - (12 + 3.12 / 15)) < 1e-6)
     assert labels == ["2026-10-24", "2026-10-25", "2026-10-26"]
+
+
+def test_shared_crossing_search_on_a_known_function():
+    # sin(2 pi (t - shift)) crosses zero exactly at t = shift + k / 2, rising at whole k
+    from planner.crossings import DEFAULT_TOLERANCE_D, find_crossings, positive_intervals
+
+    shift = np.array([0.0, 0.1])
+
+    def func(t, rows):
+        return np.sin(2 * np.pi * (t - shift[rows]))
+
+    grid = np.linspace(0.03, 2.03, 97)
+    values = np.stack([func(grid, np.full(grid.size, r)) for r in (0, 1)])
+    rows, jd, rising = find_crossings(func, grid, values)
+    expected = {0: ([0.5, 1.0, 1.5, 2.0], [False, True, False, True]),
+                1: ([0.1, 0.6, 1.1, 1.6], [True, False, True, False])}
+    for r, (times, ups) in expected.items():
+        assert np.max(np.abs(jd[rows == r] - times)) <= DEFAULT_TOLERANCE_D
+        assert list(rising[rows == r]) == ups
+    r, start, end = positive_intervals(rows, jd, rising, values[:, 0] > 0, values[:, -1] > 0, grid[[0, 0]],
+                                       grid[[-1, -1]])
+    assert list(r) == [0, 0, 0, 1, 1]
+    want = [(0.03, 0.5), (1.0, 1.5), (2.0, 2.03), (0.1, 0.6), (1.1, 1.6)]
+    assert np.max(np.abs(np.c_[start, end] - np.array(want))) <= DEFAULT_TOLERANCE_D
