@@ -31,19 +31,32 @@ DPI = 110
 _HOURS_PER_DAY = 24.0
 
 
-def _figure(width_in, height_in):
+#: zlib level of the PNG files: 1 encodes several times faster than the default 6 for files
+#: about a quarter larger (measured in bench/bench_plan.py's charts stage).
+PNG_COMPRESS_LEVEL = 1
+
+
+def _figure(width_in, height_in, margins_in=(0.75, 0.3, 0.45, 0.5)):
+    """A Figure on its own Agg canvas with fixed margins (left, right, top, bottom) in inches.
+
+    Fixed margins instead of a layout engine: the charts' furniture is known in advance, and a
+    constrained layout costs about as much as drawing the chart twice.
+    """
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
-    fig = Figure(figsize=(width_in, height_in), dpi=DPI, layout="constrained")
+    fig = Figure(figsize=(width_in, height_in), dpi=DPI)
     FigureCanvasAgg(fig)
+    left, right, top, bottom = margins_in
+    fig.subplots_adjust(left=left / width_in, right=1 - right / width_in, top=1 - top / height_in,
+                        bottom=bottom / height_in)
     return fig
 
 
 def save_png(fig, path):
     """Write ``fig`` as PNG to ``path`` atomically, then release the figure; returns ``path``."""
     with atomic_write(path, "wb") as fh:
-        fig.savefig(fh, format="png", dpi=DPI)
+        fig.savefig(fh, format="png", dpi=DPI, pil_kwargs={"compress_level": PNG_COMPRESS_LEVEL})
     fig.clear()
     return path
 
@@ -126,7 +139,7 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
         raise PeriplanError(f"altitude array has shape {alt.shape}; expected ({len(names)}, {t.size})")
     ref = _label_day_jd_utc(night["night"])
     x = (t - ref) * _HOURS_PER_DAY
-    fig = _figure(10.0, 5.2)
+    fig = _figure(10.0, 5.2, margins_in=(0.7, 2.45, 0.75, 0.55))
     ax = fig.add_subplot()
     lo_h, hi_h = (float(x.min()), float(x.max())) if x.size else (12.0, 36.0)
     _shade_night(ax, night, ref, lo_h, hi_h)
@@ -195,7 +208,7 @@ def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = N
     """
     labels = list(nights["night"].astype(str))
     n = len(labels)
-    fig = _figure(10.0, 1.0 + 0.55 * max(n, 1))
+    fig = _figure(10.0, 1.0 + 0.55 * max(n, 1), margins_in=(1.05, 0.2, 0.35, 0.5))
     ax = fig.add_subplot()
     targets = sorted(set(schedule["target"].astype(str))) if len(schedule) else []
     colour = {nm: PALETTE[i % len(PALETTE)] for i, nm in enumerate(targets)}
@@ -266,7 +279,7 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600):
     w = np.radians(w_deg)
     phase = np.linspace(0.0, 1.0, n_phase)
     rv = orbit.radial_velocity(tp + phase * p, tp, p, e, w, k if known_k else 1.0, gamma)
-    fig = _figure(8.0, 4.2)
+    fig = _figure(8.0, 4.2, margins_in=(0.85, 0.2, 0.35, 0.55))
     ax = fig.add_subplot()
     ax.plot(phase, rv, color=PALETTE[0], lw=1.6, label="RV of the primary", gid="curve")
     ph_events = orbit.event_phases(e, w)

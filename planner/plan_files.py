@@ -10,6 +10,7 @@ Files (all in ``out_dir``):
 ``rv-TARGET.png``              RV over orbital phase of each scheduled eccentric target with K
 ``plan.ics``                   one calendar event per block (:mod:`planner.ical`)
 ``summary.txt``                the terminal summary
+``unobservable.csv``           targets that never rise high enough at the site, with the reason
 =============================  ===============================================================
 
 Nothing is half-written: every file is first made in a temporary folder beside ``out_dir`` and
@@ -31,7 +32,7 @@ from .errors import PeriplanError
 
 #: Sample step (days) of the altitude curves in the night charts: 5 minutes.
 CHART_STEP_D = 5.0 / 1440.0
-FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt")
+FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt", "unobservable.csv")
 _PLAN_FILE = re.compile(r"^(night-\d{4}-\d{2}-\d{2}\.(txt|html)|altitude-\d{4}-\d{2}-\d{2}\.png|rv-.+\.png)$")
 
 
@@ -102,6 +103,12 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
             if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
                 charts.write_rv_chart(path(f"rv-{safe_file_name(str(target['name']))}.png"), target,
                                       schedule[schedule["target_index"] == ti])
+        if len(plan.never_rising):
+            from .output import render
+
+            with open(path("unobservable.csv"), "w", encoding="utf-8", newline="") as fh:
+                fh.write(render(plan.never_rising.drop(columns="target_index"), "csv",
+                                {"culmination_alt_deg": ".2f", "limit_deg": ".2f"}))
         if summary_text is not None:
             with open(path("summary.txt"), "w", encoding="utf-8") as fh:
                 fh.write(summary_text)

@@ -89,14 +89,11 @@ def run_plan(catalog, site_path, args) -> int:
     first = first_night_for(args.start, site.timezone)
     bar = ProgressBar(len(STAGES) + 1)
     plan = make_plan(targets, site, first, args.nights, settings, progress=bar)
-    for row in plan.never_rising.itertuples():
-        bar.done()
-        print(f"periplan: warning: {row.target} never rises high enough at {site.name}: {row.reason}",
-              file=sys.stderr)
     summary = sheets.week_summary_text(plan.schedule, plan.nights, tz=site.timezone)
     bar("writing files")
     paths = plan_files.write_plan(plan, args.out, force=args.force, summary_text=summary)
     bar.done()
+    report_never_rising(plan.never_rising, site.name, args.out)
     sys.stdout.write(summary)
     if plan.schedule.empty:
         print("Nothing can be scheduled in these nights (see the nightly lists for darkness and limits).")
@@ -105,6 +102,22 @@ def run_plan(catalog, site_path, args) -> int:
     print("Never point the telescope at or near the Sun; the observatory's own safety rules and local "
           "regulations come first.")
     return 0
+
+
+#: Up to this many targets that never rise get a warning line each; more get one line in all.
+MAX_WARNING_LINES = 10
+
+
+def report_never_rising(table, site_name: str, out_dir: str) -> None:
+    """Warn on stderr about targets that can never be observed from the site (none dropped silently)."""
+    if len(table) <= MAX_WARNING_LINES:
+        for row in table.itertuples():
+            print(f"periplan: warning: {row.target} never rises high enough at {site_name}: {row.reason}",
+                  file=sys.stderr)
+        return
+    first = table.iloc[0]
+    print(f"periplan: warning: {len(table)} targets never rise high enough at {site_name} (e.g. "
+          f"{first['target']}: {first['reason']}); all are listed in {out_dir}/unobservable.csv", file=sys.stderr)
 
 
 def run(args) -> int:

@@ -1,0 +1,76 @@
+"""The whole ``periplan plan`` (charts included) against astroplan's observability table.
+
+Run: ``python bench/bench_plan.py [--targets 3000] [--nights 7] [--repeat 3]``. Both sides run as
+processes of their own (imports included), alternating, on the same random catalogue and the same
+constraints: minimum altitude 30 deg, astronomical darkness, Moon separation 15 deg, at the
+invented benchmark site (37.62 N, 3.12 W). The reference process is bench/astroplan_week.py.
+Prints each run's wall time, the medians and their ratio (above 1: periplan is faster).
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import pathlib
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+
+HERE = pathlib.Path(__file__).resolve().parent
+SITE = """name = "Benchmark site (invented)"
+latitude_deg = 37.62
+longitude_deg = -3.12
+elevation_m = 1650
+timezone = "Europe/Madrid"
+min_altitude_deg = 30
+darkness = "astronomical"
+moon_min_separation_deg = 15
+"""
+
+
+def timed(cmd):
+    t0 = time.perf_counter()
+    proc = subprocess.run(cmd, capture_output=True, text=True)
+    wall = time.perf_counter() - t0
+    if proc.returncode != 0:
+        sys.exit(f"failed: {' '.join(cmd)}\n{proc.stderr[-2000:]}")
+    return wall
+
+
+def main(argv=None):
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--targets", type=int, default=3000)
+    parser.add_argument("--nights", type=int, default=7)
+    parser.add_argument("--repeat", type=int, default=3)
+    parser.add_argument("--start", default="2026-12-07")
+    args = parser.parse_args(argv)
+    sys.path.insert(0, str(HERE))
+    from bench_events import random_catalogue
+
+    with tempfile.TemporaryDirectory() as tmp:
+        cat = os.path.join(tmp, "targets.csv")
+        site = os.path.join(tmp, "site.toml")
+        with open(cat, "w") as fh:
+            fh.write(random_catalogue(args.targets, seed=1))
+        with open(site, "w") as fh:
+            fh.write(SITE)
+        ours = [sys.executable, "-m", "planner", "plan", cat, "--site", site, "--start", args.start,
+                "--nights", str(args.nights), "--out", os.path.join(tmp, "plan"), "--force"]
+        ref = [sys.executable, str(HERE / "astroplan_week.py"), cat, site, args.start, str(args.nights)]
+        times = {"periplan plan": [], "astroplan observability_table": []}
+        for i in range(args.repeat):
+            for name, cmd in (("periplan plan", ours), ("astroplan observability_table", ref)):
+                times[name].append(timed(cmd))
+                print(f"run {i + 1} {name:32s} {times[name][-1]:7.2f} s", flush=True)
+        med = {k: statistics.median(v) for k, v in times.items()}
+        files = len(os.listdir(os.path.join(tmp, "plan")))
+    print(f"{args.targets} targets x {args.nights} nights; periplan wrote {files} files")
+    for k, v in med.items():
+        print(f"median {k:32s} {v:7.2f} s")
+    print(f"ratio astroplan / periplan = {med['astroplan observability_table'] / med['periplan plan']:.2f}")
+
+
+if __name__ == "__main__":
+    main()
