@@ -76,8 +76,9 @@ KNOWN_KEYS = REQUIRED_KEYS + OPTIONAL_KEYS
 class Site:
     """An observing site and its limits; angles in degrees, hour angles in hours.
 
-    ``horizon_az_deg`` / ``horizon_alt_deg`` are the horizon profile sorted by azimuth (north
-    through east, 0 <= az < 360); empty tuples mean a flat horizon. ``darkness_sun_alt_deg`` is
+    ``horizon_az_deg`` / ``horizon_alt_deg`` are the horizon profile as given: increasing azimuth
+    (north through east, 0 <= az < 360), possibly starting west of north and wrapping through it
+    once; empty tuples mean a flat horizon. ``darkness_sun_alt_deg`` is
     the Sun-centre altitude below which the sky counts as dark. Optional limits are ``None``
     when the site sets none.
     """
@@ -147,7 +148,7 @@ def read_site(path) -> Site:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as exc:
         raise InputErrors([InputError(f"not UTF-8 text (byte {exc.start}); save the site file as UTF-8 TOML",
-                                      file=name)]) from None
+                                      file=os.path.basename(name))]) from None
     return parse_site(text, source=os.path.basename(name))
 
 
@@ -169,7 +170,7 @@ def _number(data, key, source, errors, default=None, lo=None, hi=None, expected=
 
 
 def _horizon(value, source, errors):
-    """(az tuple, alt tuple) sorted by azimuth from a list of [az, alt] pairs."""
+    """(az tuple, alt tuple) from a list of [az, alt] pairs given in increasing azimuth."""
     bad = InputError(
         "malformed horizon profile; expected a list of [azimuth_deg, altitude_deg] pairs with "
         "0 <= azimuth < 360 (each azimuth once) and -5 <= altitude <= 90, e.g. [[0, 5], [90, 18]]",
@@ -190,11 +191,20 @@ def _horizon(value, source, errors):
                                               "range; " + bad.message.split("; ", 1)[1]))
             return (), ()
         pairs.append((az, alt))
-    pairs.sort()
     azs = [p[0] for p in pairs]
     if len(set(azs)) != len(azs):
         errors.append(dataclasses.replace(bad, message="horizon profile gives the same azimuth twice; "
                                           + bad.message.split("; ", 1)[1]))
+        return (), ()
+    # points go round once in increasing azimuth, possibly starting west of north ([350, 10, 90]);
+    # anything else is refused rather than sorted: a swapped pair is the likely cause
+    descents = [i for i in range(1, len(azs)) if azs[i] < azs[i - 1]]
+    wraps_once = len(descents) == 1 and azs[-1] < azs[0]
+    back = None if not descents or wraps_once else descents[-1 if len(descents) == 1 else 1]
+    if back is not None:
+        errors.append(dataclasses.replace(bad, message=(
+            f"horizon point [{value[back][0]}, {value[back][1]}] comes after azimuth {value[back - 1][0]}; "
+            "list the points in increasing azimuth from north through east, e.g. [[0, 5], [90, 18], [200, 6]]")))
         return (), ()
     return tuple(azs), tuple(p[1] for p in pairs)
 

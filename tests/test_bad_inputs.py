@@ -10,6 +10,7 @@ from conftest import REPO
 from planner import cli
 
 BAD_CATALOGUES = REPO / "tests" / "data" / "bad_catalogues"
+BAD_SITES = REPO / "tests" / "data" / "bad_sites"
 
 #: file -> (row, column, what the message must say); row/column None where the file has none.
 CATALOGUE_EXPECTED = {
@@ -54,10 +55,45 @@ CATALOGUE_EXPECTED = {
 }
 
 
+#: site file -> (key, what the message must say)
+SITE_EXPECTED = {
+    "latitude_beyond_pole.toml": ("latitude_deg", "95 is out of range; expected a latitude in degrees"),
+    "latitude_text.toml": ("latitude_deg", "'north' is not a number"),
+    "unknown_timezone.toml": ("timezone", "unknown time zone 'Europe/Atlantis'"),
+    "missing_timezone.toml": ("timezone", "missing required key"),
+    "missing_name.toml": ("name", "missing required key"),
+    "min_altitude_too_high.toml": ("min_altitude_deg", "95 is out of range"),
+    "min_altitude_too_low.toml": ("min_altitude_deg", "-10 is out of range"),
+    "horizon_out_of_order.toml": ("horizon", "horizon point [90, 20] comes after azimuth 180"),
+    "horizon_not_pairs.toml": ("horizon", "malformed horizon profile"),
+    "horizon_altitude_beyond_zenith.toml": ("horizon", "horizon point [90, 95] is out of range"),
+    "darkness_unknown_name.toml": ("darkness", "'pitch black' is not a darkness"),
+    "unknown_key.toml": ("min_altitud_deg", "did you mean 'min_altitude_deg'?"),
+    "not_toml.toml": (None, "not valid TOML"),
+    "empty.toml": ("name", "missing required key"),
+    "max_airmass_below_one.toml": ("max_airmass", "0.8 is out of range"),
+    "binary_junk.toml": (None, "not UTF-8 text"),
+}
+
+
 def test_corpus_is_complete():
     on_disk = {p.name for p in BAD_CATALOGUES.iterdir()}
     assert on_disk == set(CATALOGUE_EXPECTED)
-    assert len(on_disk) >= 30
+    assert {p.name for p in BAD_SITES.iterdir()} == set(SITE_EXPECTED)
+    assert len(on_disk) + len(SITE_EXPECTED) >= 30
+
+
+@pytest.mark.parametrize("name", sorted(SITE_EXPECTED))
+def test_bad_site(name, tmp_path, capsys):
+    key, text = SITE_EXPECTED[name]
+    out = tmp_path / "plan"
+    code = cli.main(["plan", str(REPO / "sample_targets" / "targets.csv"), "--site", str(BAD_SITES / name),
+                     "--start", "2026-12-07", "--nights", "1", "--out", str(out)])
+    stdout, err = capsys.readouterr()
+    assert code == 2 and stdout == "" and not out.exists()
+    lines = err.strip().splitlines()
+    where = f"periplan: error: {name}" + (f", key {key}:" if key else ":")
+    assert any(line.startswith(where) and text in line for line in lines), lines
 
 
 @pytest.mark.parametrize("name", sorted(CATALOGUE_EXPECTED))
