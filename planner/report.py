@@ -34,3 +34,21 @@ def events_frame(events: pd.DataFrame, targets: pd.DataFrame, start_utc, end_utc
     out["sigma_min"] = events["sigma_d"].to_numpy(float) * 1440.0
     out["duration_h"] = events["duration_d"].to_numpy(float) * 24.0
     return out
+
+
+#: Up to this many targets that never rise get a warning line each; more get one line in all.
+MAX_WARNING_LINES = 10
+
+
+def never_rising_lines(table: pd.DataFrame, site_name: str, listed_in: str | None = None) -> list[str]:
+    """Warning lines for targets that can never be observed from the site (none is dropped silently).
+
+    One line per target up to :data:`MAX_WARNING_LINES`, else one line that counts them and
+    names the first, and ``listed_in`` (a file holding them all) when given.
+    """
+    if len(table) <= MAX_WARNING_LINES:
+        return [f"{row.target} never rises high enough at {site_name}: {row.reason}" for row in table.itertuples()]
+    first = table.iloc[0]
+    where = f"; all are listed in {listed_in}" if listed_in else ""
+    return [f"{len(table)} targets never rise high enough at {site_name} (e.g. {first['target']}: "
+            f"{first['reason']}){where}"]

@@ -99,13 +99,13 @@ def _with_visibility(events, targets, site, start_utc, end_utc, tz, args):
 
     from .. import timescales
     from ..night import night_table, tracks_for_nights
-    from ..report import events_frame
+    from ..report import events_frame, never_rising_lines
     from ..spans import zone
     from ..windows import DEFAULT_BASELINE_H, DEFAULT_K_SIGMA, event_visibility, never_rising
 
-    for row in never_rising(targets, site).itertuples():
-        print(f"periplan: warning: {row.target} never rises high enough at {site.name}: {row.reason}; "
-              "its events are listed with observable_fraction 0", file=sys.stderr)
+    for line in never_rising_lines(never_rising(targets, site), site.name):
+        print(f"periplan: warning: {line}; events that cannot be seen are listed with "
+              "observable_fraction 0", file=sys.stderr)
     # the events that events_frame will keep, filtered the same way (so rows line up)
     if len(events):
         idx = events["target_index"].to_numpy()

@@ -78,6 +78,7 @@ def run_plan(catalog, site_path, args) -> int:
     from .. import catalogue, plan_files, sheets, spans
     from ..plan import STAGES, first_night_for, make_plan
     from ..progress import ProgressBar
+    from ..report import never_rising_lines
     from ..site import read_site
 
     settings = settings_from(args)
@@ -93,7 +94,8 @@ def run_plan(catalog, site_path, args) -> int:
     bar("writing files")
     paths = plan_files.write_plan(plan, args.out, force=args.force, summary_text=summary)
     bar.done()
-    report_never_rising(plan.never_rising, site.name, args.out)
+    for line in never_rising_lines(plan.never_rising, site.name, f"{args.out}/unobservable.csv"):
+        print(f"periplan: warning: {line}", file=sys.stderr)
     sys.stdout.write(summary)
     if plan.schedule.empty:
         print("Nothing can be scheduled in these nights (see the nightly lists for darkness and limits).")
@@ -102,22 +104,6 @@ def run_plan(catalog, site_path, args) -> int:
     print("Never point the telescope at or near the Sun; the observatory's own safety rules and local "
           "regulations come first.")
     return 0
-
-
-#: Up to this many targets that never rise get a warning line each; more get one line in all.
-MAX_WARNING_LINES = 10
-
-
-def report_never_rising(table, site_name: str, out_dir: str) -> None:
-    """Warn on stderr about targets that can never be observed from the site (none dropped silently)."""
-    if len(table) <= MAX_WARNING_LINES:
-        for row in table.itertuples():
-            print(f"periplan: warning: {row.target} never rises high enough at {site_name}: {row.reason}",
-                  file=sys.stderr)
-        return
-    first = table.iloc[0]
-    print(f"periplan: warning: {len(table)} targets never rise high enough at {site_name} (e.g. "
-          f"{first['target']}: {first['reason']}); all are listed in {out_dir}/unobservable.csv", file=sys.stderr)
 
 
 def run(args) -> int:
