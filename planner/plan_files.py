@@ -66,12 +66,15 @@ def check_out_dir(out_dir, force: bool) -> None:
                            "or choose another folder")
 
 
-def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = None, progress=None) -> list[str]:
+def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = None, progress=None,
+               workers: int | None = None) -> list[str]:
     """Write every file of ``plan`` into ``out_dir`` (created if needed); returns their paths.
 
-    ``progress``, when given, is called with the name of each file as it is made.
+    ``progress``, when given, is called with the name of each file as it is made. Charts are
+    drawn by up to ``workers`` processes (default: two where the machine has two cores and can
+    fork, else one); the plan is the same either way.
     """
-    from . import charts, ical, sheets
+    from . import ical, sheets
 
     out_dir = os.fspath(out_dir)
     check_out_dir(out_dir, force)
@@ -92,17 +95,6 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
         for p in sheets.write_night_sheets(staging, schedule, nights, tz=tz, site_name=plan.site.name):
             made.append(os.path.basename(p))
         ical.write_ics(path("plan.ics"), schedule, site_name=plan.site.name)
-        charts.write_week_chart(path("week.png"), schedule, nights, tz=tz, title=f"{plan.site.name}: the week's plan")
-        for _, night in nights.iterrows():
-            blocks = schedule[schedule["night"].astype(str) == str(night["night"])]
-            if blocks.empty:
-                continue
-            _night_chart(plan, night, blocks, path(f"altitude-{night['night']}.png"))
-        for ti in sorted(set(schedule["target_index"].astype(int))) if len(schedule) else []:
-            target = plan.targets.iloc[ti]
-            if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
-                charts.write_rv_chart(path(f"rv-{safe_file_name(str(target['name']))}.png"), target,
-                                      schedule[schedule["target_index"] == ti])
         if len(plan.never_rising):
             from .output import render
 
@@ -112,6 +104,7 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
         if summary_text is not None:
             with open(path("summary.txt"), "w", encoding="utf-8") as fh:
                 fh.write(summary_text)
+        _draw(chart_jobs(plan, path), workers)
         final = []
         for name in made:
             os.replace(os.path.join(staging, name), os.path.join(out_dir, name))
@@ -121,17 +114,60 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
         shutil.rmtree(staging, ignore_errors=True)
 
 
-def _night_chart(plan, night, blocks, path):
+def chart_jobs(plan, path) -> list[tuple]:
+    """The plan's charts as ``(writer, args, kwargs)`` jobs; ``path(name)`` gives each file's path.
+
+    The astronomy (altitude curves) is done here, so a job only draws.
+    """
     from . import charts
 
-    start = night["sunset_jd_utc"] if np.isfinite(night["sunset_jd_utc"]) else night["noon_jd_utc"]
-    end = night["sunrise_jd_utc"] if np.isfinite(night["sunrise_jd_utc"]) else night["next_noon_jd_utc"]
-    start, end = start - 1.0 / 24, end + 1.0 / 24
-    t = np.arange(start, end + CHART_STEP_D / 2, CHART_STEP_D)
-    order = list(dict.fromkeys(blocks["target_index"].astype(int)))
-    alt = plan.altitude_deg(np.array(order)[:, None], t[None, :])
-    names = [str(plan.targets["name"].iloc[i]) for i in order]
-    moon = plan.tracks.moon_altaz_deg(t)[0]
-    charts.write_night_chart(path, night, t, alt, names, blocks, plan.site.min_altitude_deg,
-                             tz=plan.site.timezone, title=f"{plan.site.name}, night of {night['night']}",
-                             moon_alt_deg=moon)
+    schedule, nights, tz = plan.schedule, plan.nights, plan.site.timezone
+    jobs = [(charts.write_week_chart, (path("week.png"), schedule, nights),
+             {"tz": tz, "title": f"{plan.site.name}: the week's plan"})]
+    for _, night in nights.iterrows():
+        blocks = schedule[schedule["night"].astype(str) == str(night["night"])]
+        if blocks.empty:
+            continue
+        start = night["sunset_jd_utc"] if np.isfinite(night["sunset_jd_utc"]) else night["noon_jd_utc"]
+        end = night["sunrise_jd_utc"] if np.isfinite(night["sunrise_jd_utc"]) else night["next_noon_jd_utc"]
+        t = np.arange(start - 1.0 / 24, end + 1.0 / 24 + CHART_STEP_D / 2, CHART_STEP_D)
+        order = list(dict.fromkeys(blocks["target_index"].astype(int)))
+        alt = plan.altitude_deg(np.array(order)[:, None], t[None, :])
+        names = [str(plan.targets["name"].iloc[i]) for i in order]
+        jobs.append((charts.write_night_chart,
+                     (path(f"altitude-{night['night']}.png"), night, t, alt, names, blocks,
+                      plan.site.min_altitude_deg),
+                     {"tz": tz, "title": f"{plan.site.name}, night of {night['night']}",
+                      "moon_alt_deg": plan.tracks.moon_altaz_deg(t)[0]}))
+    for ti in sorted(set(schedule["target_index"].astype(int))) if len(schedule) else []:
+        target = plan.targets.iloc[ti]
+        if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
+            jobs.append((charts.write_rv_chart, (path(f"rv-{safe_file_name(str(target['name']))}.png"), target,
+                                                 schedule[schedule["target_index"] == ti]), {}))
+    return jobs
+
+
+def _run_job(job):
+    writer, args, kwargs = job
+    writer(*args, **kwargs)
+
+
+def _draw(jobs, workers):
+    """Run chart jobs, on two forked processes when that can help (measured in bench/bench_plan.py)."""
+    import multiprocessing as mp
+
+    if workers is None:
+        workers = 2 if (os.cpu_count() or 1) >= 2 and "fork" in mp.get_all_start_methods() else 1
+    if workers <= 1 or len(jobs) < 4:
+        for job in jobs:
+            _run_job(job)
+        return
+    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures.process import BrokenProcessPool
+
+    try:
+        with ProcessPoolExecutor(max_workers=workers, mp_context=mp.get_context("fork")) as pool:
+            for future in [pool.submit(_run_job, job) for job in jobs]:
+                future.result()
+    except BrokenProcessPool:
+        raise PeriplanError("a chart could not be drawn (its process stopped); nothing was written") from None
