@@ -10,7 +10,6 @@ astropy takes to convert the same number of BJD_TDB times to UTC through ``Time`
 from __future__ import annotations
 
 import argparse
-import io
 import time
 
 import numpy as np

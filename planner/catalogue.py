@@ -47,7 +47,6 @@ import csv
 import difflib
 import io
 import math
-import os
 import re
 
 import numpy as np
@@ -55,6 +54,7 @@ import pandas as pd
 
 from . import timescales
 from .errors import InputError, InputErrors
+from .textfile import decode_text, read_bytes
 from .orbit import ALL_EVENTS, ORBIT_EVENTS, PERIODIC_EVENT
 
 NUMERIC_COLUMNS = (
@@ -88,30 +88,14 @@ _SEXAGESIMAL = re.compile(r"^\s*([+-]?)\s*(\d+)[:\s]+(\d+)(?:[:\s]+(\d+(?:\.\d*)
 
 def read_catalogue(path) -> pd.DataFrame:
     """Validated target table (see module docstring) from the CSV file at ``path``."""
-    name = os.fspath(path)
-    label = os.path.basename(name)
-    try:
-        with open(name, "rb") as fh:
-            raw = fh.read()
-    except FileNotFoundError:
-        raise InputErrors([InputError("no such catalogue file", file=name)]) from None
-    except OSError as exc:
-        raise InputErrors([InputError(f"cannot read catalogue: {exc.strerror}", file=name)]) from None
-    return parse_catalogue(raw, source=label)
+    raw, source = read_bytes(path, "catalogue")
+    return parse_catalogue(raw, source=source)
 
 
 def parse_catalogue(data, source: str = "<catalogue>") -> pd.DataFrame:
     """Validated target table from CSV text or bytes; ``source`` names the file in messages."""
     if isinstance(data, bytes):
-        if b"\x00" in data:
-            raise InputErrors([InputError("not a text file (contains NUL bytes); expected a CSV "
-                                          "catalogue with a header row", file=source)])
-        try:
-            data = data.decode("utf-8-sig")
-        except UnicodeDecodeError as exc:
-            raise InputErrors([InputError(
-                f"not UTF-8 text (byte {exc.start}); save the catalogue as UTF-8 CSV",
-                file=source)]) from None
+        data = decode_text(data, source, "a CSV catalogue with a header row")
     header, rows, line_numbers = _split_rows(data, source)
     columns = _check_header(header, source)
     table = {c: [] for c in columns}

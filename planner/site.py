@@ -46,7 +46,6 @@ from __future__ import annotations
 import dataclasses
 import difflib
 import math
-import os
 import tomllib
 
 from .errors import InputError, InputErrors
@@ -136,20 +135,10 @@ class Site:
 
 def read_site(path) -> Site:
     """Validated :class:`Site` from the TOML file at ``path``."""
-    name = os.fspath(path)
-    try:
-        with open(name, "rb") as fh:
-            raw = fh.read()
-    except FileNotFoundError:
-        raise InputErrors([InputError("no such site file", file=name)]) from None
-    except OSError as exc:
-        raise InputErrors([InputError(f"cannot read site file: {exc.strerror}", file=name)]) from None
-    try:
-        text = raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        raise InputErrors([InputError(f"not UTF-8 text (byte {exc.start}); save the site file as UTF-8 TOML",
-                                      file=os.path.basename(name))]) from None
-    return parse_site(text, source=os.path.basename(name))
+    from .textfile import decode_text, read_bytes
+
+    raw, source = read_bytes(path, "site")
+    return parse_site(decode_text(raw, source, "a TOML site file"), source=source)
 
 
 def _number(data, key, source, errors, default=None, lo=None, hi=None, expected=""):

@@ -72,7 +72,7 @@ SITE_EXPECTED = {
     "not_toml.toml": (None, "not valid TOML"),
     "empty.toml": ("name", "missing required key"),
     "max_airmass_below_one.toml": ("max_airmass", "0.8 is out of range"),
-    "binary_junk.toml": (None, "not UTF-8 text"),
+    "binary_junk.toml": (None, "not a text file (contains NUL bytes)"),
 }
 
 

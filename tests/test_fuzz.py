@@ -1,7 +1,6 @@
 """Property-based fuzzing: loaders raise only the project's own errors; engine invariants hold."""
 
 import numpy as np
-import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
