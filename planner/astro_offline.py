@@ -11,11 +11,18 @@ from __future__ import annotations
 import contextlib
 import warnings
 
+import numpy as np
+
 _configured = False
 
 
 def configure() -> None:
-    """Switch astropy's IERS machinery to offline, bundled-table mode (idempotent)."""
+    """Switch astropy's IERS machinery to offline, bundled-table mode (idempotent).
+
+    The bundled IERS-A table (astropy-iers-data's finals2000A.all) is read by
+    :func:`bundled_iers_a` instead of astropy's general text reader, which takes most of a second
+    of every run; if that fails for any reason astropy's own reader is left in charge.
+    """
     global _configured
     if _configured:
         return
@@ -24,7 +31,71 @@ def configure() -> None:
     iers.conf.auto_download = False
     iers.conf.auto_max_age = None
     iers.conf.iers_degraded_accuracy = "warn"
+    try:
+        iers.earth_orientation_table.set(bundled_iers_a())
+    except Exception:  # any surprise in the file or in astropy: keep astropy's own path
+        pass
     _configured = True
+
+
+# Columns of finals2000A (IERS Rapid Service readme, "finals2000A.all"): 0-based [start, end).
+_FINALS_FLOAT = {
+    "MJD": (7, 15), "PM_x_A": (18, 27), "PM_y_A": (37, 46), "UT1_UTC_A": (58, 68),
+    "dX_2000A_A": (97, 106), "dY_2000A_A": (116, 125), "PM_X_B": (134, 144), "PM_Y_B": (144, 154),
+    "UT1_UTC_B": (154, 165), "dX_2000A_B": (165, 175), "dY_2000A_B": (175, 185),
+}
+_FINALS_FLAG = {"PolPMFlag_A": 16, "UT1Flag_A": 57, "NutFlag_A": 95}
+_FINALS_WIDTH = 185
+
+
+def bundled_iers_a(path=None):
+    """astropy ``IERS_A`` table of the bundled finals2000A file, read with numpy.
+
+    The same rows and combined columns (UT1_UTC, PM_x, PM_y, dX_2000A, dY_2000A and their flags:
+    Bulletin B values where present, else Bulletin A) as astropy's ``IERS_A.open``;
+    tests/test_timescales.py checks the two agree.
+    """
+    import astropy.units as u
+    from astropy.table import QTable
+    from astropy.utils import iers
+
+    if path is None:
+        from astropy_iers_data import IERS_A_FILE as path
+    with open(path, "rb") as fh:
+        lines = [ln[:_FINALS_WIDTH].ljust(_FINALS_WIDTH) for ln in fh.read().splitlines() if ln.strip()]
+    chars = np.frombuffer(b"".join(lines), dtype="S1").reshape(len(lines), _FINALS_WIDTH)
+
+    def field(a, b):
+        text = np.char.strip(chars[:, a:b].copy().view(f"S{b - a}").ravel())
+        return np.where(text == b"", b"nan", text).astype(float)
+
+    def flag(i):
+        return np.char.strip(chars[:, i].astype("U1"))
+
+    cols = {k: field(*ab) for k, ab in _FINALS_FLOAT.items()}
+    flags = {k: flag(i) for k, i in _FINALS_FLAG.items()}
+    keep = np.isfinite(cols["UT1_UTC_A"]) & (flags["PolPMFlag_A"] != "")
+    t = QTable()
+    t["MJD"] = cols["MJD"][keep] * u.d
+    for name, unit, a, b, flag_a in (("UT1_UTC", u.s, "UT1_UTC_A", "UT1_UTC_B", "UT1Flag_A"),
+                                     ("PM_x", u.arcsec, "PM_x_A", "PM_X_B", "PolPMFlag_A"),
+                                     ("PM_y", u.arcsec, "PM_y_A", "PM_Y_B", "PolPMFlag_A"),
+                                     ("dX_2000A", u.marcsec, "dX_2000A_A", "dX_2000A_B", "NutFlag_A"),
+                                     ("dY_2000A", u.marcsec, "dY_2000A_A", "dY_2000A_B", "NutFlag_A")):
+        va, vb = cols[a][keep], cols[b][keep]
+        t[name] = np.where(np.isnan(vb), va, vb) * unit
+    b_ut1 = ~np.isnan(cols["UT1_UTC_B"][keep])
+    b_pm = ~(np.isnan(cols["PM_X_B"][keep]) | np.isnan(cols["PM_Y_B"][keep]))
+    b_nut = ~(np.isnan(cols["dX_2000A_B"][keep]) | np.isnan(cols["dY_2000A_B"][keep]))
+    t["UT1Flag"] = np.where(b_ut1, "B", flags["UT1Flag_A"][keep])
+    t["PolPMFlag"] = np.where(b_pm, "B", flags["PolPMFlag_A"][keep])
+    t["NutFlag"] = np.where(b_nut, "B", flags["NutFlag_A"][keep])
+    table = iers.IERS_A(t)
+    p_index = min(np.searchsorted(flags["UT1Flag_A"][keep], "P"), np.searchsorted(flags["PolPMFlag_A"][keep], "P"))
+    table.meta["predictive_index"] = int(p_index)
+    table.meta["predictive_mjd"] = float(t["MJD"][p_index].value)
+    table.meta["data_path"] = str(path)
+    return table
 
 
 #: The one warning shown (once) for dates beyond the bundled tables, whatever astropy or ERFA said.

@@ -165,6 +165,9 @@ def _draw(jobs, workers):
     from concurrent.futures import ProcessPoolExecutor
     from concurrent.futures.process import BrokenProcessPool
 
+    import matplotlib.backends.backend_agg  # noqa: F401  imported once here, not in each worker
+    import matplotlib.figure  # noqa: F401
+
     try:
         with ProcessPoolExecutor(max_workers=workers, mp_context=mp.get_context("fork")) as pool:
             for future in [pool.submit(_run_job, job) for job in jobs]:

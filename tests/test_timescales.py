@@ -105,3 +105,25 @@ def test_bulk_conversion_equals_astropy_across_the_2016_leap_second():
     # the start of the next second; the seconds either side are unaffected
     iso = timescales.utc_to_iso_z(Time(back[-3:], format="jd", scale="utc"))
     assert list(iso) == ["2017-01-01T00:00:00Z", "2016-12-31T23:59:59Z", "2017-01-01T00:00:01Z"]
+
+
+def test_bundled_iers_table_equals_astropys_reading():
+    # astro_offline reads the bundled finals2000A file with numpy; astropy's own reader
+    # (IERS_A.open, the IERS Rapid Service format) must give the same table.
+    from astropy.utils import iers
+
+    from planner import astro_offline
+
+    ours = astro_offline.bundled_iers_a()
+    ref = iers.IERS_A.open()
+    assert len(ours) == len(ref)
+    for col in ("MJD", "UT1_UTC", "PM_x", "PM_y", "dX_2000A", "dY_2000A"):
+        a, b = np.asarray(ours[col].value), np.asarray(ref[col].value)
+        assert np.array_equal(np.isnan(a), np.isnan(b))
+        assert np.nanmax(np.abs(a - b)) == 0.0
+    for col in ("UT1Flag", "PolPMFlag"):
+        assert np.array_equal(np.asarray(ours[col]).astype(str), np.asarray(ref[col]).astype(str))
+    assert ours.meta["predictive_index"] == ref.meta["predictive_index"]
+    # and astropy uses it: UT1 - UTC at a date inside the table
+    t = Time("2026-12-07T00:00:00", scale="utc")
+    assert abs(t.get_delta_ut1_utc() - ours.ut1_utc(t)) == 0
