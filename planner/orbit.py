@@ -49,16 +49,27 @@ def event_true_anomalies(omega_rad):
 def event_phases(e, omega_rad):
     """Mean-anomaly phases (fractions of an orbit after periastron, in [0, 1)) of the six events.
 
-    Shape ``e.shape + (6,)``, columns in the order of :data:`ORBIT_EVENTS`.
+    Shape ``broadcast(e, omega_rad).shape + (6,)``, columns in the order of :data:`ORBIT_EVENTS`.
+
+    Periastron and apastron are at M = 0 and pi for every e. For the other four the half true
+    anomalies are pi/4 - w/2, 3 pi/4 - w/2, -w/2 and pi/2 - w/2, whose sines and cosines follow
+    from sin(w/2) and cos(w/2) by the angle-addition formulae (a common factor 1/sqrt(2) cancels
+    in atan2); then E = 2 atan2(sqrt(1 - e) sin(nu/2), sqrt(1 + e) cos(nu/2)) and M = E - e sin E.
+    Same values as :func:`planner.kepler.mean_from_true` on :func:`event_true_anomalies`, with
+    two trigonometric calls instead of eight (this is the inner loop of the timing Monte Carlo).
     """
     e = np.asarray(e, dtype=float)
     w = np.asarray(omega_rad, dtype=float)
     shape = np.broadcast_shapes(e.shape, w.shape)
     out = np.empty(shape + (len(ORBIT_EVENTS),))
-    out[..., 0] = 0.0  # periastron: M = 0
-    out[..., 1] = 0.5  # apastron: M = pi for every e
-    nu = event_true_anomalies(w)[..., 2:]  # the four events that depend on omega
-    m = kepler.mean_from_true(nu, e[..., None])
+    out[..., 0] = 0.0
+    out[..., 1] = 0.5
+    c, s = np.cos(0.5 * w), np.sin(0.5 * w)
+    sin_half = np.stack(np.broadcast_arrays(c - s, c + s, -s, c), axis=-1)
+    cos_half = np.stack(np.broadcast_arrays(c + s, s - c, c, s), axis=-1)
+    ee = e[..., None]
+    big_e = 2.0 * np.arctan2(np.sqrt(1.0 - ee) * sin_half, np.sqrt(1.0 + ee) * cos_half)
+    m = big_e - ee * np.sin(big_e)
     out[..., 2:] = kepler.wrap_angle(m) / kepler.TWO_PI
     return out
 
