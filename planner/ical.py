@@ -50,7 +50,8 @@ def _description(b: pd.Series) -> str:
         unc = f" +- {sigma:.1f} min (1 sigma)" if np.isfinite(sigma) else ""
         lines.append(f"Event: {what} at {when}{unc}")
     pts = ", ".join(f"{c[4:]} {b[c]:.1f}" for c in b.index if c.startswith("pts_"))
-    lines.append(f"Score: {b['score']:.1f} points ({pts})")
+    lines.append(f"Score: {b['score']:.1f} = priority {b['x_priority']:g} x rarity {b['x_rarity']:.2f} "
+                 f"x conditions ({pts})")
     if isinstance(b.get("notes"), str) and b["notes"]:
         lines.append(f"Notes: {b['notes']}")
     lines.append(CAUTION_SHORT)

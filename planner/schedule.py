@@ -43,7 +43,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import PeriplanError
-from .score import DEFAULT_WEIGHTS, POINT_COLUMNS, ScoreWeights, airmass_from_alt, score_components
+from .score import DEFAULT_WEIGHTS, SCORE_COLUMNS, ScoreWeights, airmass_from_alt, score_components
 
 log = logging.getLogger(__name__)
 
@@ -65,7 +65,7 @@ SCHEDULE_COLUMNS = (
     "event_jd_utc", "event_sigma_d", "window_start_jd_utc", "window_end_jd_utc", "observable_fraction",
     "priority", "period_d", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg",
     "moon_illumination",
-) + POINT_COLUMNS + ("score", "notes")
+) + SCORE_COLUMNS + ("notes",)
 
 
 @dataclass(frozen=True)
@@ -562,7 +562,7 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
     """The schedule for people and spreadsheets: ISO times in UTC and local time, minutes, notes.
 
     Columns ``night, start_utc, end_utc, start_local, end_local, target, event, label, kind,
-    event_utc, event_sigma_min, score, pts_*, alt_start_deg, alt_mid_deg, alt_end_deg, airmass,
+    event_utc, event_sigma_min, score, x_priority, x_rarity, pts_*, alt_start_deg, alt_mid_deg, alt_end_deg, airmass,
     moon_sep_deg, moon_illumination, observable_fraction, notes``. Local columns are empty
     without ``tz`` (an IANA zone name).
     """
@@ -591,7 +591,7 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
         "event_sigma_min": schedule["event_sigma_d"].to_numpy(float) * _MIN_PER_DAY,
         "score": schedule["score"].to_numpy(float),
     })
-    for c in POINT_COLUMNS + ("alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg",
+    for c in SCORE_COLUMNS[:-1] + ("alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg",
                               "moon_illumination", "observable_fraction", "notes"):
         frame[c] = schedule[c].to_numpy()
     return frame

@@ -1,26 +1,30 @@
-"""Explainable candidate scores: a sum of named points, one term per reason an observer cares about.
+"""Explainable candidate scores: importance times conditions, every factor and point named.
 
-:func:`score_components` takes one value per candidate block (arrays of shape (n,)) and returns a
-table of points, one column per term, plus their sum ``score``. Every term but priority is a
-dimensionless quality in [0, 1] multiplied by its weight in :class:`ScoreWeights`, so a plan can
-say "priority 5: 50 points, rare event: 18 points, ..." and the observer sees why a block won.
+:func:`score_components` takes one value per candidate block (arrays of shape (n,)) and returns
+one column per factor or term and the ``score``:
 
-Terms (each has its own function below, with its formula and why):
+    score = x_priority x x_rarity x (pts_coverage + pts_airmass + pts_moon + pts_timing)
+
+so a plan can say "priority 5 x rarity 3.76 (recurs every 111 d) x conditions 40.2 points" and the
+observer sees why a block won. Importance multiplies: a priority-5 target's block is worth five
+priority-1 blocks in equal conditions, and a once-a-season periastron is worth several routine
+events of the same target in one night, which a sum of points could not guarantee (two short
+blocks of a 3-hour pulsator would outscore one long periastron block). The conditions are points,
+each a dimensionless quality in [0, 1] times its weight in :class:`ScoreWeights`.
 
 ============  ==================================================================================
-priority      catalogue priority x ``weights.priority``; the observer's own ranking, unbounded
-rarity        1 / (1 + log2(1 + N_week)), N_week = 7 d / P: events of this kind per week
-coverage      fraction of the event window that is observable (0..1)
-airmass       linear from 1 at airmass 1 to 0 at ``weights.airmass_zero``
-moon          1 - f_moon x max(0, 1 - s / ``weights.moon_clear_deg``)
-timing        max(0, 1 - 2 n sigma / W): how much of the window the +-n sigma band leaves free
+x_priority    catalogue priority ** ``weights.priority_power`` (priority > 0; NaN counts as 1)
+x_rarity      1 + ``weights.rarity`` x rarity, rarity = 1 / (1 + log2(1 + N_week)), N_week = 7 d / P
+pts_coverage  fraction of the event window that is observable (0..1)
+pts_airmass   linear from 1 at airmass 1 to 0 at ``weights.airmass_zero``
+pts_moon      1 - f_moon x max(0, 1 - s / ``weights.moon_clear_deg``)
+pts_timing    max(0, 1 - 2 n sigma / W): how much of the window the +-n sigma band leaves free
 ============  ==================================================================================
 
-The sum is additive so that the weighted interval scheduler (:mod:`planner.schedule`) maximises a
-plain total of points over the night. Weights are a policy, not physics: the defaults are our own
-choice ([common practice] that priority dominates and conditions break ties) and every plan prints
-them. Airmass is Young's (1994) formula of the airless altitude (see :func:`airmass_from_alt`);
-it is used only to rank blocks, never as a photometric correction.
+The weighted interval scheduler (:mod:`planner.schedule`) maximises the plain total of scores
+over a night. Weights are a policy, not physics: the defaults are our own choice and every plan
+prints the factors. Airmass is Young's (1994) formula of the airless altitude (see
+:func:`airmass_from_alt`); it is used only to rank blocks, never as a photometric correction.
 """
 
 from __future__ import annotations
@@ -33,24 +37,27 @@ import pandas as pd
 #: Length (days) over which event recurrence is counted for the rarity term.
 RARITY_SPAN_D = 7.0
 
-#: Columns of :func:`score_components`, in order; ``score`` is their sum.
-POINT_COLUMNS = ("pts_priority", "pts_rarity", "pts_coverage", "pts_airmass", "pts_moon", "pts_timing")
-SCORE_COLUMNS = POINT_COLUMNS + ("score",)
+#: Multiplying factors and condition points of :func:`score_components`, in order.
+FACTOR_COLUMNS = ("x_priority", "x_rarity")
+POINT_COLUMNS = ("pts_coverage", "pts_airmass", "pts_moon", "pts_timing")
+SCORE_COLUMNS = FACTOR_COLUMNS + POINT_COLUMNS + ("score",)
 
 
 @dataclass(frozen=True)
 class ScoreWeights:
-    """Weights (points) of the score terms and the constants that shape them.
+    """Weights of the score and the constants that shape them.
 
-    ``priority`` is points per unit of catalogue priority; the other weights are the points a
-    perfect value of the term earns. ``airmass_zero`` is the airmass at which the airmass term
+    ``priority_power`` is the exponent of the catalogue priority in x_priority (1: as given, 0:
+    priorities ignored, between: softened); ``rarity`` is the extra factor a never-repeating event
+    would earn (x_rarity runs from 1 to 1 + rarity); ``coverage``, ``airmass``, ``moon`` and ``timing`` are the points a perfect value
+    of each condition earns. ``airmass_zero`` is the airmass at which the airmass term
     reaches 0 (3.0 is altitude 19.5 deg); ``moon_clear_deg`` the Moon separation (deg) beyond which
     the Moon costs nothing; ``timing_n_sigma`` the half-width, in sigma, of the timing band compared
     with the window. Defaults are our own choice, not from a source.
     """
 
-    priority: float = 10.0
-    rarity: float = 20.0
+    priority_power: float = 1.0
+    rarity: float = 3.0
     coverage: float = 20.0
     airmass: float = 10.0
     moon: float = 10.0
@@ -157,7 +164,7 @@ def timing_term(sigma_d, window_d, n_sigma=DEFAULT_WEIGHTS.timing_n_sigma):
 
 def score_components(priority, period_d, observable_fraction, airmass, moon_sep_deg, moon_illumination,
                      sigma_d, window_d, weights: ScoreWeights = DEFAULT_WEIGHTS) -> pd.DataFrame:
-    """Points per term and their sum for n candidate blocks: columns :data:`SCORE_COLUMNS`.
+    """Factors, condition points and score of n candidate blocks: columns :data:`SCORE_COLUMNS`.
 
     Parameters (all shape (n,), broadcastable; ``airmass`` may be (n, k) samples)
     -----------------------------------------------------------------------------
@@ -168,22 +175,23 @@ def score_components(priority, period_d, observable_fraction, airmass, moon_sep_
     moon_sep_deg, moon_illumination : target-Moon separation (deg) and illuminated fraction
     sigma_d, window_d : 1-sigma event-time uncertainty and window length (days)
 
-    Returns a DataFrame with one row per candidate: ``pts_priority, pts_rarity, pts_coverage,
-    pts_airmass, pts_moon, pts_timing, score`` (points; ``score`` is the row sum).
+    Returns a DataFrame with one row per candidate: ``x_priority, x_rarity, pts_coverage,
+    pts_airmass, pts_moon, pts_timing, score`` with score = x_priority x x_rarity x (sum of pts).
     Worked value: priority 5, P = 111.4 d, fully covered, airmass 1.2, Moon 90 deg away, sigma
-    5 min in a 4 h window: 50 + 18.38 + 20 + 9.0 + 10 + 8.75 = 116.13 points.
+    5 min in a 4 h window: 5 x (1 + 3 x 0.9192) x (20 + 9.0 + 10 + 8.75) = 5 x 3.7575 x 47.75
+    = 897.1.
     """
     w = weights
     prio = np.asarray(priority, dtype=float)
     terms = np.broadcast_arrays(
-        w.priority * np.where(np.isnan(prio), 1.0, prio),
-        w.rarity * rarity_term(period_d),
+        np.where(np.isnan(prio), 1.0, prio) ** w.priority_power,
+        1.0 + w.rarity * rarity_term(period_d),
         w.coverage * coverage_term(observable_fraction),
         w.airmass * airmass_term(airmass, w.airmass_zero),
         w.moon * moon_term(moon_sep_deg, moon_illumination, w.moon_clear_deg),
         w.timing * timing_term(sigma_d, window_d, w.timing_n_sigma),
     )
-    cols = dict(zip(POINT_COLUMNS, terms))
+    cols = dict(zip(FACTOR_COLUMNS + POINT_COLUMNS, terms))
     frame = pd.DataFrame({k: np.array(v, dtype=float, copy=True).reshape(-1) for k, v in cols.items()})
-    frame["score"] = frame[list(POINT_COLUMNS)].sum(axis=1)
+    frame["score"] = frame["x_priority"] * frame["x_rarity"] * frame[list(POINT_COLUMNS)].sum(axis=1)
     return frame

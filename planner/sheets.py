@@ -64,28 +64,30 @@ def action(block) -> str:
 
 
 def reasons(block) -> list[str]:
-    """The score of one block as phrases, one per term, each with its points."""
-    out = [f"priority {block['priority']:g} ({block['pts_priority']:.1f})"]
+    """The score of one block as phrases: the two factors, then each condition with its points."""
     period = block["period_d"]
-    if np.isfinite(period):
-        out.append(f"event recurs every {period:.4g} d ({block['pts_rarity']:.1f})")
+    recurs = f"event recurs every {period:.4g} d" if np.isfinite(period) else "no event: a visit"
+    out = [f"priority {block['x_priority']:g}", f"rarity x{block['x_rarity']:.2f} ({recurs})"]
+    conditions = []
     frac = block["observable_fraction"]
     if np.isfinite(frac):
-        out.append(f"{100 * frac:.0f}% of the event window observable ({block['pts_coverage']:.1f})")
+        conditions.append(f"{100 * frac:.0f}% of the event window observable ({block['pts_coverage']:.1f})")
     else:
-        out.append(f"whole block usable ({block['pts_coverage']:.1f})")
+        conditions.append(f"whole block usable ({block['pts_coverage']:.1f})")
     x = block["airmass"]
-    out.append(f"mean airmass {x:.2f} ({block['pts_airmass']:.1f})" if np.isfinite(x)
-               else f"airmass not known ({block['pts_airmass']:.1f})")
+    conditions.append(f"mean airmass {x:.2f} ({block['pts_airmass']:.1f})" if np.isfinite(x)
+                      else f"airmass not known ({block['pts_airmass']:.1f})")
     sep, lit = block["moon_sep_deg"], block["moon_illumination"]
     lit_text = f"{100 * lit:.0f}% lit" if np.isfinite(lit) else "phase not known"
-    out.append(f"Moon {sep:.0f} deg away, {lit_text} ({block['pts_moon']:.1f})" if np.isfinite(sep)
-               else f"Moon {lit_text}, separation not computed ({block['pts_moon']:.1f})")
+    conditions.append(f"Moon {sep:.0f} deg away, {lit_text} ({block['pts_moon']:.1f})" if np.isfinite(sep)
+                      else f"Moon {lit_text}, separation not computed ({block['pts_moon']:.1f})")
     sigma = block["event_sigma_d"]
     if np.isfinite(sigma):
         window_h = (block["window_end_jd_utc"] - block["window_start_jd_utc"]) * 24.0
-        out.append(f"timing +-{sigma * _MIN_PER_DAY:.1f} min (1 sigma) in a {window_h:.1f} h window "
-                   f"({block['pts_timing']:.1f})")
+        conditions.append(f"timing +-{sigma * _MIN_PER_DAY:.1f} min (1 sigma) in a {window_h:.1f} h window "
+                          f"({block['pts_timing']:.1f})")
+    points = sum(block[c] for c in ("pts_coverage", "pts_airmass", "pts_moon", "pts_timing"))
+    out.append(f"conditions {points:.1f} points: " + ", ".join(conditions))
     return out
 
 
@@ -165,7 +167,7 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
             if detail:
                 lines.append(f"   {detail}")
             lines.append(f"   Do: {action(b)}.")
-            lines.append(f"   Why: score {b['score']:.1f} = " + " + ".join(reasons(b)) + ".")
+            lines.append(f"   Why: score {b['score']:.1f} = " + " x ".join(reasons(b)) + ".")
             if isinstance(b["notes"], str) and b["notes"]:
                 lines.append(f"   Notes: {b['notes']}.")
     lines += ["", CAUTION, ""]
@@ -216,7 +218,8 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
             out.append(f"<p>{e(detail)}</p>")
         out.append(f"<p><strong>Do:</strong> {e(action(b))}.</p>")
         items = "".join(f"<li>{e(r)}</li>" for r in reasons(b))
-        out.append(f"<p><strong>Why:</strong> score {b['score']:.1f} points</p><ul>{items}</ul>")
+        out.append(f"<p><strong>Why:</strong> score {b['score']:.1f} = priority x rarity x conditions</p>"
+                   f"<ul>{items}</ul>")
         if isinstance(b["notes"], str) and b["notes"]:
             out.append(f'<p class="notes">Notes: {e(b["notes"])}.</p>')
         out.append("</div>")

@@ -34,7 +34,7 @@ def make_schedule():
         row.update(night="2026-12-07" if s < 1 else "2026-12-08", start_jd_utc=j + s, end_jd_utc=j + e,
                    target=target, target_index=night, event=event, label=event if kind == "fixed" else "flexible visit",
                    kind=kind, event_jd_utc=j + ev, event_sigma_d=4.0 / 1440 if kind == "fixed" else np.nan,
-                   score=80.0 + night, pts_priority=50.0, pts_rarity=10.0, pts_coverage=20.0, pts_airmass=0.0,
+                   score=80.0 + night, x_priority=2.0, x_rarity=2.0, pts_coverage=20.0, pts_airmass=0.0,
                    pts_moon=0.0, pts_timing=0.0 + night, notes="partial: 80% of the event window is observable")
         rows.append(row)
     return pd.DataFrame(rows)[list(schedule.SCHEDULE_COLUMNS)]

@@ -221,8 +221,8 @@ def _alpha_three_nights_with_beta_clash(clash_night):
     return visible
 
 
-#: Priority worth 1 point per unit, so that conditions can outweigh Alpha's higher priority.
-FLAT_PRIORITY = ScoreWeights(priority=1.0)
+#: Priorities ignored (x_priority = 1), so that conditions can outweigh Alpha's higher priority.
+FLAT_PRIORITY = ScoreWeights(priority_power=0.0)
 
 
 def test_repeat_rule_first_keeps_the_first_scheduled_instance(targets):

@@ -80,22 +80,33 @@ def test_timing_term_limits_and_formula():
     assert np.all(np.diff(score.timing_term(np.linspace(0, 0.05, 11), w)) <= 0)
 
 
-def test_score_is_the_sum_of_points_and_weights_scale_their_column():
+def test_score_is_importance_times_conditions_and_weights_scale_their_column():
     args = dict(priority=[5.0, 1.0], period_d=[111.4, 3.0], observable_fraction=[1.0, 0.5], airmass=[1.2, 1.8],
                 moon_sep_deg=[90.0, 20.0], moon_illumination=[0.5, 0.9], sigma_d=[5 / 1440, 1 / 1440],
                 window_d=[4 / 24, 2 / 24])
     base = score.score_components(**args)
     assert tuple(base.columns) == score.SCORE_COLUMNS
-    total = base[list(score.POINT_COLUMNS)].sum(axis=1)
-    assert np.all(abs(base["score"] - total) <= TERM_TOL * 100)
+    total = base.x_priority * base.x_rarity * base[list(score.POINT_COLUMNS)].sum(axis=1)
+    assert np.all(abs(base["score"] - total) <= TERM_TOL * 1000)
     doubled = score.score_components(**args, weights=score.ScoreWeights(moon=20.0))
     assert np.all(abs(doubled["pts_moon"] - 2 * base["pts_moon"]) <= TERM_TOL * 100)
-    assert np.all(abs(doubled["pts_rarity"] - base["pts_rarity"]) <= TERM_TOL * 100)
+    assert np.all(abs(doubled["x_rarity"] - base["x_rarity"]) <= TERM_TOL)
+    flat = score.score_components(**args, weights=score.ScoreWeights(priority_power=0.0))
+    assert list(flat.x_priority) == [1.0, 1.0]
     # the worked value of the docstring of score_components
     one = score.score_components(5, 111.4, 1.0, 1.2, 90.0, 0.5, 5 / 1440, 4 / 24)
-    expect = 50 + 20 / (1 + math.log2(1 + 7 / 111.4)) + 20 + 10 * 0.9 + 10 + 10 * (1 - 6 * (5 / 1440) / (4 / 24))
-    assert abs(float(one["score"].iloc[0]) - expect) <= TERM_TOL * 1000  # a sum of six terms of ~50
-    assert abs(expect - 116.13) <= 0.005  # the rounded figure quoted in the docstring
+    conditions = 20 + 10 * 0.9 + 10 + 10 * (1 - 6 * (5 / 1440) / (4 / 24))
+    expect = 5 * (1 + 3 / (1 + math.log2(1 + 7 / 111.4))) * conditions
+    assert abs(float(one["score"].iloc[0]) - expect) <= TERM_TOL * 1000
+    assert abs(expect - 897.1) <= 0.05  # the rounded figure quoted in the docstring
+
+
+def test_one_rare_long_block_outweighs_two_routine_ones():
+    # The design goal: a periastron every 111 d at priority 5 beats two maxima of a 3.3-h
+    # pulsator at priority 1 in the same night, even in worse conditions.
+    rare = score.score_components(5, 111.4, 0.6, 1.8, 40.0, 0.5, 0.1, 0.75)
+    routine = score.score_components(1, 0.137, 1.0, 1.0, 150.0, 0.0, 0.0005, 0.17)
+    assert float(rare.score.iloc[0]) > 2 * float(routine.score.iloc[0])
 
 
 def test_array_path_equals_one_at_a_time():

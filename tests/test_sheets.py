@@ -36,8 +36,8 @@ def block(s, e, target, event="periastron", kind="fixed", night="2026-12-07", **
                observable_fraction=0.9 if kind == "fixed" else np.nan, priority=5.0,
                period_d=111.4 if kind == "fixed" else np.nan, alt_start_deg=40.0, alt_mid_deg=55.0,
                alt_end_deg=48.0, airmass=1.3, moon_sep_deg=70.0, moon_illumination=0.43,
-               pts_priority=50.0, pts_rarity=18.4, pts_coverage=18.0, pts_airmass=8.5, pts_moon=10.0,
-               pts_timing=9.0, score=113.9, notes="partial: 90% of the event window is observable")
+               x_priority=5.0, x_rarity=3.76, pts_coverage=18.0, pts_airmass=8.5, pts_moon=10.0,
+               pts_timing=9.0, score=855.4, notes="partial: 90% of the event window is observable")
     row.update(extra)
     return row
 
@@ -90,7 +90,8 @@ def test_blocks_are_listed_in_time_order_with_what_and_why():
     local0 = utc_clock(J0 + 0.30).astimezone(ZoneInfo(TZ)).strftime("%H:%M")
     assert heads[0].startswith(f"1. {local0}-")
     assert "Do: cover the periastron passage" in text
-    assert "Why: score 113.9 = priority 5 (50.0) + event recurs every 111.4 d (18.4)" in text
+    assert ("Why: score 855.4 = priority 5 x rarity x3.76 (event recurs every 111.4 d) x conditions 45.5 points: "
+            "90% of the event window observable (18.0), mean airmass 1.30 (8.5)") in text
     assert "timing +-3.0 min (1 sigma)" in text
     assert "Notes: partial: 90% of the event window is observable." in text
     assert "one visit" in text  # the flexible block's action
