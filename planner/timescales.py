@@ -199,13 +199,53 @@ def _utc_seconds(t_utc) -> np.ndarray:
     return secs.astype("datetime64[s]")
 
 
+def _iso_strings(clock, offset_min=None) -> np.ndarray:
+    """``YYYY-MM-DDTHH:MM:SS`` plus ``Z`` (no offset) or ``+HH:MM``, built digit by digit.
+
+    ``clock`` is datetime64[s] (years 0-9999), ``offset_min`` the UTC offset in minutes per
+    element. Writing the digits into a byte array is some ten times faster than numpy's string
+    functions for the millions of events a year of a large catalogue has.
+    """
+    days = clock.astype("datetime64[D]")
+    months = days.astype("datetime64[M]")
+    year = months.astype("datetime64[Y]").astype(np.int64) + 1970
+    month = months.astype(np.int64) % 12 + 1
+    day = (days - months).astype(np.int64) + 1
+    sec = (clock - days).astype(np.int64)
+    width = 20 if offset_min is None else 25
+    out = np.empty((clock.size, width), dtype=np.uint8)
+
+    def put(col, value, digits):
+        for k in range(digits):
+            out[:, col + digits - 1 - k] = 48 + (value // 10**k) % 10
+
+    put(0, year, 4)
+    put(5, month, 2)
+    put(8, day, 2)
+    put(11, sec // 3600, 2)
+    put(14, sec // 60 % 60, 2)
+    put(17, sec % 60, 2)
+    out[:, [4, 7]] = ord("-")
+    out[:, 10] = ord("T")
+    out[:, [13, 16]] = ord(":")
+    if offset_min is None:
+        out[:, 19] = ord("Z")
+    else:
+        offset_min = np.asarray(offset_min, dtype=np.int64)
+        out[:, 19] = np.where(offset_min < 0, ord("-"), ord("+"))
+        put(20, np.abs(offset_min) // 60, 2)
+        out[:, 22] = ord(":")
+        put(23, np.abs(offset_min) % 60, 2)
+    return out.view(f"S{width}").ravel().astype(str).astype(object)
+
+
 def utc_to_iso_z(t_utc) -> np.ndarray:
     """ISO 8601 strings ``YYYY-MM-DDTHH:MM:SSZ`` (rounded to the second) for astropy UTC times.
 
     Strings follow the Unix-time convention: a moment inside a leap second (23:59:60) is shown as
     the start of the following second.
     """
-    return np.char.add(np.datetime_as_string(_utc_seconds(t_utc), unit="s"), "Z").astype(object)
+    return _iso_strings(_utc_seconds(t_utc))
 
 
 def utc_to_local_iso(t_utc, tz: str) -> np.ndarray:
@@ -214,9 +254,4 @@ def utc_to_local_iso(t_utc, tz: str) -> np.ndarray:
 
     utc = _utc_seconds(t_utc)
     local = pd.DatetimeIndex(utc).tz_localize("UTC").tz_convert(tz).tz_localize(None).to_numpy().astype("datetime64[s]")
-    offset_min = ((local - utc).astype(np.int64) // 60).astype(np.int64)
-    sign = np.where(offset_min < 0, "-", "+")
-    hh, mm = np.divmod(np.abs(offset_min), 60)
-    suffix = np.char.add(np.char.add(sign, np.char.zfill(hh.astype(str), 2)),
-                         np.char.add(":", np.char.zfill(mm.astype(str), 2)))
-    return np.char.add(np.datetime_as_string(local, unit="s"), suffix).astype(object)
+    return _iso_strings(local, (local - utc).astype(np.int64) // 60)

@@ -127,3 +127,21 @@ def test_bundled_iers_table_equals_astropys_reading():
     # and astropy uses it: UT1 - UTC at a date inside the table
     t = Time("2026-12-07T00:00:00", scale="utc")
     assert abs(t.get_delta_ut1_utc() - ours.ut1_utc(t)) == 0
+
+
+@pytest.mark.parametrize("tz", ["America/St_Johns", "Asia/Kolkata", "Pacific/Chatham", "Europe/Madrid", "UTC"])
+def test_local_strings_equal_python_zoneinfo(tz):
+    # Python's datetime with zoneinfo (the tz database) as the reference, for zones with
+    # half-hour and 45-minute offsets, both signs and daylight saving.
+    import datetime as dt
+    from zoneinfo import ZoneInfo
+
+    rng = np.random.default_rng(12)
+    unix = rng.integers(0, 2_500_000_000, 3000)  # 1970 to 2049, whole seconds
+    # built from calendar fields (astropy's "unix" format smears leap seconds over their day)
+    t = Time([dt.datetime.fromtimestamp(int(u), tz=dt.timezone.utc).replace(tzinfo=None) for u in unix], scale="utc")
+    ours = timescales.utc_to_local_iso(t, tz)
+    ref = [dt.datetime.fromtimestamp(int(u), tz=ZoneInfo(tz)).isoformat() for u in unix]
+    assert list(ours) == ref
+    assert list(timescales.utc_to_iso_z(t)) == [
+        dt.datetime.fromtimestamp(int(u), tz=dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ") for u in unix]
