@@ -122,3 +122,13 @@ def test_every_bad_row_in_one_run(tmp_path):
     lines = proc.stderr.strip().splitlines()
     assert len(lines) == 40
     assert [int(ln.split("row ")[1].split(",")[0]) for ln in lines] == list(range(2, 42))
+
+
+def test_bad_catalogue_stops_plan_before_anything_is_written(tmp_path, capsys):
+    for name in sorted(CATALOGUE_EXPECTED):
+        out = tmp_path / name
+        code = cli.main(["plan", str(BAD_CATALOGUES / name), "--site", str(REPO / "sample_targets" / "site.toml"),
+                         "--start", "2026-12-07", "--nights", "1", "--out", str(out)])
+        _, err = capsys.readouterr()
+        assert code == 2 and err.startswith(f"periplan: error: {name}"), (name, err)
+        assert not out.exists(), name

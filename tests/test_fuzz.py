@@ -80,3 +80,47 @@ def test_event_invariants(el):
         t_ev = ev[ev.event == name].bjd_tdb.to_numpy()[0]
         v_ev = orbit.radial_velocity(t_ev, tp, p, e, w, 100.0)
         assert sign * (v_ev - fn(v)) >= -1e-9
+
+
+site_value = st.one_of(st.integers(-1000, 1000), st.floats(allow_nan=True, allow_infinity=True), st.text(max_size=20),
+                       st.booleans(), st.lists(st.lists(st.floats(-400, 400), max_size=3), max_size=4))
+SITE_KEYS = ["name", "latitude_deg", "longitude_deg", "elevation_m", "timezone", "min_altitude_deg", "max_airmass",
+             "horizon", "darkness", "moon_min_separation_deg", "moon_separation_growth_deg", "min_hour_angle_h",
+             "max_hour_angle_h", "min_declination_deg", "max_declination_deg", "sun_min_separation_deg", "bogus"]
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(data=st.binary(max_size=300))
+def test_site_loader_random_bytes_only_raise_periplan_errors(data):
+    from planner.site import parse_site
+    from planner.textfile import decode_text
+
+    try:
+        parse_site(decode_text(data, "fuzz.toml", "a TOML site file"), "fuzz.toml")
+    except PeriplanError:
+        pass
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(values=st.dictionaries(st.sampled_from(SITE_KEYS), site_value, max_size=10))
+def test_site_loader_random_values_only_raise_periplan_errors(values):
+    import json
+
+    from planner.site import parse_site
+
+    # TOML has no NaN/inf literals in JSON's spelling; write them as TOML does
+    def toml(v):
+        if isinstance(v, bool):
+            return "true" if v else "false"
+        if isinstance(v, float):
+            return "nan" if v != v else ("inf" if v == float("inf") else "-inf" if v == float("-inf") else repr(v))
+        if isinstance(v, list):
+            return "[" + ", ".join(toml(x) for x in v) + "]"
+        return json.dumps(v)
+
+    text = "".join(f"{k} = {toml(v)}\n" for k, v in values.items())
+    try:
+        site = parse_site(text, "fuzz.toml")
+    except PeriplanError:
+        return
+    assert -90 <= site.latitude_deg <= 90 and -5 <= site.min_altitude_deg <= 90
