@@ -83,13 +83,19 @@ def moon_separation_deg(targets, tracks, target_index, jd_utc):
     return visibility.separation_deg(vec, tracks.moon_vector(jd))
 
 
-def first_night_for(start, timezone: str) -> dt.date:
-    """The first night's label: ``start`` as a date, or tonight's local date at the site."""
+def first_night_for(start, timezone: str, now: dt.datetime | None = None) -> dt.date:
+    """The first night's label: ``start`` as a date, or the night now under way or coming.
+
+    Nights are labelled by the local date of their evening and run from noon to noon, so before
+    local noon (at 2 a.m., say) the current night is the one labelled with yesterday's date.
+    ``now`` (an aware datetime) is for tests; it defaults to the present moment.
+    """
     if start is not None:
         return start if isinstance(start, dt.date) else dt.date.fromisoformat(str(start))
     from .spans import zone
 
-    return dt.datetime.now(zone(timezone)).date()
+    local = (now or dt.datetime.now(dt.timezone.utc)).astimezone(zone(timezone))
+    return (local - dt.timedelta(hours=12)).date()
 
 
 def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,

@@ -168,3 +168,15 @@ def test_charts_drawn_in_parallel_equal_sequential(tmp_path):
     for pa, pb in zip(a, b):
         if not pa.endswith(".ics"):  # the calendar carries the time it was written (DTSTAMP)
             assert filecmp.cmp(pa, pb, shallow=False), pa
+
+
+def test_default_first_night_is_the_night_under_way():
+    # At 02:00 local the current night began the evening before; at 20:00 it is today's.
+    import datetime as dt
+
+    from planner.plan import first_night_for
+
+    madrid = dt.timezone(dt.timedelta(hours=1))
+    assert first_night_for(None, "Europe/Madrid", dt.datetime(2026, 12, 8, 2, 0, tzinfo=madrid)) == dt.date(2026, 12, 7)
+    assert first_night_for(None, "Europe/Madrid", dt.datetime(2026, 12, 8, 20, 0, tzinfo=madrid)) == dt.date(2026, 12, 8)
+    assert first_night_for("2026-12-01", "Europe/Madrid") == dt.date(2026, 12, 1)
