@@ -25,7 +25,7 @@ def add_plan_options(p, need_inputs: bool = True):
         p.add_argument("catalog", metavar="CATALOG", help="catalogue CSV file of targets and elements")
         p.add_argument("--site", required=True, metavar="SITE", help="site file (TOML)")
     p.add_argument("--start", metavar="YYYY-MM-DD",
-                   help="local date of the first night's evening (default: tonight at the site)")
+                   help="local date of the first night's evening (default: the night under way, or tonight)")
     p.add_argument("--nights", type=int, default=7, metavar="N", help="number of nights (default 7)")
     p.add_argument("--out", metavar="DIR", default=None if need_inputs else "periplan-demo",
                    required=need_inputs, help="folder for the plan's files" +
