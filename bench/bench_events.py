@@ -41,7 +41,7 @@ def main(argv=None):
 
     from planner import astro_offline, catalogue, spans
     from planner.events import predict_events
-    from planner.report import events_frame
+    from planner.report import events_frame, seen_in_span
 
     astro_offline.configure()
     text = random_catalogue(args.targets)
@@ -51,7 +51,7 @@ def main(argv=None):
     start, end = spans.span_utc("2027-01-01", args.days)
     events = predict_events(targets, *spans.bjd_bounds(start, end))
     t2 = time.perf_counter()
-    table = events_frame(events, targets, start, end, "UTC")
+    table = events_frame(*seen_in_span(events, targets, start, end), "UTC")
     t3 = time.perf_counter()
     n = len(table)
     print(f"{args.targets} targets, {args.days:g} days: {n} events")

@@ -8,29 +8,33 @@ import pandas as pd
 from . import timescales
 
 
-def events_frame(events: pd.DataFrame, targets: pd.DataFrame, start_utc, end_utc, tz: str | None) -> pd.DataFrame:
-    """Events seen from the Earth between ``start_utc`` and ``end_utc``, for display and export.
+def seen_in_span(events: pd.DataFrame, targets: pd.DataFrame, start_utc, end_utc):
+    """(events, utc): the events seen from the Earth with start <= t < end (astropy UTC Times).
+
+    ``events`` keeps the engine's columns (index reset); ``utc`` is an astropy Time (UTC) per row,
+    the moment the event is seen from the geocentre (BJD_TDB minus the light travel time).
+    """
+    idx = events["target_index"].to_numpy()
+    t_utc = timescales.bjd_tdb_to_utc(events["bjd_tdb"].to_numpy(float), targets["ra_deg"].to_numpy(float)[idx],
+                                      targets["dec_deg"].to_numpy(float)[idx])
+    inside = np.asarray((t_utc >= start_utc) & (t_utc < end_utc))
+    return events[inside].reset_index(drop=True), t_utc[inside]
+
+
+def events_frame(events: pd.DataFrame, t_utc, tz: str | None) -> pd.DataFrame:
+    """Events for display and export, from :func:`seen_in_span`'s two results.
 
     Columns ``target, event, label, cycle, bjd_tdb, utc`` (ISO 8601, ``Z``), ``local`` (only when
     ``tz`` is given), ``sigma_min`` (1-sigma, minutes) and ``duration_h``.
     """
-    if events.empty:
-        cols = ["target", "event", "label", "cycle", "bjd_tdb", "utc"] + (["local"] if tz else []) + ["sigma_min", "duration_h"]
-        return pd.DataFrame(columns=cols)
-    idx = events["target_index"].to_numpy()
-    ra = targets["ra_deg"].to_numpy(float)[idx]
-    dec = targets["dec_deg"].to_numpy(float)[idx]
-    t_utc = timescales.bjd_tdb_to_utc(events["bjd_tdb"].to_numpy(float), ra, dec)
-    inside = ((t_utc >= start_utc) & (t_utc < end_utc))
-    events = events[inside].reset_index(drop=True)
-    t_utc = t_utc[inside]
+    some = len(events) > 0
     out = pd.DataFrame({
         "target": events["target"], "event": events["event"], "label": events["label"],
         "cycle": events["cycle"], "bjd_tdb": events["bjd_tdb"],
-        "utc": timescales.utc_to_iso_z(t_utc) if len(events) else np.array([], dtype=object),
+        "utc": timescales.utc_to_iso_z(t_utc) if some else np.array([], dtype=object),
     })
     if tz:
-        out["local"] = timescales.utc_to_local_iso(t_utc, tz) if len(events) else []
+        out["local"] = timescales.utc_to_local_iso(t_utc, tz) if some else np.array([], dtype=object)
     out["sigma_min"] = events["sigma_d"].to_numpy(float) * 1440.0
     out["duration_h"] = events["duration_d"].to_numpy(float) * 24.0
     return out

@@ -56,7 +56,7 @@ def register(sub):
 def run(args) -> int:
     from .. import catalogue, spans
     from ..events import predict_events
-    from ..report import events_frame
+    from ..report import events_frame, seen_in_span
 
     if args.days <= 0:
         raise PeriplanError(f"--days must be positive; got {args.days:g}")
@@ -79,11 +79,11 @@ def run(args) -> int:
     start_utc, end_utc = spans.span_utc(args.start, args.days, tz)
     targets = catalogue.read_catalogue(args.catalog)
     events = predict_events(targets, *spans.bjd_bounds(start_utc, end_utc), kinds=args.kinds)
+    events, t_utc = seen_in_span(events, targets, start_utc, end_utc)
+    table = events_frame(events, t_utc, tz)
     formats = {"bjd_tdb": ".6f", "sigma_min": ".2f", "duration_h": ".2f"}
-    if site is None:
-        table = events_frame(events, targets, start_utc, end_utc, tz)
-    else:
-        table = _with_visibility(events, targets, site, start_utc, end_utc, tz, args)
+    if site is not None:
+        table = _with_visibility(table, events, targets, site, start_utc, end_utc, args)
         formats.update({"alt_deg": ".1f", "moon_sep_deg": ".1f", "observable_fraction": ".2f"})
     sys.stdout.write(render(table, args.format, formats))
     if args.format == "table":
@@ -93,27 +93,18 @@ def run(args) -> int:
     return 0
 
 
-def _with_visibility(events, targets, site, start_utc, end_utc, tz, args):
-    """Events seen in the span with night, alt_deg, moon_sep_deg and observable_fraction added."""
+def _with_visibility(table, events, targets, site, start_utc, end_utc, args):
+    """``table`` (rows of ``events``) with night, alt_deg, moon_sep_deg and observable_fraction added."""
     import datetime as dt
 
-    from .. import timescales
     from ..night import night_table, tracks_for_nights
-    from ..report import events_frame, never_rising_lines
+    from ..report import never_rising_lines
     from ..spans import zone
     from ..windows import DEFAULT_BASELINE_H, DEFAULT_K_SIGMA, event_visibility, never_rising
 
     for line in never_rising_lines(never_rising(targets, site), site.name):
         print(f"periplan: warning: {line}; events that cannot be seen are listed with "
               "observable_fraction 0", file=sys.stderr)
-    # the events that events_frame will keep, filtered the same way (so rows line up)
-    if len(events):
-        idx = events["target_index"].to_numpy()
-        t_utc = timescales.bjd_tdb_to_utc(events["bjd_tdb"].to_numpy(float),
-                                          targets["ra_deg"].to_numpy(float)[idx],
-                                          targets["dec_deg"].to_numpy(float)[idx])
-        events = events[(t_utc >= start_utc) & (t_utc < end_utc)].reset_index(drop=True)
-    table = events_frame(events, targets, start_utc, end_utc, tz)
     baseline_h = DEFAULT_BASELINE_H if args.baseline_h is None else args.baseline_h
     k_sigma = DEFAULT_K_SIGMA if args.k_sigma is None else args.k_sigma
     # nights covering every window: the span, one night either side, plus the widest half-window
