@@ -31,42 +31,48 @@ def unit_vectors(ra_deg, dec_deg):
     return np.stack([np.cos(dec) * np.cos(ra), np.cos(dec) * np.sin(ra), np.sin(dec)], axis=-1)
 
 
-def _body_positions_au(jd_tdb, body: str):
-    """Barycentric (or heliocentric: body='sun' relative) ICRS positions in au, shape (n, 3)."""
-    from astropy.coordinates import get_body_barycentric
-    from astropy.time import Time
+def _earth_positions_au(jd_tdb):
+    """The Earth's ICRS positions (au, shape (n, 3)) from the barycentre and from the Sun.
 
-    t = Time(np.asarray(jd_tdb, dtype=float), format="jd", scale="tdb")
-    earth = get_body_barycentric("earth", t, ephemeris="builtin").xyz.to_value("au").T
-    if body == "barycentre":
-        return earth
-    sun = get_body_barycentric("sun", t, ephemeris="builtin").xyz.to_value("au").T
-    return earth - sun
+    ERFA's epv00 (Bretagnon & Francou VSOP2000 fit), the same series astropy's built-in
+    ephemeris uses for the Earth and the Sun; one call gives both origins.
+    """
+    import erfa
+
+    jd = np.asarray(jd_tdb, dtype=float)
+    heliocentric, barycentric = erfa.epv00(2400000.5, jd - 2400000.5)
+    return {"barycentre": barycentric["p"], "sun": heliocentric["p"]}
 
 
 class _EarthTrack:
-    """The Earth's barycentric or heliocentric position on a half-day grid, interpolated.
+    """The Earth's barycentric and heliocentric positions on a half-day grid, interpolated.
 
     Built once for a span of TDB Julian dates; :meth:`delay_d` gives the Roemer delay for unit
     vectors towards targets. Cubic (Catmull-Rom) interpolation of each coordinate: error below
     1e-4 s of delay (its second derivative is at most ~2 pi^2 x 500 s / yr^2).
     """
 
-    def __init__(self, jd_lo, jd_hi, reference):
+    def __init__(self, jd_lo, jd_hi):
         import astropy.units as u
         from astropy.constants import c
 
         n = int(np.ceil((jd_hi - jd_lo) / _LTT_GRID_D)) + 1
         self.grid0 = jd_lo - _LTT_GRID_D
-        self.pos = _body_positions_au(self.grid0 + _LTT_GRID_D * np.arange(n + 3), reference)
+        self.pos = _earth_positions_au(self.grid0 + _LTT_GRID_D * np.arange(n + 3))
         self.au_light_d = (u.au / c).to("day").value
 
-    def delay_d(self, jd_tdb, unit):
+    @classmethod
+    def covering(cls, jd_tdb, margin_d=0.0):
+        jd = np.asarray(jd_tdb, dtype=float)
+        return cls(np.nanmin(jd) - margin_d, np.nanmax(jd) + margin_d)
+
+    def delay_d(self, jd_tdb, unit, reference="barycentre"):
+        pos = self.pos[reference]
         x = (jd_tdb - self.grid0) / _LTT_GRID_D
-        i = np.clip(np.floor(x).astype(np.int64), 1, len(self.pos) - 3)
+        i = np.clip(np.floor(x).astype(np.int64), 1, len(pos) - 3)
         f = x - i
         # project the grid positions on each direction first: four dot products, then 1-D cubic
-        p0, p1, p2, p3 = (np.einsum("...k,...k->...", self.pos[i + j], unit) for j in (-1, 0, 1, 2))
+        p0, p1, p2, p3 = (np.einsum("...k,...k->...", pos[i + j], unit) for j in (-1, 0, 1, 2))
         r = p1 + 0.5 * f * (p2 - p0 + f * (2 * p0 - 5 * p1 + 4 * p2 - p3 + f * (3 * (p1 - p2) + p3 - p0)))
         return r * self.au_light_d
 
@@ -83,8 +89,7 @@ def light_travel_time_d(jd_tdb, ra_deg, dec_deg, reference: str = "barycentre"):
     )
     if jd.size == 0:
         return np.zeros(jd.shape)
-    track = _EarthTrack(np.nanmin(jd), np.nanmax(jd), reference)
-    return track.delay_d(jd, unit_vectors(ra, dec))
+    return _EarthTrack.covering(jd).delay_d(jd, unit_vectors(ra, dec), reference)
 
 
 #: Grid step (days) of the TDB - UTC offset used for bulk conversions; linear interpolation of the
@@ -146,20 +151,24 @@ def to_bjd_tdb(jd, time_system, ra_deg, dec_deg):
     the barycentric one; the difference of the two is at most about 4 s, the UTC -> TDB step about
     69 s in 2026.
     """
-    jd = np.asarray(jd, dtype=float)
+    jd, ra, dec = np.broadcast_arrays(np.asarray(jd, float), np.asarray(ra_deg, float), np.asarray(dec_deg, float))
     system = str(time_system).upper()
     if system == "BJD_TDB":
         return jd.copy()
+    if system not in TIME_SYSTEMS:
+        raise ValueError(f"unknown time system {time_system!r}; expected one of {', '.join(TIME_SYSTEMS)}")
+    if jd.size == 0:
+        return jd.copy()
+    unit = unit_vectors(ra, dec)
+    track = _EarthTrack.covering(jd, margin_d=0.02)  # the light time moves epochs by < 0.006 d
     if system == "JD_UTC":
         jd_tdb = _utc_jd_to_tdb_jd(jd)
-        return jd_tdb + light_travel_time_d(jd_tdb, ra_deg, dec_deg)
-    if system == "HJD_UTC":
+    else:  # HJD_UTC
         geo_utc = jd.copy()
         for _ in range(2):
-            geo_utc = jd - light_travel_time_d(_utc_jd_to_tdb_jd(geo_utc), ra_deg, dec_deg, "sun")
+            geo_utc = jd - track.delay_d(_utc_jd_to_tdb_jd(geo_utc), unit, "sun")
         jd_tdb = _utc_jd_to_tdb_jd(geo_utc)
-        return jd_tdb + light_travel_time_d(jd_tdb, ra_deg, dec_deg)
-    raise ValueError(f"unknown time system {time_system!r}; expected one of {', '.join(TIME_SYSTEMS)}")
+    return jd_tdb + track.delay_d(jd_tdb, unit)
 
 
 def bjd_tdb_to_geocentric_tdb(bjd_tdb, ra_deg, dec_deg):
@@ -169,7 +178,7 @@ def bjd_tdb_to_geocentric_tdb(bjd_tdb, ra_deg, dec_deg):
     if bjd.size == 0:
         return bjd.copy()
     unit = unit_vectors(ra, dec)
-    track = _EarthTrack(np.nanmin(bjd) - 0.01, np.nanmax(bjd), "barycentre")
+    track = _EarthTrack.covering(bjd, margin_d=0.01)
     geo = bjd.copy()
     for _ in range(2):  # the delay changes by < 1e-4 s/s: two steps converge to < 1e-8 s
         geo = bjd - track.delay_d(geo, unit)
