@@ -75,6 +75,7 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
     fork, else one); the plan is the same either way.
     """
     from . import ical, sheets
+    from .output import render
 
     out_dir = os.fspath(out_dir)
     check_out_dir(out_dir, force)
@@ -91,20 +92,20 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
 
     try:
         schedule, nights = plan.schedule, plan.nights
-        sheets.write_schedule_csv(path("schedule.csv"), schedule, tz=tz)
-        for p in sheets.write_night_sheets(staging, schedule, nights, tz=tz, site_name=plan.site.name):
-            made.append(os.path.basename(p))
-        ical.write_ics(path("plan.ics"), schedule, site_name=plan.site.name)
+        jobs = chart_jobs(plan, path)  # the slow ones first, so both workers stay busy
+        jobs.append((sheets.write_schedule_csv, (path("schedule.csv"), schedule), {"tz": tz}))
+        for label in nights["night"].astype(str):
+            for ext in ("txt", "html"):
+                path(f"night-{label}.{ext}")
+        jobs.append((sheets.write_night_sheets, (staging, schedule, nights), {"tz": tz, "site_name": plan.site.name}))
+        jobs.append((ical.write_ics, (path("plan.ics"), schedule), {"site_name": plan.site.name}))
         if len(plan.never_rising):
-            from .output import render
-
-            with open(path("unobservable.csv"), "w", encoding="utf-8", newline="") as fh:
-                fh.write(render(plan.never_rising.drop(columns="target_index"), "csv",
-                                {"culmination_alt_deg": ".2f", "limit_deg": ".2f"}))
+            text = render(plan.never_rising.drop(columns="target_index"), "csv",
+                          {"culmination_alt_deg": ".2f", "limit_deg": ".2f"})
+            jobs.append((_write_text, (path("unobservable.csv"), text), {}))
         if summary_text is not None:
-            with open(path("summary.txt"), "w", encoding="utf-8") as fh:
-                fh.write(summary_text)
-        _draw(chart_jobs(plan, path), workers)
+            jobs.append((_write_text, (path("summary.txt"), summary_text), {}))
+        _draw(jobs, workers)
         final = []
         for name in made:
             os.replace(os.path.join(staging, name), os.path.join(out_dir, name))
@@ -147,13 +148,18 @@ def chart_jobs(plan, path) -> list[tuple]:
     return jobs
 
 
+def _write_text(path, text):
+    with open(path, "w", encoding="utf-8", newline="") as fh:
+        fh.write(text)
+
+
 def _run_job(job):
     writer, args, kwargs = job
     writer(*args, **kwargs)
 
 
 def _draw(jobs, workers):
-    """Run chart jobs, on two forked processes when that can help (measured in bench/bench_plan.py)."""
+    """Run the writing jobs, on two forked processes when that can help (bench/bench_plan.py)."""
     import multiprocessing as mp
 
     if workers is None:
@@ -173,4 +179,4 @@ def _draw(jobs, workers):
             for future in [pool.submit(_run_job, job) for job in jobs]:
                 future.result()
     except BrokenProcessPool:
-        raise PeriplanError("a chart could not be drawn (its process stopped); nothing was written") from None
+        raise PeriplanError("a plan file could not be made (its process stopped); nothing was written") from None
