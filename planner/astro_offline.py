@@ -77,11 +77,10 @@ def bundled_iers_a(path=None):
     keep = np.isfinite(cols["UT1_UTC_A"]) & (flags["PolPMFlag_A"] != "")
     t = QTable()
     t["MJD"] = cols["MJD"][keep] * u.d
-    for name, unit, a, b, flag_a in (("UT1_UTC", u.s, "UT1_UTC_A", "UT1_UTC_B", "UT1Flag_A"),
-                                     ("PM_x", u.arcsec, "PM_x_A", "PM_X_B", "PolPMFlag_A"),
-                                     ("PM_y", u.arcsec, "PM_y_A", "PM_Y_B", "PolPMFlag_A"),
-                                     ("dX_2000A", u.marcsec, "dX_2000A_A", "dX_2000A_B", "NutFlag_A"),
-                                     ("dY_2000A", u.marcsec, "dY_2000A_A", "dY_2000A_B", "NutFlag_A")):
+    for name, unit, a, b in (("UT1_UTC", u.s, "UT1_UTC_A", "UT1_UTC_B"), ("PM_x", u.arcsec, "PM_x_A", "PM_X_B"),
+                             ("PM_y", u.arcsec, "PM_y_A", "PM_Y_B"),
+                             ("dX_2000A", u.marcsec, "dX_2000A_A", "dX_2000A_B"),
+                             ("dY_2000A", u.marcsec, "dY_2000A_A", "dY_2000A_B")):
         va, vb = cols[a][keep], cols[b][keep]
         t[name] = np.where(np.isnan(vb), va, vb) * unit
     b_ut1 = ~np.isnan(cols["UT1_UTC_B"][keep])

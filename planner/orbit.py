@@ -103,7 +103,7 @@ def radial_velocity(t, tp, period_d, e, omega_rad, k_ms, gamma_ms=0.0):
 
     v = gamma + K [cos(nu + omega) + e cos omega]; all arguments broadcast.
     """
-    m = kepler.TWO_PI * (np.asarray(t, dtype=float) - tp) / period_d
+    m = kepler.mean_motion_rad_per_day(period_d) * (np.asarray(t, dtype=float) - tp)
     nu = kepler.true_from_mean(m, e)
     return gamma_ms + k_ms * (np.cos(nu + omega_rad) + e * np.cos(omega_rad))
 
