@@ -138,7 +138,8 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
         else:
             want[i, 6] = False
 
-    durations = _durations_d(targets, e, omega, period)
+    geom = _has_geometry(targets)
+    durations = _durations_d(targets, geom, e, omega, period)
 
     ti, ki = np.nonzero(want)
     p, d = period[ti], offsets[ti, ki]
@@ -158,7 +159,8 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
     labels = targets["label"].to_numpy(object)[t_i]
     labels = np.where(event_names == PERIODIC_EVENT, labels, event_names)
     dur = durations[t_i, k_i]
-    eclipses = _eclipse_flags(targets, durations)[t_i, k_i]
+    # eclipses: known (True/False) only at the conjunctions of targets with geometry
+    known = geom[t_i] & np.isin(k_i, _CONJUNCTIONS)
     out = pd.DataFrame({
         "target": targets["name"].to_numpy(object)[t_i],
         "event": event_names,
@@ -167,39 +169,35 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
         "bjd_tdb": bjd,
         "sigma_d": sigma,
         "duration_d": dur,
-        "eclipses": pd.array(eclipses, dtype="boolean"),
+        "eclipses": pd.arrays.BooleanArray(np.isfinite(dur) & known, ~known),
         "target_index": t_i.astype(np.int64),
     })
     return out
 
 
-def _durations_d(targets, e, omega, period):
-    """Event durations (n, 7) in days; NaN where none is known."""
+_CONJUNCTIONS = (ORBIT_EVENTS.index("primary_conjunction"), ORBIT_EVENTS.index("secondary_conjunction"))
+
+
+def _has_geometry(targets):
+    """(n,) True where the catalogue gives a/R*, inclination and radius ratio."""
+    return (np.isfinite(targets["a_rstar"].to_numpy(float)) & np.isfinite(targets["inc_deg"].to_numpy(float))
+            & np.isfinite(targets["rp_rstar"].to_numpy(float)))
+
+
+def _durations_d(targets, geom, e, omega, period):
+    """Event durations (n, 7) in days; NaN where none is known (``geom``: :func:`_has_geometry`)."""
     n = len(targets)
     dur = np.full((n, 7), np.nan)
-    a_rstar = targets["a_rstar"].to_numpy(float)
-    inc = np.radians(targets["inc_deg"].to_numpy(float))
-    k = targets["rp_rstar"].to_numpy(float)
-    geom = np.isfinite(a_rstar) & np.isfinite(inc) & np.isfinite(k)
-    i_pc, i_sc = ORBIT_EVENTS.index("primary_conjunction"), ORBIT_EVENTS.index("secondary_conjunction")
     if geom.any():
-        for col, secondary in ((i_pc, False), (i_sc, True)):
-            dur[geom, col] = orbit.eclipse_duration(period[geom], a_rstar[geom], inc[geom], k[geom],
-                                                    e[geom], omega[geom], secondary=secondary)
+        a_rstar = targets["a_rstar"].to_numpy(float)[geom]
+        inc = np.radians(targets["inc_deg"].to_numpy(float))[geom]
+        k = targets["rp_rstar"].to_numpy(float)[geom]
+        for col, secondary in zip(_CONJUNCTIONS, (False, True)):
+            dur[geom, col] = orbit.eclipse_duration(period[geom], a_rstar, inc, k, e[geom], omega[geom],
+                                                    secondary=secondary)
     given = targets["duration_h"].to_numpy(float) / 24.0
     no_geom = ~geom & np.isfinite(given)
-    dur[no_geom, i_pc] = given[no_geom]
-    dur[no_geom & (e == 0), i_sc] = given[no_geom & (e == 0)]
+    dur[no_geom, _CONJUNCTIONS[0]] = given[no_geom]
+    dur[no_geom & (e == 0), _CONJUNCTIONS[1]] = given[no_geom & (e == 0)]
     dur[:, 6] = given
     return dur
-
-
-def _eclipse_flags(targets, durations):
-    """(n, 7) object array: True/False at conjunctions of targets with geometry, else None."""
-    n = len(targets)
-    flags = np.full((n, 7), None, dtype=object)
-    geom = (np.isfinite(targets["a_rstar"].to_numpy(float)) & np.isfinite(targets["inc_deg"].to_numpy(float))
-            & np.isfinite(targets["rp_rstar"].to_numpy(float)))
-    for col in (ORBIT_EVENTS.index("primary_conjunction"), ORBIT_EVENTS.index("secondary_conjunction")):
-        flags[geom, col] = np.isfinite(durations[geom, col])
-    return flags

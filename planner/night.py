@@ -99,11 +99,14 @@ def solar_noons_jd_utc(first_night, n_nights: int, timezone: str, longitude_deg:
     return labels, np.asarray(noons, dtype=float)
 
 
-def tracks_for_nights(site, first_night, n_nights: int):
-    """:class:`~planner.visibility.SkyTracks` of the Sun and Moon covering the nights' windows."""
+def tracks_for_nights(site, first_night, n_nights: int, margin_d: float = 0.0):
+    """:class:`~planner.visibility.SkyTracks` of the Sun and Moon covering the nights' windows.
+
+    ``margin_d`` extends them by that many days either side (for events just outside the nights).
+    """
     _, noons = solar_noons_jd_utc(first_night, n_nights, site.timezone, site.longitude_deg)
     return visibility.sky_tracks(site.latitude_deg, site.longitude_deg, site.elevation_m,
-                                 float(noons.min()), float(noons.max()) + 1.0)
+                                 float(noons.min()) - margin_d, float(noons.max()) + 1.0 + margin_d)
 
 
 def _level_crossings(alt_func, grid, level_deg):

@@ -114,16 +114,14 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
             progress(name)
 
     stage("nights")
-    _, noons = night_mod.solar_noons_jd_utc(first_night, n_nights, site.timezone, site.longitude_deg)
-    span_utc = (float(noons.min()) - EVENT_MARGIN_D, float(noons.max()) + 1.0 + EVENT_MARGIN_D)
     # Sun and Moon tracks reach past the nights by the event margin (plus the light time), so that
     # events just outside the week can still be placed
-    tracks = visibility.sky_tracks(site.latitude_deg, site.longitude_deg, site.elevation_m,
-                                   span_utc[0] - 0.05, span_utc[1] + 0.05)
+    tracks = night_mod.tracks_for_nights(site, first_night, n_nights, margin_d=EVENT_MARGIN_D + 0.05)
     nights = night_mod.night_table(site, first_night, n_nights, tracks=tracks)
 
     stage("events")
-    span = Time(list(span_utc), format="jd", scale="utc").tdb.jd
+    span = Time([nights["noon_jd_utc"].min() - EVENT_MARGIN_D, nights["next_noon_jd_utc"].max() + EVENT_MARGIN_D],
+                format="jd", scale="utc").tdb.jd
     events = predict_events(targets, span[0], span[1])
 
     stage("intervals")

@@ -344,14 +344,16 @@ def target_positions(targets: pd.DataFrame, site, target_index, jd_utc) -> visib
 def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: pd.DataFrame,
                      baseline_h: float = DEFAULT_BASELINE_H, k_sigma: float = DEFAULT_K_SIGMA,
                      default_length_h: float = DEFAULT_EVENT_LENGTH_H, tracks=None,
-                     intervals: pd.DataFrame | None = None) -> pd.DataFrame:
+                     intervals: pd.DataFrame | None = None, jd_utc=None) -> pd.DataFrame:
     """The events table with visibility columns added (:data:`VISIBILITY_COLUMNS`, module docstring).
 
     ``events``: :func:`planner.events.predict_events` output (BJD_TDB); ``targets`` its
     catalogue; ``nights``: :func:`planner.night.night_table` covering the events; ``intervals``
     from :func:`observable_intervals` (computed when absent). The window of each event is
     ``t +- (duration / 2 + baseline_h + k_sigma x sigma)``, with ``default_length_h`` standing
-    for a missing duration. Row order and index follow ``events``.
+    for a missing duration. ``jd_utc``, when the caller already has it, is the UTC Julian date
+    at which each event is seen (else it is computed from ``bjd_tdb``). Row order and index
+    follow ``events``.
     """
     from . import timescales
 
@@ -365,7 +367,8 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
     ti = out["target_index"].to_numpy(int)
     ra = targets["ra_deg"].to_numpy(float)[ti]
     dec = targets["dec_deg"].to_numpy(float)[ti]
-    jd = timescales.bjd_tdb_to_utc(out["bjd_tdb"].to_numpy(float), ra, dec).jd
+    jd = (timescales.bjd_tdb_to_utc(out["bjd_tdb"].to_numpy(float), ra, dec).jd if jd_utc is None
+          else np.asarray(jd_utc, dtype=float))
     duration_d = out["duration_d"].to_numpy(float)
     duration_d = np.where(np.isfinite(duration_d), duration_d, default_length_h / 24.0)
     half_d = duration_d / 2.0 + baseline_h / 24.0 + k_sigma * out["sigma_d"].to_numpy(float)

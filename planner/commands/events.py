@@ -9,6 +9,7 @@ import numpy as np
 
 from .. import orbit
 from ..errors import PeriplanError
+from . import require_nonnegative
 from ..output import FORMATS, render
 
 #: Most days of nights added either side of the span for windows widened by large timing
@@ -67,9 +68,7 @@ def run(args) -> int:
                             "--site SITE (a site file)")
     if args.visible is not None and not 0.0 <= args.visible <= 1.0:
         raise PeriplanError(f"--visible must be a fraction between 0 and 1; got {args.visible:g}")
-    for name, v in (("--baseline-h", args.baseline_h), ("--k-sigma", args.k_sigma)):
-        if v is not None and not v >= 0:
-            raise PeriplanError(f"{name} must be zero or positive; got {v:g}")
+    require_nonnegative(args, "baseline_h", "k_sigma")
     site = None
     if args.site:
         from ..site import read_site
@@ -83,7 +82,7 @@ def run(args) -> int:
     table = events_frame(events, t_utc, tz)
     formats = {"bjd_tdb": ".6f", "sigma_min": ".2f", "duration_h": ".2f"}
     if site is not None:
-        table = _with_visibility(table, events, targets, site, start_utc, end_utc, args)
+        table = _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args)
         formats.update({"alt_deg": ".1f", "moon_sep_deg": ".1f", "observable_fraction": ".2f"})
     sys.stdout.write(render(table, args.format, formats))
     if args.format == "table":
@@ -93,7 +92,7 @@ def run(args) -> int:
     return 0
 
 
-def _with_visibility(table, events, targets, site, start_utc, end_utc, args):
+def _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args):
     """``table`` (rows of ``events``) with night, alt_deg, moon_sep_deg and observable_fraction added."""
     import datetime as dt
 
@@ -116,7 +115,8 @@ def _with_visibility(table, events, targets, site, start_utc, end_utc, args):
     n_nights = (last - first).days + 1
     tracks = tracks_for_nights(site, first, n_nights)
     nights = night_table(site, first, n_nights, tracks=tracks)
-    vis = event_visibility(events, targets, site, nights, baseline_h=baseline_h, k_sigma=k_sigma, tracks=tracks)
+    vis = event_visibility(events, targets, site, nights, baseline_h=baseline_h, k_sigma=k_sigma, tracks=tracks,
+                           jd_utc=t_utc.jd if len(events) else None)
     table["night"] = vis["night"].to_numpy(object)
     table["alt_deg"] = vis["alt_deg"].to_numpy(float)
     table["moon_sep_deg"] = vis["moon_sep_deg"].to_numpy(float)

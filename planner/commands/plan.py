@@ -6,6 +6,7 @@ import argparse
 import sys
 
 from ..errors import PeriplanError
+from . import require_nonnegative
 
 EXAMPLES = """\
 examples:
@@ -63,10 +64,7 @@ def settings_from(args):
     base = PlanSettings()
     if args.nights < 1:
         raise PeriplanError(f"--nights must be at least 1; got {args.nights}")
-    for name, v in (("--baseline-h", args.baseline_h), ("--k-sigma", args.k_sigma),
-                    ("--overhead-min", args.overhead_min)):
-        if v is not None and not v >= 0:
-            raise PeriplanError(f"{name} must be zero or positive; got {v:g}")
+    require_nonnegative(args, "baseline_h", "k_sigma", "overhead_min")
     sched = dataclasses.replace(base.schedule, repeats=args.repeats,
                                 **({} if args.overhead_min is None else {"overhead_min": args.overhead_min}))
     return PlanSettings(baseline_h=base.baseline_h if args.baseline_h is None else args.baseline_h,
