@@ -39,11 +39,14 @@ def main(argv=None):
     from astropy.coordinates import EarthLocation, SkyCoord
     from astropy.time import Time
 
-    from planner import astro_offline, catalogue, spans
-    from planner.events import predict_events
-    from planner.report import events_frame, seen_in_span
+    from planner.timescales import earth_orientation
+    from planner.inputs import catalogue
+    from planner.cli import spans
+    from planner.orbits.events import predict_events
+    from planner.orbits.events import seen_in_span
+    from planner.outputs.tables import events_frame
 
-    astro_offline.configure()
+    earth_orientation.configure()
     text = random_catalogue(args.targets)
     t0 = time.perf_counter()
     targets = catalogue.parse_catalogue(text, source="random.csv")

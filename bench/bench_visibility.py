@@ -20,9 +20,10 @@ import warnings
 import numpy as np
 import pandas as pd
 
-from planner import astro_offline, windows
-from planner.night import night_table, tracks_for_nights
-from planner.site import Site
+from planner.timescales import earth_orientation
+from planner.sky import windows
+from planner.sky.night import night_table, tracks_for_nights
+from planner.inputs.site import Site
 
 SITE = Site(name="bench", latitude_deg=37.62, longitude_deg=-3.12, elevation_m=1650.0, timezone="Europe/Madrid",
             min_altitude_deg=30.0, moon_min_sep_deg=25.0, sun_min_sep_deg=0.0)
@@ -109,7 +110,7 @@ def main():
     p.add_argument("--nights", type=int, default=7)
     p.add_argument("--step-min", type=float, default=5.0)
     args = p.parse_args()
-    astro_offline.configure()
+    earth_orientation.configure()
     targets = targets_frame(args.targets)
     jd = time_grid(args.nights, args.step_min)
     # warm-up of both (imports, IERS tables, ephemeris code paths)

@@ -4,7 +4,7 @@ import pathlib
 
 import pytest
 
-from planner import astro_offline
+from planner.timescales import earth_orientation
 
 REPO = pathlib.Path(__file__).resolve().parents[1]
 SAMPLE_TARGETS = REPO / "sample_targets" / "targets.csv"
@@ -14,6 +14,6 @@ SAMPLE_TARGETS = REPO / "sample_targets" / "targets.csv"
 def _astropy_offline():
     from astropy.utils import data
 
-    astro_offline.configure()
+    earth_orientation.configure()
     with data.conf.set_temp("allow_internet", False):
         yield

@@ -13,8 +13,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from planner import charts, schedule
-from planner.catalogue import parse_catalogue
+from planner.outputs import charts
+from planner.scheduling import schedule
+from planner.inputs.catalogue import parse_catalogue
 
 J0 = 2461382.0  # 2026-12-07 12:00 UTC
 

@@ -11,7 +11,8 @@ import pytest
 from astropy.time import Time
 
 from conftest import REPO, SAMPLE_TARGETS
-from planner import cli, plan_files
+from planner import cli
+from planner.outputs import plan_folder
 
 SITE = REPO / "sample_targets" / "site.toml"
 START = "2026-12-07"
@@ -112,7 +113,7 @@ def test_force_replaces_and_interrupted_run_keeps_previous(tmp_path, monkeypatch
     def interrupted(*a, **k):  # Ctrl-C while the charts are being drawn
         raise KeyboardInterrupt
 
-    monkeypatch.setattr(plan_files, "_draw", interrupted)
+    monkeypatch.setattr(plan_folder, "_draw", interrupted)
     code, _, err = run(args + ["--force", "--nights", "3"], capsys)
     assert code == 130 and "nothing was written" in err
     assert (out / "schedule.csv").read_bytes() == original
@@ -158,12 +159,13 @@ def test_whole_flow_runs_offline(tmp_path, monkeypatch, capsys):
 
 
 def test_charts_drawn_in_parallel_equal_sequential(tmp_path):
-    from planner import catalogue, plan, site
+    from planner import pipeline
+    from planner.inputs import catalogue, site
 
     targets = catalogue.read_catalogue(SAMPLE_TARGETS)
-    week = plan.make_plan(targets, site.read_site(SITE), START, 3)
-    a = plan_files.write_plan(week, tmp_path / "one", workers=1)
-    b = plan_files.write_plan(week, tmp_path / "two", workers=2)
+    week = pipeline.make_plan(targets, site.read_site(SITE), START, 3)
+    a = plan_folder.write_plan(week, tmp_path / "one", workers=1)
+    b = plan_folder.write_plan(week, tmp_path / "two", workers=2)
     assert [os.path.basename(p) for p in a] == [os.path.basename(p) for p in b]
     for pa, pb in zip(a, b):
         if not pa.endswith(".ics"):  # the calendar carries the time it was written (DTSTAMP)
@@ -174,7 +176,7 @@ def test_default_first_night_is_the_night_under_way():
     # At 02:00 local the current night began the evening before; at 20:00 it is today's.
     import datetime as dt
 
-    from planner.plan import first_night_for
+    from planner.pipeline import first_night_for
 
     madrid = dt.timezone(dt.timedelta(hours=1))
     assert first_night_for(None, "Europe/Madrid", dt.datetime(2026, 12, 8, 2, 0, tzinfo=madrid)) == dt.date(2026, 12, 7)

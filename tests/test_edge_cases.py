@@ -8,10 +8,15 @@ import pandas as pd
 import pytest
 
 from conftest import REPO
-from planner import catalogue, cli, night, orbit, timescales, windows
+from planner.inputs import catalogue
+from planner import cli
+from planner.sky import night
+from planner.orbits import geometry
+from planner.timescales import epochs
+from planner.sky import windows
 from planner.errors import InputErrors
-from planner.events import predict_events
-from planner.site import parse_site
+from planner.orbits.events import predict_events
+from planner.inputs.site import parse_site
 
 SITE_TEXT = ('name = "Edge test site"\nlatitude_deg = 37.62\nlongitude_deg = -3.12\nelevation_m = 1650\n'
              'timezone = "Europe/Madrid"\nmin_altitude_deg = 30\nmoon_min_separation_deg = 0\n'
@@ -50,13 +55,13 @@ def test_e_0999_events_cluster_at_periastron():
 
 def test_edge_on_orbit_has_zero_impact_parameter():
     # i = 90 deg: b = 0 at both conjunctions; the duration is then the widest chord's.
-    b = orbit.impact_parameter(15.0, np.radians(90.0), 0.4, np.radians(30.0))
+    b = geometry.impact_parameter(15.0, np.radians(90.0), 0.4, np.radians(30.0))
     assert abs(b) <= 1e-12
     t = load("name,ra,dec,period_d,e,omega_deg,tc,a_rstar,inc_deg,rp_rstar\n"
              "E,10,10,5.0,0.4,30,2460000.0,15,90,0.1\n")
     ev = predict_events(t, 2460000.0 - 0.1, 2460005.0 - 0.1, kinds=["primary_conjunction", "secondary_conjunction"])
     assert ev.eclipses.all()
-    expected = orbit.eclipse_duration(5.0, 15.0, np.pi / 2, 0.1, 0.4, np.radians(30.0))
+    expected = geometry.eclipse_duration(5.0, 15.0, np.pi / 2, 0.1, 0.4, np.radians(30.0))
     assert abs(ev[ev.event == "primary_conjunction"].duration_d.iloc[0] - expected) <= 1e-12
 
 
@@ -93,7 +98,7 @@ def test_event_window_on_the_edge_of_darkness(week, where, expected_fraction):
     dark0 = nights.iloc[0].dark_start_jd_utc
     half_d = 1.0 / 24 + 1.0 / 24  # default event length 2 h / 2 + baseline 1 h, sigma 0
     event_utc = dark0 + (half_d if where == "inside" else 0.0)
-    bjd = float(timescales.to_bjd_tdb(event_utc, "JD_UTC", 120.0, 85.0))
+    bjd = float(epochs.to_bjd_tdb(event_utc, "JD_UTC", 120.0, 85.0))
     t = load(f"name,ra,dec,period_d,tc,label\nPolar,120,85,100.0,{bjd!r},minimum\n")
     ev = predict_events(t, bjd - 1, bjd + 1)
     vis = windows.event_visibility(ev, t, site, nights, tracks=tracks)

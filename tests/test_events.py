@@ -4,8 +4,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from planner import catalogue, orbit
-from planner.events import predict_events
+from planner.inputs import catalogue
+from planner.orbits import geometry
+from planner.orbits.events import predict_events
 
 DAY_MIN = 1440.0
 
@@ -95,12 +96,12 @@ def brute_force_sigma(row, event, cycle, n=200_000, seed=3):
     t0 = row.epoch_bjd_tdb + row.epoch_err_d * rng.standard_normal(n)
     e = np.minimum(np.abs(row.e + row.e_err * rng.standard_normal(n)), 1 - 1e-6)
     w = np.radians(row.omega_deg + row.omega_err_deg * rng.standard_normal(n))
-    ph = orbit.event_phases(e, w)
-    k = orbit.ORBIT_EVENTS.index(event)
+    ph = geometry.event_phases(e, w)
+    k = geometry.ORBIT_EVENTS.index(event)
     ref = ph[:, 2] if row.epoch_kind == "tc" else 0.0
     d = np.mod(ph[:, k] - ref, 1.0)
-    d_nom = np.mod(orbit.event_phases(row.e, np.radians(row.omega_deg))[k]
-                   - (orbit.event_phases(row.e, np.radians(row.omega_deg))[2] if row.epoch_kind == "tc" else 0), 1)
+    d_nom = np.mod(geometry.event_phases(row.e, np.radians(row.omega_deg))[k]
+                   - (geometry.event_phases(row.e, np.radians(row.omega_deg))[2] if row.epoch_kind == "tc" else 0), 1)
     d = d_nom + np.mod(d - d_nom + 0.5, 1.0) - 0.5
     times = t0 + p * (cycle + d)
     nominal = row.epoch_bjd_tdb + row.period_d * (cycle + d_nom)
@@ -125,8 +126,8 @@ def test_periastron_spacing_is_the_period_and_event_order_per_orbit():
     peri = ev[ev.event == "periastron"].bjd_tdb.to_numpy()
     assert np.max(np.abs(np.diff(peri) - 5.6334729)) <= 1e-8
     # the six events of one orbit come in order of true anomaly after periastron
-    nu = np.degrees(orbit.event_true_anomalies(np.radians(185.22)))
-    expected_order = [orbit.ORBIT_EVENTS[i] for i in np.argsort(nu)]
+    nu = np.degrees(geometry.event_true_anomalies(np.radians(185.22)))
+    expected_order = [geometry.ORBIT_EVENTS[i] for i in np.argsort(nu)]
     after = ev[ev.bjd_tdb >= peri[0]].head(6)
     assert list(after.event) == expected_order
 
@@ -156,14 +157,14 @@ def test_duration_and_eclipse_flag_from_geometry():
     sec = ev[ev.event == "secondary_conjunction"].iloc[0]
     assert bool(pri.eclipses) and not bool(sec.eclipses)
     # b_occ = b_tra (1 + e sin w) / (1 - e sin w) = 1.5 > 1 + k
-    expected = orbit.eclipse_duration(10.0, 20.0, orbit.inclination_from_impact(0.5, 20.0, 0.5, np.pi / 2), 0.1, 0.5, np.pi / 2)
+    expected = geometry.eclipse_duration(10.0, 20.0, geometry.inclination_from_impact(0.5, 20.0, 0.5, np.pi / 2), 0.1, 0.5, np.pi / 2)
     assert abs(pri.duration_d - expected) <= 1e-12
     assert np.isnan(sec.duration_d)
 
 
 def test_reference_epoch_given_as_tp_or_tc_gives_same_events():
     t_c = load(HATP2)
-    tp = orbit.tp_from_tc(t_c.epoch_bjd_tdb[0], 5.6334729, 0.5171, np.radians(185.22))
+    tp = geometry.tp_from_tc(t_c.epoch_bjd_tdb[0], 5.6334729, 0.5171, np.radians(185.22))
     t_p = load("name,ra,dec,period_d,e,omega_deg,tp\n"
                f"HAT-P-2 b,16:20:36.36,+41:02:53.1,5.6334729,0.5171,185.22,{float(tp)!r}\n")
     a = predict_events(t_c, 2455000, 2455030)

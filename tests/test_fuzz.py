@@ -4,9 +4,10 @@ import numpy as np
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from planner import catalogue, orbit
+from planner.inputs import catalogue
+from planner.orbits import geometry
 from planner.errors import PeriplanError
-from planner.events import predict_events
+from planner.orbits.events import predict_events
 
 COLUMNS = ["name", "ra", "dec", "period_d", "e", "omega_deg", "tp", "tc", "t0", "time_system",
            "time_offset_d", "period_err_d", "e_err", "omega_err_deg", "tc_err_d", "events", "priority",
@@ -56,18 +57,18 @@ elements = st.tuples(st.floats(0.3, 400.0), st.floats(0.0, 0.98), st.floats(0.0,
 def test_event_invariants(el):
     p, e, w_deg = el
     text = ("name,ra,dec,period_d,e,omega_deg,tp,k_ms,events\n"
-            f"F,10,20,{p!r},{e!r},{w_deg!r},2461000.0,100,{';'.join(orbit.ORBIT_EVENTS)}\n")
+            f"F,10,20,{p!r},{e!r},{w_deg!r},2461000.0,100,{';'.join(geometry.ORBIT_EVENTS)}\n")
     t = catalogue.parse_catalogue(text, source="f.csv")
     ev = predict_events(t, 2461000.0, 2461000.0 + 3.5 * p)
     # periastron-to-periastron spacing equals P
     peri = ev[ev.event == "periastron"].bjd_tdb.to_numpy()
     assert np.all(np.abs(np.diff(peri) - p) <= 1e-7 * max(p, 1))
     # within each orbit, events come in the order of their true anomalies after periastron
-    nu = orbit.event_true_anomalies(np.radians(t.omega_deg[0]))
-    order = [orbit.ORBIT_EVENTS[i] for i in np.argsort(nu, kind="stable")]
+    nu = geometry.event_true_anomalies(np.radians(t.omega_deg[0]))
+    order = [geometry.ORBIT_EVENTS[i] for i in np.argsort(nu, kind="stable")]
     first = ev[ev.bjd_tdb >= peri[0]].head(6)
     # (skip orders that float64 BJDs cannot resolve: events closer than 1e-6 d)
-    ph = np.sort(orbit.event_phases(e, np.radians(t.omega_deg[0])))
+    ph = np.sort(geometry.event_phases(e, np.radians(t.omega_deg[0])))
     gaps = np.diff(np.concatenate([ph, [ph[0] + 1]]))
     if gaps.min() * p > 1e-6:
         assert list(first.event) == order
@@ -75,10 +76,10 @@ def test_event_invariants(el):
     tp = t.tp_bjd_tdb[0]
     w = np.radians(t.omega_deg[0])
     grid = np.linspace(tp, tp + p, 4001)
-    v = orbit.radial_velocity(grid, tp, p, e, w, 100.0)
+    v = geometry.radial_velocity(grid, tp, p, e, w, 100.0)
     for name, fn, sign in (("rv_max", np.max, 1), ("rv_min", np.min, -1)):
         t_ev = ev[ev.event == name].bjd_tdb.to_numpy()[0]
-        v_ev = orbit.radial_velocity(t_ev, tp, p, e, w, 100.0)
+        v_ev = geometry.radial_velocity(t_ev, tp, p, e, w, 100.0)
         assert sign * (v_ev - fn(v)) >= -1e-9
 
 
@@ -92,8 +93,8 @@ SITE_KEYS = ["name", "latitude_deg", "longitude_deg", "elevation_m", "timezone",
 @settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(data=st.binary(max_size=300))
 def test_site_loader_random_bytes_only_raise_periplan_errors(data):
-    from planner.site import parse_site
-    from planner.textfile import decode_text
+    from planner.inputs.site import parse_site
+    from planner.inputs.textfile import decode_text
 
     try:
         parse_site(decode_text(data, "fuzz.toml", "a TOML site file"), "fuzz.toml")
@@ -106,7 +107,7 @@ def test_site_loader_random_bytes_only_raise_periplan_errors(data):
 def test_site_loader_random_values_only_raise_periplan_errors(values):
     import json
 
-    from planner.site import parse_site
+    from planner.inputs.site import parse_site
 
     # TOML has no NaN/inf literals in JSON's spelling; write them as TOML does
     def toml(v):

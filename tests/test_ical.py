@@ -15,7 +15,8 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from planner import ical, schedule
+from planner.outputs import ical
+from planner.scheduling import schedule
 
 #: The file carries whole seconds (RFC 5545 DATE-TIME has no fraction); rounding is at most 0.5 s.
 ROUNDING_TOL_S = 0.5

@@ -5,7 +5,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from planner import kepler
+from planner.orbits import kepler
 from planner.errors import ConvergenceError, PeriplanError
 
 #: Published E values are printed to 6-12 decimals of a degree; half a unit of the last printed

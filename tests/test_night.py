@@ -7,8 +7,8 @@ from zoneinfo import ZoneInfo
 import numpy as np
 import pytest
 
-from planner.night import SUNRISE_ALT_DEG, night_table, solar_noons_jd_utc
-from planner.site import Site
+from planner.sky.night import SUNRISE_ALT_DEG, night_table, solar_noons_jd_utc
+from planner.inputs.site import Site
 
 #: Night times against astroplan: both search the same geometric -0.8333 / -6 / -12 / -18 deg
 #: crossings of astropy's Sun, so they agree to about a second; the issue asks for 1 minute, and
@@ -247,7 +247,7 @@ def test_solar_noon_windows_start_near_local_noon():
 
 def test_shared_crossing_search_on_a_known_function():
     # sin(2 pi (t - shift)) crosses zero exactly at t = shift + k / 2, rising at whole k
-    from planner.crossings import DEFAULT_TOLERANCE_D, find_crossings, positive_intervals
+    from planner.sky.crossings import DEFAULT_TOLERANCE_D, find_crossings, positive_intervals
 
     shift = np.array([0.0, 0.1])
 

@@ -14,10 +14,11 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from planner import schedule
-from planner.catalogue import parse_catalogue
+from planner.outputs import tables
+from planner.scheduling import schedule
+from planner.inputs.catalogue import parse_catalogue
 from planner.errors import PeriplanError
-from planner.score import ScoreWeights
+from planner.scheduling.score import ScoreWeights
 
 #: Score sums of at most 10 floats of order 100 agree to ~1e-13 relative; 1e-9 points is far
 #: above that rounding and far below any real difference between two plans.
@@ -60,7 +61,7 @@ def visible_row(target, ti, night_k, start, end, event="periastron", fraction=1.
             "sigma_d": sigma_d, "duration_d": np.nan, "eclipses": pd.NA, "target_index": ti,
             "night": NIGHT_LABELS[night_k], "alt_deg": 50.0, "window_start_jd_utc": s, "window_end_jd_utc": e,
             "observable_fraction": fraction, "observable_start_jd_utc": s, "observable_end_jd_utc": e,
-            "moon_sep_deg": sep, "moon_illumination": 0.4}
+            "moon_sep_deg": sep, "moon_illumination": 0.4, "jd_utc": 0.5 * (s + e)}
 
 
 def availability_rows(ti, name, nights=(0, 1, 2), start=0.27, end=0.73):
@@ -311,7 +312,7 @@ def visible_frame_empty():
 def test_nothing_visible_gives_an_empty_plan_with_the_columns(targets):
     plan = schedule.plan_week(visible_frame_empty(), None, targets, nights_table(dark=False))
     assert plan.empty and tuple(plan.columns) == schedule.SCHEDULE_COLUMNS
-    assert schedule.display_frame(plan, "Europe/Madrid").empty
+    assert tables.display_frame(plan, "Europe/Madrid").empty
 
 
 def test_notes_partial_meridian_twilight_and_sun(targets):
@@ -328,14 +329,14 @@ def test_notes_partial_meridian_twilight_and_sun(targets):
     assert "no astronomical darkness" in no_dark["notes"].iloc[0]
 
 
-def test_event_time_is_seen_from_earth_within_light_travel_of_bjd(targets):
-    # Reference bound: BJD_TDB - JD_UTC is at most about 8.3 min of light travel plus TT - UTC =
-    # 69.184 s (Eastman, Siverd & Gaudi 2010, PASP 122, 935; IERS Bulletin C).
-    bound_d = (8.4 * 60.0 + 69.2) / 86400.0
-    plan = schedule.plan_week(pd.DataFrame([visible_row("Alpha", 0, 0, 0.3, 0.5)]), None, targets, nights_table())
-    diff = plan["event_jd_utc"].iloc[0] - (J0 + 0.4)
-    assert abs(diff) <= bound_d
-    assert abs(diff) >= 60.0 / 86400.0  # TT - UTC alone is 69 s; a missing conversion would give 0
+def test_event_time_is_the_visible_tables_utc_time_carried_not_recomputed(targets):
+    # The sky stage converts BJD_TDB to UTC once (its ``jd_utc`` column); the scheduler carries it.
+    # BJD_TDB here is set 10 min away from jd_utc: a block whose event time followed BJD_TDB
+    # instead would be off by that much.
+    row = visible_row("Alpha", 0, 0, 0.3, 0.5)
+    row["bjd_tdb"] = row["jd_utc"] + 10.0 / 1440.0
+    plan = schedule.plan_week(pd.DataFrame([row]), None, targets, nights_table())
+    assert plan["event_jd_utc"].iloc[0] == row["jd_utc"]
 
 
 def test_bad_tables_and_options_are_refused_with_the_column(targets):
@@ -354,7 +355,7 @@ def test_display_frame_times_match_astropy(targets):
     from astropy.time import Time
 
     plan = schedule.plan_week(pd.DataFrame([visible_row("Alpha", 0, 0, 0.3, 0.5)]), None, targets, nights_table())
-    shown = schedule.display_frame(plan, "Europe/Madrid")
+    shown = tables.display_frame(plan, "Europe/Madrid")
     for col in ("night", "start_utc", "end_utc", "start_local", "end_local", "target", "event", "event_utc",
                 "score", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg", "notes"):
         assert col in shown.columns
@@ -368,7 +369,7 @@ def test_display_frame_times_match_astropy(targets):
 def test_blocks_without_the_event_moment_are_dropped_unless_asked(targets):
     # the observable stretch ends 1 h before the event: only the baseline would be observed
     row = visible_row("Alpha", 0, 0, 0.30, 0.40)
-    row["bjd_tdb"] = J0 + 0.45
+    row["bjd_tdb"] = row["jd_utc"] = J0 + 0.45
     visible = pd.DataFrame([row])
     assert schedule.plan_week(visible, None, targets, nights_table(), altitude).empty
     kept = schedule.plan_week(visible, None, targets, nights_table(), altitude,

@@ -14,7 +14,7 @@ import math
 import numpy as np
 import pytest
 
-from planner import score
+from planner.scheduling import score
 from planner.errors import PeriplanError
 
 #: The terms are a handful of float operations on numbers of order 1; 1e-12 is far above their

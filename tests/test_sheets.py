@@ -15,7 +15,8 @@ from zoneinfo import ZoneInfo
 import numpy as np
 import pandas as pd
 
-from planner import schedule, sheets
+from planner.scheduling import schedule
+from planner.outputs import sheets
 
 J0 = 2461382.0  # 2026-12-07 12:00 UTC
 TZ = "Europe/Madrid"

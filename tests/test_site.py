@@ -5,7 +5,7 @@ import pytest
 
 from conftest import REPO
 from planner.errors import InputErrors
-from planner.site import parse_site, read_site
+from planner.inputs.site import parse_site, read_site
 
 SAMPLE_SITE = REPO / "sample_targets" / "site.toml"
 

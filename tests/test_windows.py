@@ -6,9 +6,10 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from planner import visibility, windows
-from planner.night import night_table, tracks_for_nights
-from planner.site import Site
+from planner.sky import positions
+from planner.sky import windows
+from planner.sky.night import night_table, tracks_for_nights
+from planner.inputs.site import Site
 
 #: "A hair" of a threshold: grid samples whose reference value lies this close to a limit may
 #: fall either side (our positions differ from astropy's by ~1 arcsec; 0.01 deg = 36 arcsec).
@@ -137,7 +138,7 @@ def test_max_altitude_is_the_culmination_when_inside(setup):
     # checked against astropy in test_visibility); the grid misses the peak by < 0.01 deg
     for row in iv.iloc[::7].itertuples():
         tt = np.linspace(row.start_jd_utc, row.end_jd_utc, int((row.end_jd_utc - row.start_jd_utc) * 1440) + 2)
-        a = visibility.altaz_grid(targets.ra_deg[row.target_index], targets.dec_deg[row.target_index], tt,
+        a = positions.altaz_grid(targets.ra_deg[row.target_index], targets.dec_deg[row.target_index], tt,
                                   s.latitude_deg, s.longitude_deg).alt_deg[0]
         assert a.max() <= row.max_alt_deg + 1e-6
         assert row.max_alt_deg - a.max() < 0.01
@@ -203,12 +204,12 @@ def test_declination_limits_and_never_rising_targets():
 
 def events_for(targets, s, nights, jd_utc, target_index, duration_d, sigma_d):
     """An events table (predict_events layout) at given UTC times, converted to BJD_TDB."""
-    from planner import timescales
+    from planner.timescales import epochs
 
     ra = targets.ra_deg.to_numpy()[target_index]
     dec = targets.dec_deg.to_numpy()[target_index]
-    tdb = visibility.utc_to_tdb_jd(jd_utc)
-    bjd = tdb + timescales.light_travel_time_d(tdb, ra, dec)
+    tdb = epochs.utc_to_tdb_jd(jd_utc)
+    bjd = tdb + epochs.light_travel_time_d(tdb, ra, dec)
     n = len(jd_utc)
     return pd.DataFrame({"target": targets.name.to_numpy()[target_index], "event": ["periastron"] * n,
                          "label": ["periastron"] * n, "cycle": np.arange(n), "bjd_tdb": bjd,

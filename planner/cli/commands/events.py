@@ -1,0 +1,129 @@
+"""``periplan events``: every predicted event of every target in a span of days."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+import numpy as np
+
+from ...orbits import geometry
+from ...errors import PeriplanError
+from . import require_nonnegative
+from ...outputs.tables import FORMATS, render
+
+#: Most days of nights added either side of the span for windows widened by large timing
+#: uncertainties; beyond it the coverage of a window is counted only where nights are known.
+MAX_WINDOW_PAD_D = 30
+
+EXAMPLES = """\
+examples:
+  periplan events sample_targets/targets.csv --start 2026-12-07 --days 60
+  periplan events targets.csv --start 2026-12-07 --days 7 --kinds periastron primary_conjunction
+  periplan events targets.csv --start 2026-12-07 --days 30 --tz Europe/Madrid --format csv > events.csv
+  periplan events sample_targets/targets.csv --start 2026-12-07 --days 14 --site sample_targets/site.toml --visible 0.8
+"""
+
+
+def register(sub):
+    p = sub.add_parser(
+        "events", help="list predicted periastron passages, conjunctions, RV extremes",
+        description="List every predicted event of every catalogue target in a span of days, sorted by "
+                    "time, in BJD_TDB, UTC and (with --tz) local time, with the 1-sigma timing uncertainty.",
+        epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("catalog", metavar="CATALOG", help="catalogue CSV file of targets and elements")
+    p.add_argument("--start", required=True, metavar="YYYY-MM-DD",
+                   help="first day of the span (00:00 UTC, or local midnight with --tz)")
+    p.add_argument("--days", type=float, default=7.0, metavar="N", help="length of the span in days (default 7)")
+    p.add_argument("--kinds", nargs="+", metavar="EVENT", choices=geometry.ALL_EVENTS,
+                   help=f"only these events: {', '.join(geometry.ALL_EVENTS)}")
+    p.add_argument("--tz", metavar="ZONE", help="IANA time zone for local times, e.g. Europe/Madrid")
+    p.add_argument("--site", metavar="SITE",
+                   help="site file (TOML): adds the night, the airless altitude and Moon separation at the "
+                        "event and the observable fraction of its window; local times in the site's zone")
+    p.add_argument("--visible", type=float, metavar="FRACTION",
+                   help="with --site: keep only events whose window is observable at least to this "
+                        "fraction (0..1)")
+    p.add_argument("--baseline-h", type=float, default=None, metavar="H",
+                   help="with --site: baseline wanted either side of the event, hours (default 1)")
+    p.add_argument("--k-sigma", type=float, default=None, metavar="K",
+                   help="with --site: widen each window by K times the 1-sigma timing uncertainty "
+                        "either side (default 2)")
+    p.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+    p.set_defaults(run=run)
+    return p
+
+
+def run(args) -> int:
+    from .. import spans
+    from ...inputs import catalogue
+    from ...orbits.events import predict_events
+    from ...orbits.events import seen_in_span
+    from ...outputs.tables import events_frame
+
+    if args.days <= 0:
+        raise PeriplanError(f"--days must be positive; got {args.days:g}")
+    site_opts = [name for name, v in (("--visible", args.visible), ("--baseline-h", args.baseline_h),
+                                      ("--k-sigma", args.k_sigma)) if v is not None]
+    if site_opts and not args.site:
+        raise PeriplanError(f"{', '.join(site_opts)} {'needs' if len(site_opts) == 1 else 'need'} "
+                            "--site SITE (a site file)")
+    if args.visible is not None and not 0.0 <= args.visible <= 1.0:
+        raise PeriplanError(f"--visible must be a fraction between 0 and 1; got {args.visible:g}")
+    require_nonnegative(args, "baseline_h", "k_sigma")
+    site = None
+    if args.site:
+        from ...inputs.site import read_site
+
+        site = read_site(args.site)
+    tz = args.tz or (site.timezone if site else None)
+    start_utc, end_utc = spans.span_utc(args.start, args.days, tz)
+    targets = catalogue.read_catalogue(args.catalog)
+    events = predict_events(targets, *spans.bjd_bounds(start_utc, end_utc), kinds=args.kinds)
+    events, t_utc = seen_in_span(events, targets, start_utc, end_utc)
+    table = events_frame(events, t_utc, tz)
+    formats = {"bjd_tdb": ".6f", "sigma_min": ".2f", "duration_h": ".2f"}
+    if site is not None:
+        table = _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args)
+        formats.update({"alt_deg": ".1f", "moon_sep_deg": ".1f", "observable_fraction": ".2f"})
+    sys.stdout.write(render(table, args.format, formats))
+    if args.format == "table":
+        sys.stdout.flush()  # the summary line on stderr comes after the table
+        print(f"{len(table)} events of {table['target'].nunique() if len(table) else 0} targets "
+              f"from {start_utc.isot[:16]}Z to {end_utc.isot[:16]}Z", file=sys.stderr)
+    return 0
+
+
+def _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args):
+    """``table`` (rows of ``events``) with night, alt_deg, moon_sep_deg and observable_fraction added."""
+    import datetime as dt
+
+    from ...sky.night import night_table, tracks_for_nights
+    from ...outputs.tables import never_rising_lines
+    from ...timescales.clock import zone
+    from ...sky.windows import DEFAULT_BASELINE_H, DEFAULT_K_SIGMA, event_visibility, never_rising
+
+    for line in never_rising_lines(never_rising(targets, site), site.name):
+        print(f"periplan: warning: {line}; events that cannot be seen are listed with "
+              "observable_fraction 0", file=sys.stderr)
+    baseline_h = DEFAULT_BASELINE_H if args.baseline_h is None else args.baseline_h
+    k_sigma = DEFAULT_K_SIGMA if args.k_sigma is None else args.k_sigma
+    # nights covering every window: the span, one night either side, plus the widest half-window
+    half_d = (events["sigma_d"].to_numpy(float) * k_sigma).max() if len(events) else 0.0
+    pad = 1 + int(min(np.ceil(np.nan_to_num(half_d) + 0.25), MAX_WINDOW_PAD_D))
+    tzinfo = zone(site.timezone)
+    first = start_utc.to_datetime(timezone=dt.timezone.utc).astimezone(tzinfo).date() - dt.timedelta(days=pad)
+    last = end_utc.to_datetime(timezone=dt.timezone.utc).astimezone(tzinfo).date() + dt.timedelta(days=pad)
+    n_nights = (last - first).days + 1
+    tracks = tracks_for_nights(site, first, n_nights)
+    nights = night_table(site, first, n_nights, tracks=tracks)
+    vis = event_visibility(events, targets, site, nights, baseline_h=baseline_h, k_sigma=k_sigma, tracks=tracks,
+                           jd_utc=t_utc.jd if len(events) else None)
+    table["night"] = vis["night"].to_numpy(object)
+    table["alt_deg"] = vis["alt_deg"].to_numpy(float)
+    table["moon_sep_deg"] = vis["moon_sep_deg"].to_numpy(float)
+    table["observable_fraction"] = vis["observable_fraction"].to_numpy(float)
+    table["night"] = table["night"].where(table["night"].notna(), "")
+    if args.visible is not None:
+        table = table[table["observable_fraction"] >= args.visible].reset_index(drop=True)
+    return table

@@ -1,0 +1,115 @@
+"""``periplan plan``: the week's schedule, nightly lists, charts and calendar for a catalogue and site."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+
+from ...errors import PeriplanError
+from . import require_nonnegative
+
+EXAMPLES = """\
+examples:
+  periplan plan targets.csv --site site.toml --start 2026-12-07 --nights 7 --out plan-week50
+  periplan plan targets.csv --site site.toml --out tonight --nights 1 --overhead-min 5
+  periplan plan targets.csv --site site.toml --start 2026-12-07 --repeats first --out week --force
+
+Writes into --out: schedule.csv, night-DATE.txt and .html (printable lists), altitude-DATE.png,
+week.png, rv-TARGET.png, plan.ics and summary.txt. Never point a telescope at or near the Sun;
+the observatory's own safety rules and local regulations come first.
+"""
+
+
+def add_plan_options(p, need_inputs: bool = True):
+    """Options shared by ``plan`` and ``demo``."""
+    if need_inputs:
+        p.add_argument("catalog", metavar="CATALOG", help="catalogue CSV file of targets and elements")
+        p.add_argument("--site", required=True, metavar="SITE", help="site file (TOML)")
+    p.add_argument("--start", metavar="YYYY-MM-DD",
+                   help="local date of the first night's evening (default: the night under way, or tonight)")
+    p.add_argument("--nights", type=int, default=7, metavar="N", help="number of nights (default 7)")
+    p.add_argument("--out", metavar="DIR", default=None if need_inputs else "periplan-demo",
+                   required=need_inputs, help="folder for the plan's files" +
+                   ("" if need_inputs else " (default periplan-demo)"))
+    p.add_argument("--force", action="store_true", help="replace the plan files already in DIR")
+    p.add_argument("--baseline-h", type=float, default=None, metavar="H",
+                   help="baseline wanted either side of each event, hours (default 1)")
+    p.add_argument("--k-sigma", type=float, default=None, metavar="K",
+                   help="widen each window by K times its 1-sigma timing uncertainty (default 2)")
+    p.add_argument("--overhead-min", type=float, default=None, metavar="MIN",
+                   help="setup and slew time between blocks, minutes (default 10)")
+    p.add_argument("--repeats", choices=("every", "first", "best"), default="every",
+                   help="the same target/event on several nights: schedule every night's (default), "
+                        "only the first night's, or only the best-scored one")
+
+
+def register(sub):
+    p = sub.add_parser(
+        "plan", help="plan the nights: schedule, printable lists, charts, calendar",
+        description="Predict the events of every target, find where they can be observed from the site in "
+                    "the nights asked for, choose the best non-overlapping blocks for each night and write "
+                    "the schedule, printable nightly lists, charts and an iCalendar file.",
+        epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
+    add_plan_options(p)
+    p.set_defaults(run=run)
+    return p
+
+
+def settings_from(args):
+    """PlanSettings from parsed options; PeriplanError for values outside their range."""
+    import dataclasses
+
+    from ...pipeline import PlanSettings
+
+    base = PlanSettings()
+    if args.nights < 1:
+        raise PeriplanError(f"--nights must be at least 1; got {args.nights}")
+    require_nonnegative(args, "baseline_h", "k_sigma", "overhead_min")
+    sched = dataclasses.replace(base.schedule, repeats=args.repeats,
+                                **({} if args.overhead_min is None else {"overhead_min": args.overhead_min}))
+    return PlanSettings(baseline_h=base.baseline_h if args.baseline_h is None else args.baseline_h,
+                        k_sigma=base.k_sigma if args.k_sigma is None else args.k_sigma, schedule=sched)
+
+
+def run_plan(catalog, site_path, args) -> int:
+    """Load, plan, write, print the summary: the body of ``plan`` and ``demo``."""
+    from ...inputs import catalogue
+    from ...inputs.site import read_site
+    from ...outputs import plan_folder, sheets
+    from ...outputs.tables import never_rising_lines
+    from ...pipeline import STAGES, first_night_for, make_plan
+    from .. import spans
+    from ..progress import ProgressBar
+
+    settings = settings_from(args)
+    if args.start is not None:
+        spans.parse_date(args.start)
+    try:
+        plan_folder.check_out_dir(args.out, args.force)  # before any work: nothing is overwritten
+    except plan_folder.OutputExists as exc:
+        raise PeriplanError(f"--out {exc}; add --force to replace it or choose another folder") from None
+    except PeriplanError as exc:
+        raise PeriplanError(f"--out {exc}") from None
+    site = read_site(site_path)
+    targets = catalogue.read_catalogue(catalog)
+    first = first_night_for(args.start, site.timezone)
+    bar = ProgressBar(len(STAGES) + 1)
+    plan = make_plan(targets, site, first, args.nights, settings, progress=bar)
+    summary = sheets.week_summary_text(plan.schedule, plan.nights, tz=site.timezone)
+    bar("writing files")
+    paths = plan_folder.write_plan(plan, args.out, force=args.force, summary_text=summary)
+    bar.done()
+    for line in never_rising_lines(plan.never_rising, site.name, f"{args.out}/unobservable.csv"):
+        print(f"periplan: warning: {line}", file=sys.stderr)
+    sys.stdout.write(summary)
+    if plan.schedule.empty:
+        print("Nothing can be scheduled in these nights (see the nightly lists for darkness and limits).")
+    print(f"\n{len(plan.schedule)} blocks on {plan.schedule['night'].nunique() if len(plan.schedule) else 0} "
+          f"of {len(plan.nights)} nights at {site.name}; {len(paths)} files in {args.out}/")
+    print("Never point the telescope at or near the Sun; the observatory's own safety rules and local "
+          "regulations come first.")
+    return 0
+
+
+def run(args) -> int:
+    return run_plan(args.catalog, args.site, args)

@@ -1,0 +1,35 @@
+"""Reading an input file as text, with the one-line errors of the loaders.
+
+Shared by the catalogue and site loaders, the only modules that read input files.
+"""
+
+from __future__ import annotations
+
+import os
+
+from ..errors import InputError, InputErrors
+
+
+def read_bytes(path, what: str) -> tuple[bytes, str]:
+    """(contents, file name for messages) of the file at ``path``; ``what`` names it in errors."""
+    name = os.fspath(path)
+    try:
+        with open(name, "rb") as fh:
+            return fh.read(), os.path.basename(name)
+    except FileNotFoundError:
+        raise InputErrors([InputError(f"no such {what} file", file=name)]) from None
+    except IsADirectoryError:
+        raise InputErrors([InputError(f"is a folder, not a {what} file", file=name)]) from None
+    except OSError as exc:
+        raise InputErrors([InputError(f"cannot read {what} file: {exc.strerror}", file=name)]) from None
+
+
+def decode_text(data: bytes, source: str, expected: str) -> str:
+    """UTF-8 text of ``data`` (a byte-order mark is dropped); ``expected`` says what the file should be."""
+    if b"\x00" in data:
+        raise InputErrors([InputError(f"not a text file (contains NUL bytes); expected {expected}", file=source)])
+    try:
+        return data.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        raise InputErrors([InputError(f"not UTF-8 text (byte {exc.start}); save it as UTF-8 ({expected})",
+                                      file=source)]) from None

@@ -1,0 +1,53 @@
+"""Small numerical helpers shared by every stage: unit vectors and cubic grid interpolation.
+
+Foundation module (like :mod:`planner.errors`): it imports nothing else of the package, so any
+stage may use it.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+
+def unit_vectors(ra_rad, dec_rad):
+    """Unit vectors, shape (..., 3), towards right ascensions and declinations given in radians."""
+    ra = np.asarray(ra_rad, dtype=float)
+    cd = np.cos(dec_rad)
+    return np.stack([cd * np.cos(ra), cd * np.sin(ra), np.sin(dec_rad)], axis=-1)
+
+
+def grid_cell(x, n: int):
+    """(i, f) for cubic interpolation at fractional grid indices ``x`` on a grid of ``n`` points.
+
+    ``i`` (int array, shape of ``x``) is the cell's left point, kept in 1..n-3 so that the four
+    points i-1..i+2 exist; ``f = x - i`` is the position inside the cell (0..1 inside the grid).
+    """
+    x = np.asarray(x, dtype=float)
+    i = np.clip(np.floor(np.nan_to_num(x)).astype(np.int64), 1, n - 3)
+    return i, x - i
+
+
+def catmull_rom(p0, p1, p2, p3, f):
+    """Cubic Catmull-Rom interpolation between p1 (f = 0) and p2 (f = 1); p0, p3 the outer points.
+
+    The uniform Catmull-Rom spline (Catmull & Rom 1974): exact for quadratics, continuous first
+    derivative; arguments broadcast.
+    """
+    return p1 + 0.5 * f * (p2 - p0 + f * (2 * p0 - 5 * p1 + 4 * p2 - p3 + f * (3 * (p1 - p2) + p3 - p0)))
+
+
+def value_in(value, unit: str, name: str) -> float:
+    """A plain float in ``unit`` from a number (taken as already in ``unit``) or an astropy Quantity.
+
+    A Quantity of the wrong kind (a length for a time) is a PeriplanError naming ``name``.
+    """
+    if hasattr(value, "unit") and hasattr(value, "to_value"):
+        import astropy.units as u
+
+        try:
+            return float(value.to_value(u.Unit(unit)))
+        except u.UnitConversionError:
+            from .errors import PeriplanError
+
+            raise PeriplanError(f"{name}: {value} cannot be converted to {unit}") from None
+    return float(value)

@@ -1,0 +1,301 @@
+"""Charts of the plan (PNG, matplotlib): the night's altitudes, the week's blocks, RV over phase.
+
+Each chart has a builder that returns a matplotlib ``Figure`` (``night_figure``, ``week_figure``,
+``rv_figure``; every drawn element carries a ``gid`` naming what it shows: ``curve``, ``block``,
+``window``, ``event``, ``limit``, ``moon``, ``dark``, ``twilight``, ``planned``, so tests can count
+them) and a writer that saves it as PNG through :func:`planner.output.atomic_write`
+(``write_night_chart``, ``write_week_chart``, ``write_rv_chart``). Figures are made with the
+object-oriented API on an Agg canvas created inside each function: no pyplot, no global backend
+switch, nothing happens on import.
+
+Charts do no astronomy: altitude curves, night edges and the schedule come in as arrays and
+tables (Julian dates in UTC). The RV chart evaluates the orbit (:func:`planner.orbit.radial_velocity`,
+:func:`planner.orbit.event_phases`) and converts the planned UTC times to BJD_TDB for their phase.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..errors import PeriplanError
+from ..timescales import clock
+from .atomic import atomic_write
+
+#: Our own palette: distinguishable on screen and in grey print, one colour per target in a chart.
+PALETTE = ("#1f5f8b", "#c4452f", "#2f8f5b", "#8a5ab5", "#d08c00", "#4a4a4a", "#b03a78", "#3a9ab0")
+DARK_SHADE = "#1c2a4a"
+TWILIGHT_SHADE = "#6f7fa8"
+DPI = 110
+_HOURS_PER_DAY = 24.0
+
+
+#: zlib level of the PNG files: 1 encodes several times faster than the default 6 for files
+#: about a quarter larger (measured in bench/bench_plan.py's charts stage).
+PNG_COMPRESS_LEVEL = 1
+
+
+def _figure(width_in, height_in, margins_in=(0.75, 0.3, 0.45, 0.5)):
+    """A Figure on its own Agg canvas with fixed margins (left, right, top, bottom) in inches.
+
+    Fixed margins instead of a layout engine: the charts' furniture is known in advance, and a
+    constrained layout costs about as much as drawing the chart twice.
+    """
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(width_in, height_in), dpi=DPI)
+    FigureCanvasAgg(fig)
+    left, right, top, bottom = margins_in
+    fig.subplots_adjust(left=left / width_in, right=1 - right / width_in, top=1 - top / height_in,
+                        bottom=bottom / height_in)
+    return fig
+
+
+def save_png(fig, path):
+    """Write ``fig`` as PNG to ``path`` atomically, then release the figure; returns ``path``."""
+    with atomic_write(path, "wb") as fh:
+        fig.savefig(fh, format="png", dpi=DPI, pil_kwargs={"compress_level": PNG_COMPRESS_LEVEL})
+    fig.clear()
+    return path
+
+
+def _clock_ticks(ax, lo_h, hi_h, offset_h=0.0, axis="x"):
+    """Whole-hour ticks between lo_h and hi_h labelled as clock hours (mod 24) after ``offset_h``."""
+    first = np.ceil(lo_h + offset_h)
+    ticks = np.arange(first, hi_h + offset_h + 1e-9, 1.0 if hi_h - lo_h <= 14 else 2.0)
+    labels = [f"{int(t) % 24:02d}" for t in ticks]
+    if axis == "x":
+        ax.set_xticks(ticks - offset_h, labels)
+    return ticks
+
+
+def _shade_night(ax, night, ref_jd, lo_h, hi_h, y0=None, y1=None, label=True):
+    """Twilight and dark-time spans of one night on a time axis in hours after ``ref_jd``."""
+    def h(col):
+        v = float(night[col]) if col in night and night[col] is not None else np.nan
+        return (v - ref_jd) * _HOURS_PER_DAY
+
+    sunset, d0, d1, sunrise = h("sunset_jd_utc"), h("dark_start_jd_utc"), h("dark_end_jd_utc"), h("sunrise_jd_utc")
+    span = (lambda a, b, **kw: ax.axvspan(a, b, **kw)) if y0 is None else \
+        (lambda a, b, **kw: ax.fill_between([a, b], y0, y1, **kw))
+    tw0 = sunset if np.isfinite(sunset) else lo_h
+    tw1 = sunrise if np.isfinite(sunrise) else hi_h
+    if np.isfinite(d0) and np.isfinite(d1):
+        span(tw0, d0, color=TWILIGHT_SHADE, alpha=0.18, lw=0, label="twilight" if label else None, gid="twilight")
+        span(d1, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0, gid="twilight")
+        span(d0, d1, color=DARK_SHADE, alpha=0.22, lw=0, label="astronomical darkness" if label else None, gid="dark")
+    elif np.isfinite(sunset) or np.isfinite(sunrise):
+        span(tw0, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0, label="Sun down, no full darkness" if label else None,
+             gid="twilight")
+
+
+def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_alt_deg: float,
+                 tz: str | None = None, title: str | None = None, moon_alt_deg=None):
+    """Altitude against time for the night's scheduled targets: a matplotlib Figure.
+
+    Parameters
+    ----------
+    night : mapping (a row of the night table): ``night`` label and the ``*_jd_utc`` edges
+    times_jd_utc : (m,) sample times, Julian date UTC
+    alt_deg : (k, m) altitude of each of the k targets at those times (degrees)
+    names : k target names, in the order of ``alt_deg`` rows (matching ``blocks['target']``)
+    blocks : the schedule rows of this night
+    min_alt_deg : the site's minimum altitude, drawn as a dashed line
+    tz : IANA zone; local clock hours on the top axis
+    moon_alt_deg : optional (m,) altitude of the Moon at the same times, drawn grey and dotted
+
+    Drawn: dark time and twilight shaded, one curve per target (thin), the scheduled block on it
+    (thick), each fixed block's event window as a bracket with the event time as a diamond, the
+    altitude limit, the Moon when given; the right axis gives airmass (Young 1994, as the
+    visibility engine). Lines: k curves + one per block + one per event window + one per event
+    time + the limit (+ the Moon).
+    """
+    from ..sky.positions import altitude_for_airmass_deg
+
+    t = np.asarray(times_jd_utc, dtype=float)
+    alt = np.atleast_2d(np.asarray(alt_deg, dtype=float))
+    if alt.shape != (len(names), t.size):
+        raise PeriplanError(f"altitude array has shape {alt.shape}; expected ({len(names)}, {t.size})")
+    ref = clock.date_to_jd_utc(night["night"])
+    x = (t - ref) * _HOURS_PER_DAY
+    fig = _figure(10.0, 5.2, margins_in=(0.7, 2.45, 0.75, 0.55))
+    ax = fig.add_subplot()
+    lo_h, hi_h = (float(x.min()), float(x.max())) if x.size else (12.0, 36.0)
+    _shade_night(ax, night, ref, lo_h, hi_h)
+    colour = {nm: PALETTE[i % len(PALETTE)] for i, nm in enumerate(names)}
+    for nm, a in zip(names, alt):
+        ax.plot(x, a, color=colour[nm], lw=1.2, label=str(nm), gid="curve")
+    ax.axhline(min_alt_deg, color="#333333", lw=1.0, ls="--", label=f"altitude limit {min_alt_deg:g} deg", gid="limit")
+    if moon_alt_deg is not None:
+        lit = night["moon_illumination"] if "moon_illumination" in night else np.nan
+        lit_text = f", {100 * float(lit):.0f}% lit" if np.isfinite(lit) else ""
+        ax.plot(x, np.asarray(moon_alt_deg, dtype=float), color="#8c8c8c", lw=1.4, ls=":",
+                label=f"Moon{lit_text}", gid="moon")
+    for j, (_, b) in enumerate(blocks.iterrows()):
+        c = colour.get(b["target"], "#000000")
+        xs, xe = (b["start_jd_utc"] - ref) * 24, (b["end_jd_utc"] - ref) * 24
+        inside = (x >= xs) & (x <= xe)
+        row = names.index(b["target"]) if b["target"] in names else None
+        if row is not None and inside.any():
+            ax.plot(x[inside], alt[row][inside], color=c, lw=4.5, alpha=0.8, solid_capstyle="butt", gid="block")
+        if b["kind"] == "fixed" and np.isfinite(b["window_start_jd_utc"]):
+            y = 3.0 + 3.5 * (j % 6)
+            ws, we = (b["window_start_jd_utc"] - ref) * 24, (b["window_end_jd_utc"] - ref) * 24
+            ax.plot([ws, we], [y, y], color=c, lw=2.0, marker="|", markersize=10, gid="window")
+            if np.isfinite(b["event_jd_utc"]):
+                xe_ = (b["event_jd_utc"] - ref) * 24
+                ax.plot([xe_], [y], marker="D", color=c, markersize=6, ls="none", gid="event")
+            what = b["label"] if isinstance(b["label"], str) and b["label"] else b["event"]
+            ax.annotate(f"{b['target']} {what}", (ws, y), xytext=(0, 3),
+                        textcoords="offset points", fontsize=7, color=c)
+    ax.set_ylim(0, 90)
+    ax.set_xlim(lo_h, hi_h)
+    ax.set_ylabel("altitude (deg)")
+    _clock_ticks(ax, lo_h, hi_h)
+    ax.set_xlabel("UTC (hour)")
+    mid = 0.5 * (t.min() + t.max()) if t.size else ref
+    off = clock.utc_offset_h(tz, mid)
+    if tz:
+        top = ax.secondary_xaxis("top", functions=(lambda v: v + off, lambda v: v - off))
+        ticks = _clock_ticks(ax, lo_h, hi_h, off, axis="none")
+        top.set_xticks(ticks, [f"{int(v) % 24:02d}" for v in ticks])
+        top.set_xlabel(f"local time, {tz} (hour)")
+    right = ax.twinx()
+    right.set_ylim(0, 90)
+    x_marks = np.array([1.0, 1.2, 1.5, 2.0, 3.0, 5.0])
+    right.set_yticks([altitude_for_airmass_deg(v) for v in x_marks], [f"{v:g}" for v in x_marks])
+    right.set_ylabel("airmass")
+    ax.grid(alpha=0.3, lw=0.5)
+    ax.legend(loc="upper left", bbox_to_anchor=(1.08, 1.0), fontsize=8, frameon=False)
+    ax.set_title(title or f"Night of {night['night']}: altitude of the scheduled targets", fontsize=11)
+    return fig
+
+
+def write_night_chart(path, night, times_jd_utc, alt_deg, names, blocks, min_alt_deg, tz=None, title=None,
+                      moon_alt_deg=None):
+    """PNG of :func:`night_figure` at ``path`` (atomic); returns ``path``."""
+    return save_png(night_figure(night, times_jd_utc, alt_deg, names, blocks, min_alt_deg, tz, title,
+                                 moon_alt_deg), path)
+
+
+def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None, title: str | None = None):
+    """Overview of the week's blocks, one row per night: a matplotlib Figure.
+
+    x is the clock time of the night (local with ``tz``, else UTC), rows are the nights in the
+    order of ``nights``; dark time is shaded, fixed blocks are solid bars and flexible visits
+    hatched bars in the target's colour, each labelled with the target. One bar patch per block.
+    """
+    labels = list(nights["night"].astype(str))
+    n = len(labels)
+    fig = _figure(10.0, 1.0 + 0.55 * max(n, 1), margins_in=(1.05, 0.2, 0.35, 0.5))
+    ax = fig.add_subplot()
+    targets = sorted(set(schedule["target"].astype(str))) if len(schedule) else []
+    colour = {nm: PALETTE[i % len(PALETTE)] for i, nm in enumerate(targets)}
+    spans = []
+    for i, (_, night) in enumerate(nights.iterrows()):
+        ref = clock.date_to_jd_utc(night["night"])
+        edge = night.get("sunset_jd_utc", np.nan)
+        off = clock.utc_offset_h(tz, edge if np.isfinite(edge) else ref + 0.5)
+        shift = ref - off / _HOURS_PER_DAY  # local midnight starting the label date, as JD UTC
+        y = n - 1 - i
+        _shade_night(ax, night, shift, 12.0, 36.0, y - 0.4, y + 0.4, label=(i == 0))
+        for col in ("sunset_jd_utc", "sunrise_jd_utc"):
+            v = night.get(col, np.nan)
+            if np.isfinite(v):
+                spans.append((v - shift) * 24)
+        here = schedule[schedule["night"].astype(str) == night["night"]]
+        for _, b in here.iterrows():
+            xs, xe = (b["start_jd_utc"] - shift) * 24, (b["end_jd_utc"] - shift) * 24
+            spans += [xs, xe]
+            flexible = b["kind"] == "flexible"
+            ax.broken_barh([(xs, xe - xs)], (y - 0.3, 0.6), facecolors=colour[str(b["target"])],
+                           alpha=0.55 if flexible else 0.9, hatch="//" if flexible else None,
+                           edgecolor="white", lw=0.8, gid="block")
+            ax.text(0.5 * (xs + xe), y, str(b["target"]), ha="center", va="center", fontsize=7,
+                    color="black" if flexible else "white", clip_on=True)
+        if here.empty:
+            dark = np.isfinite(night.get("dark_start_jd_utc", np.nan))
+            ax.text(24.0, y, "nothing scheduled" if dark else "no astronomical darkness", ha="center",
+                    va="center", fontsize=8, color="#555555", style="italic")
+    lo, hi = (min(spans) - 0.5, max(spans) + 0.5) if spans else (16.0, 32.0)
+    ax.set_xlim(lo, hi)
+    ax.set_ylim(-0.6, n - 0.4)
+    ax.set_yticks(range(n), labels[::-1])
+    _clock_ticks(ax, lo, hi)
+    ax.set_xlabel(f"local time, {tz} (hour)" if tz else "UTC (hour)")
+    ax.grid(axis="x", alpha=0.3, lw=0.5)
+    ax.set_title(title or "The week's plan: solid = fixed-time event, hatched = flexible visit", fontsize=11)
+    return fig
+
+
+def write_week_chart(path, schedule, nights, tz=None, title=None):
+    """PNG of :func:`week_figure` at ``path`` (atomic); returns ``path``."""
+    return save_png(week_figure(schedule, nights, tz, title), path)
+
+
+def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600):
+    """Radial velocity of the primary over one orbit, with events and planned blocks: a Figure.
+
+    ``target`` is one row of the catalogue table (needs ``tp_bjd_tdb``, ``period_d``, ``e``,
+    ``omega_deg``; ``k_ms``/``gamma_ms`` optional: without K the curve is in units of K);
+    ``blocks`` the schedule rows of this target. Phase is the mean-anomaly phase after periastron.
+    Each wanted orbital event is a dotted vertical line; each block a shaded span from its start
+    to its end phase (UTC converted to BJD_TDB in the target's direction), labelled with its night,
+    with a dot on the curve at the block's middle. Lines: the curve + one per event + one per block.
+    """
+    from ..orbits import geometry
+    from ..timescales.epochs import to_bjd_tdb
+
+    tp, p = float(target["tp_bjd_tdb"]), float(target["period_d"])
+    e, w_deg = float(target["e"]), float(target["omega_deg"])
+    if not (np.isfinite(tp) and np.isfinite(p) and np.isfinite(e) and np.isfinite(w_deg)):
+        raise PeriplanError(f"target {target['name']!r} has no orbit (tp, period, e, omega); "
+                            "an RV chart needs Keplerian elements")
+    k = float(target.get("k_ms", np.nan))
+    known_k = np.isfinite(k)
+    gamma = float(target.get("gamma_ms", np.nan)) if known_k else 0.0
+    gamma = gamma if np.isfinite(gamma) else 0.0
+    w = np.radians(w_deg)
+    phase = np.linspace(0.0, 1.0, n_phase)
+    rv = geometry.radial_velocity(tp + phase * p, tp, p, e, w, k if known_k else 1.0, gamma)
+    fig = _figure(8.0, 4.2, margins_in=(0.85, 0.2, 0.35, 0.55))
+    ax = fig.add_subplot()
+    ax.plot(phase, rv, color=PALETTE[0], lw=1.6, label="RV of the primary", gid="curve")
+    ph_events = geometry.event_phases(e, w)
+    wanted = target.get("events", geometry.ORBIT_EVENTS) or geometry.ORBIT_EVENTS
+    for i, name in enumerate(geometry.ORBIT_EVENTS):
+        if name not in wanted:
+            continue
+        ax.axvline(ph_events[i], color=PALETTE[1 + i % (len(PALETTE) - 1)], lw=1.0, ls=":", gid=f"event:{name}")
+        ax.annotate(name.replace("_", " "), (ph_events[i], 1.0), xycoords=("data", "axes fraction"),
+                    xytext=(2, -4), textcoords="offset points", rotation=90, va="top", fontsize=7)
+    if len(blocks):
+        ra, dec = float(target["ra_deg"]), float(target["dec_deg"])
+        s = to_bjd_tdb(blocks["start_jd_utc"].to_numpy(float), "JD_UTC", ra, dec)
+        en = to_bjd_tdb(blocks["end_jd_utc"].to_numpy(float), "JD_UTC", ra, dec)
+        for (_, b), s_b, e_b in zip(blocks.iterrows(), s, en):
+            p0 = np.mod((s_b - tp) / p, 1.0)
+            width = min((e_b - s_b) / p, 1.0)
+            pieces = [(p0, min(p0 + width, 1.0))] + ([(0.0, p0 + width - 1.0)] if p0 + width > 1.0 else [])
+            for a, z in pieces:
+                ax.axvspan(a, max(z, a + 0.002), color="#d08c00", alpha=0.35, lw=0, gid="block")
+            mid_bjd = 0.5 * (s_b + e_b)
+            mid_ph = np.mod((mid_bjd - tp) / p, 1.0)
+            mid_rv = geometry.radial_velocity(mid_bjd, tp, p, e, w, k if known_k else 1.0, gamma)
+            ax.plot([mid_ph], [mid_rv], marker="o", color="#d08c00", markeredgecolor="black", ls="none",
+                    gid="planned")
+            ax.annotate(str(b["night"]), (p0, 0.02), xycoords=("data", "axes fraction"), fontsize=7,
+                        rotation=90, va="bottom")
+    ax.set_xlim(0.0, 1.0)
+    ax.set_xlabel("orbital phase after periastron (mean anomaly / 2 pi)")
+    ax.set_ylabel("radial velocity (m/s)" if known_k else "radial velocity / K (K not in catalogue)")
+    ax.grid(alpha=0.3, lw=0.5)
+    ax.set_title(f"{target['name']}: RV over one orbit (P = {p:.4g} d, e = {e:.3g}); shaded = planned blocks",
+                 fontsize=10)
+    return fig
+
+
+def write_rv_chart(path, target, blocks, n_phase: int = 600):
+    """PNG of :func:`rv_figure` at ``path`` (atomic); returns ``path``."""
+    return save_png(rv_figure(target, blocks, n_phase), path)

@@ -1,0 +1,188 @@
+"""Write a :class:`~planner.plan.Plan` to a folder: schedule, nightly lists, charts, calendar.
+
+Files (all in ``out_dir``):
+
+=============================  ===============================================================
+``schedule.csv``               one row per block (:func:`planner.sheets.write_schedule_csv`)
+``night-YYYY-MM-DD.txt/.html`` printable list of each night (:mod:`planner.sheets`)
+``altitude-YYYY-MM-DD.png``    altitude of the night's scheduled targets (:mod:`planner.charts`)
+``week.png``                   the week's blocks, one row per night
+``rv-TARGET.png``              RV over orbital phase of each scheduled eccentric target with K
+``plan.ics``                   one calendar event per block (:mod:`planner.ical`)
+``summary.txt``                the terminal summary
+``unobservable.csv``           targets that never rise high enough at the site, with the reason
+=============================  ===============================================================
+
+Nothing is half-written: every file is first made in a temporary folder beside ``out_dir`` and
+moved into place only when all of them exist, each move an atomic rename, so an error or an
+interruption leaves a previous plan in ``out_dir`` as it was. Existing files are replaced only
+with ``force=True``; otherwise :class:`OutputExists` is raised before anything is computed.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+import shutil
+import tempfile
+
+import numpy as np
+
+from ..errors import PeriplanError
+
+#: Sample step (days) of the altitude curves in the night charts: 5 minutes.
+CHART_STEP_D = 5.0 / 1440.0
+FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt", "unobservable.csv")
+_PLAN_FILE = re.compile(r"^(night-\d{4}-\d{2}-\d{2}\.(txt|html)|altitude-\d{4}-\d{2}-\d{2}\.png|rv-.+\.png)$")
+
+
+class OutputExists(PeriplanError):
+    """The output folder already holds plan files and ``force`` was not given.
+
+    ``folder`` is the folder, ``found`` the plan files in it; the command line adds its options.
+    """
+
+    def __init__(self, folder: str, found: list[str]):
+        shown = ", ".join(found[:3]) + (", ..." if len(found) > 3 else "")
+        super().__init__(f"{folder}: already holds a plan ({shown})")
+        self.folder, self.found = folder, found
+
+
+def safe_file_name(name: str) -> str:
+    """A target name made safe for a file name: letters, digits, '-', '_' and '.' kept."""
+    return re.sub(r"[^A-Za-z0-9._-]+", "_", name).strip("_") or "target"
+
+
+def existing_plan_files(out_dir) -> list[str]:
+    """Names of files in ``out_dir`` that a plan would write (empty when none or no folder)."""
+    try:
+        names = os.listdir(out_dir)
+    except (FileNotFoundError, NotADirectoryError):
+        return []
+    return sorted(n for n in names if n in FIXED_NAMES or _PLAN_FILE.match(n))
+
+
+def check_out_dir(out_dir, force: bool) -> None:
+    """Raise :class:`OutputExists` (or PeriplanError) when ``out_dir`` cannot take a new plan."""
+    out_dir = os.fspath(out_dir)
+    if os.path.exists(out_dir) and not os.path.isdir(out_dir):
+        raise PeriplanError(f"{out_dir}: exists and is not a folder")
+    found = existing_plan_files(out_dir)
+    if found and not force:
+        raise OutputExists(out_dir, found)
+
+
+def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = None, progress=None,
+               workers: int | None = None) -> list[str]:
+    """Write every file of ``plan`` into ``out_dir`` (created if needed); returns their paths.
+
+    ``progress``, when given, is called with the name of each file as it is made. Charts are
+    drawn by up to ``workers`` processes (default: two where the machine has two cores and can
+    fork, else one); the plan is the same either way.
+    """
+    from . import ical, sheets
+    from .tables import render
+
+    out_dir = os.fspath(out_dir)
+    check_out_dir(out_dir, force)
+    os.makedirs(out_dir, exist_ok=True)
+    tz = plan.site.timezone
+    staging = tempfile.mkdtemp(prefix=".periplan-", dir=out_dir)
+    made = []
+
+    def path(name):
+        made.append(name)
+        if progress is not None:
+            progress(name)
+        return os.path.join(staging, name)
+
+    try:
+        schedule, nights = plan.schedule, plan.nights
+        jobs = chart_jobs(plan, path)  # the slow ones first, so both workers stay busy
+        jobs.append((sheets.write_schedule_csv, (path("schedule.csv"), schedule), {"tz": tz}))
+        for label in nights["night"].astype(str):
+            for ext in ("txt", "html"):
+                path(f"night-{label}.{ext}")
+        jobs.append((sheets.write_night_sheets, (staging, schedule, nights), {"tz": tz, "site_name": plan.site.name}))
+        jobs.append((ical.write_ics, (path("plan.ics"), schedule), {"site_name": plan.site.name}))
+        if len(plan.never_rising):
+            text = render(plan.never_rising.drop(columns="target_index"), "csv",
+                          {"culmination_alt_deg": ".2f", "limit_deg": ".2f"})
+            jobs.append((_write_text, (path("unobservable.csv"), text), {}))
+        if summary_text is not None:
+            jobs.append((_write_text, (path("summary.txt"), summary_text), {}))
+        _draw(jobs, workers)
+        final = []
+        for name in made:
+            os.replace(os.path.join(staging, name), os.path.join(out_dir, name))
+            final.append(os.path.join(out_dir, name))
+        return final
+    finally:
+        shutil.rmtree(staging, ignore_errors=True)
+
+
+def chart_jobs(plan, path) -> list[tuple]:
+    """The plan's charts as ``(writer, args, kwargs)`` jobs; ``path(name)`` gives each file's path.
+
+    The astronomy (altitude curves) is done here, so a job only draws.
+    """
+    from . import charts
+
+    schedule, nights, tz = plan.schedule, plan.nights, plan.site.timezone
+    jobs = [(charts.write_week_chart, (path("week.png"), schedule, nights),
+             {"tz": tz, "title": f"{plan.site.name}: the week's plan"})]
+    for _, night in nights.iterrows():
+        blocks = schedule[schedule["night"].astype(str) == str(night["night"])]
+        if blocks.empty:
+            continue
+        start = night["sunset_jd_utc"] if np.isfinite(night["sunset_jd_utc"]) else night["noon_jd_utc"]
+        end = night["sunrise_jd_utc"] if np.isfinite(night["sunrise_jd_utc"]) else night["next_noon_jd_utc"]
+        t = np.arange(start - 1.0 / 24, end + 1.0 / 24 + CHART_STEP_D / 2, CHART_STEP_D)
+        order = list(dict.fromkeys(blocks["target_index"].astype(int)))
+        alt = plan.altitude_deg(np.array(order)[:, None], t[None, :])
+        names = [str(plan.targets["name"].iloc[i]) for i in order]
+        jobs.append((charts.write_night_chart,
+                     (path(f"altitude-{night['night']}.png"), night, t, alt, names, blocks,
+                      plan.site.min_altitude_deg),
+                     {"tz": tz, "title": f"{plan.site.name}, night of {night['night']}",
+                      "moon_alt_deg": plan.tracks.moon_altaz_deg(t)[0]}))
+    for ti in sorted(set(schedule["target_index"].astype(int))) if len(schedule) else []:
+        target = plan.targets.iloc[ti]
+        if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
+            jobs.append((charts.write_rv_chart, (path(f"rv-{safe_file_name(str(target['name']))}.png"), target,
+                                                 schedule[schedule["target_index"] == ti]), {}))
+    return jobs
+
+
+def _write_text(path, text):
+    with open(path, "w", encoding="utf-8", newline="") as fh:
+        fh.write(text)
+
+
+def _run_job(job):
+    writer, args, kwargs = job
+    writer(*args, **kwargs)
+
+
+def _draw(jobs, workers):
+    """Run the writing jobs, on two forked processes when that can help (bench/bench_plan.py)."""
+    import multiprocessing as mp
+
+    if workers is None:
+        workers = 2 if (os.cpu_count() or 1) >= 2 and "fork" in mp.get_all_start_methods() else 1
+    if workers <= 1 or len(jobs) < 4:
+        for job in jobs:
+            _run_job(job)
+        return
+    from concurrent.futures import ProcessPoolExecutor
+    from concurrent.futures.process import BrokenProcessPool
+
+    import matplotlib.backends.backend_agg  # noqa: F401  imported once here, not in each worker
+    import matplotlib.figure  # noqa: F401
+
+    try:
+        with ProcessPoolExecutor(max_workers=workers, mp_context=mp.get_context("fork")) as pool:
+            for future in [pool.submit(_run_job, job) for job in jobs]:
+                future.result()
+    except BrokenProcessPool:
+        raise PeriplanError("a plan file could not be made (its process stopped); nothing was written") from None

@@ -1,0 +1,137 @@
+"""Tables for people: engine tables -> columns with UTC, local time and minutes; text, CSV, JSON.
+
+The one place where engine tables (UTC Julian dates, days) become display tables (ISO strings in
+UTC and local time, minutes) and where tables are rendered for the terminal or a file.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+import pandas as pd
+
+from ..errors import PeriplanError
+from ..scheduling.blocks import MIN_PER_DAY
+from ..scheduling.score import SCORE_COLUMNS
+from ..timescales import clock
+
+FORMATS = ("table", "csv", "json")
+
+
+def events_frame(events: pd.DataFrame, t_utc, tz: str | None) -> pd.DataFrame:
+    """Events for display and export, from :func:`seen_in_span`'s two results.
+
+    Columns ``target, event, label, cycle, bjd_tdb, utc`` (ISO 8601, ``Z``), ``local`` (only when
+    ``tz`` is given), ``sigma_min`` (1-sigma, minutes) and ``duration_h``.
+    """
+    some = len(events) > 0
+    out = pd.DataFrame({
+        "target": events["target"], "event": events["event"], "label": events["label"],
+        "cycle": events["cycle"], "bjd_tdb": events["bjd_tdb"],
+        "utc": clock.utc_to_iso_z(t_utc) if some else np.array([], dtype=object),
+    })
+    if tz:
+        out["local"] = clock.utc_to_local_iso(t_utc, tz) if some else np.array([], dtype=object)
+    out["sigma_min"] = events["sigma_d"].to_numpy(float) * 1440.0
+    out["duration_h"] = events["duration_d"].to_numpy(float) * 24.0
+    return out
+
+
+#: Up to this many targets that never rise get a warning line each; more get one line in all.
+MAX_WARNING_LINES = 10
+
+
+def never_rising_lines(table: pd.DataFrame, site_name: str, listed_in: str | None = None) -> list[str]:
+    """Warning lines for targets that can never be observed from the site (none is dropped silently).
+
+    One line per target up to :data:`MAX_WARNING_LINES`, else one line that counts them and
+    names the first, and ``listed_in`` (a file holding them all) when given.
+    """
+    if len(table) <= MAX_WARNING_LINES:
+        return [f"{row.target} never rises high enough at {site_name}: {row.reason}" for row in table.itertuples()]
+    first = table.iloc[0]
+    where = f"; all are listed in {listed_in}" if listed_in else ""
+    return [f"{len(table)} targets never rise high enough at {site_name} (e.g. {first['target']}: "
+            f"{first['reason']}){where}"]
+
+
+#: Night-table times shown by :func:`nights_frame`, as ``NAME_jd_utc`` columns.
+NIGHT_TIME_COLUMNS = ("sunset", "dark_start", "dark_end", "sunrise")
+
+
+def nights_frame(nights: pd.DataFrame, tz: str) -> pd.DataFrame:
+    """Display table of a night table: ISO times in UTC and local time, hours, illumination."""
+    out = pd.DataFrame({"night": nights["night"].to_numpy(object)})
+    for name in NIGHT_TIME_COLUMNS:
+        out[f"{name}_utc"] = clock.jd_utc_to_iso_z(nights[f"{name}_jd_utc"].to_numpy(float))
+    for name in NIGHT_TIME_COLUMNS:
+        out[f"{name}_local"] = clock.jd_utc_to_local_iso(nights[f"{name}_jd_utc"].to_numpy(float), tz)
+    for col in ("dark_kind", "dark_h", "moon_illumination", "moon_up_dark_h"):
+        out[col] = nights[col].to_numpy()
+    return out
+
+
+def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
+    """The schedule for people and spreadsheets: ISO times in UTC and local time, minutes, notes.
+
+    Columns ``night, start_utc, end_utc, start_local, end_local, target, event, label, kind,
+    event_utc, event_sigma_min, score, x_priority, x_rarity, pts_*, alt_start_deg, alt_mid_deg, alt_end_deg, airmass,
+    moon_sep_deg, moon_illumination, observable_fraction, notes``. Local columns are empty
+    without ``tz`` (an IANA zone name).
+    """
+    n = len(schedule)
+
+    def iso(col, local):
+        jd = schedule[col].to_numpy(float)
+        if local and not tz:
+            return np.full(n, "", dtype=object)
+        return clock.jd_utc_to_local_iso(jd, tz) if local else clock.jd_utc_to_iso_z(jd)
+
+    frame = pd.DataFrame({
+        "night": schedule["night"].to_numpy(object),
+        "start_utc": iso("start_jd_utc", False), "end_utc": iso("end_jd_utc", False),
+        "start_local": iso("start_jd_utc", True), "end_local": iso("end_jd_utc", True),
+        "target": schedule["target"].to_numpy(object), "event": schedule["event"].to_numpy(object),
+        "label": schedule["label"].to_numpy(object), "kind": schedule["kind"].to_numpy(object),
+        "event_utc": iso("event_jd_utc", False),
+        "event_sigma_min": schedule["event_sigma_d"].to_numpy(float) * MIN_PER_DAY,
+        "score": schedule["score"].to_numpy(float),
+    })
+    for c in SCORE_COLUMNS[:-1] + ("alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg",
+                              "moon_illumination", "observable_fraction", "notes"):
+        frame[c] = schedule[c].to_numpy()
+    return frame
+
+
+def _json_value(v):
+    if v is None or v is pd.NA or (isinstance(v, float) and math.isnan(v)):
+        return None
+    if isinstance(v, np.generic):
+        return v.item()
+    return v
+
+
+def render(frame: pd.DataFrame, fmt: str, float_formats: dict | None = None) -> str:
+    """Text of ``frame`` as an aligned terminal table, CSV (with header) or a JSON list of objects.
+
+    ``float_formats`` maps column names to format strings for the terminal table and CSV (JSON
+    keeps full precision).
+    """
+    if fmt == "json":
+        records = [{k: _json_value(v) for k, v in row.items()} for row in frame.to_dict(orient="records")]
+        return json.dumps(records, indent=1) + "\n"
+    shown = frame.copy()
+    for col, spec in (float_formats or {}).items():
+        if col in shown:
+            shown[col] = [("" if (v is None or v is pd.NA or (isinstance(v, float) and math.isnan(v)))
+                           else format(v, spec)) for v in shown[col]]
+    if fmt == "csv":
+        return shown.to_csv(index=False, lineterminator="\n")
+    if fmt == "table":
+        if shown.empty:
+            return "(none)\n"
+        shown = shown.astype(object).where(pd.notna(shown), "")
+        return shown.to_string(index=False) + "\n"
+    raise PeriplanError(f"unknown format {fmt!r}; expected one of {', '.join(FORMATS)}")

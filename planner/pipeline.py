@@ -1,0 +1,143 @@
+"""The whole pipeline in one call: target table + site + nights -> :class:`Plan`.
+
+:func:`make_plan` runs the stages in order (nights, events, observable intervals, event
+visibility, schedule) and returns every intermediate table, so the command line, the notebook
+and the tests see the same thing. It reads and writes no files; :mod:`planner.plan_files` writes
+a plan out. Times are UTC Julian dates (``*_jd_utc``) except the events' ``bjd_tdb``.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import datetime as dt
+import logging
+
+import numpy as np
+import pandas as pd
+
+from . import numerics
+from .orbits.events import predict_events
+from .scheduling.schedule import ScheduleOptions, plan_week
+from .sky import night as night_mod
+from .sky import positions, windows
+from .timescales.epochs import utc_to_tdb_jd
+
+log = logging.getLogger(__name__)
+
+#: Stages reported to a progress callback, in order.
+STAGES = ("nights", "events", "intervals", "visibility", "schedule")
+#: Events are predicted this many days beyond the nights' edges, so that a window reaching into
+#: the week from an event just outside it (a long transit, a wide timing uncertainty) is seen.
+EVENT_MARGIN_D = 1.0
+
+
+@dataclasses.dataclass(frozen=True)
+class PlanSettings:
+    """What the observer asks for beyond the site file.
+
+    ``baseline_h``: out-of-event time wanted either side of each event; ``k_sigma``: windows are
+    widened by this many 1-sigma timing uncertainties either side; ``schedule``: the
+    scheduler's options (overhead, repeat rule, score weights).
+    """
+
+    baseline_h: float = windows.DEFAULT_BASELINE_H
+    k_sigma: float = windows.DEFAULT_K_SIGMA
+    schedule: ScheduleOptions = ScheduleOptions()
+
+
+@dataclasses.dataclass
+class Plan:
+    """Everything a week's plan is made of (tables as in the modules that make them)."""
+
+    site: object
+    targets: pd.DataFrame
+    nights: pd.DataFrame
+    events: pd.DataFrame        # planner.windows.event_visibility output, events in the nights only
+    intervals: pd.DataFrame     # planner.windows.observable_intervals
+    schedule: pd.DataFrame      # planner.schedule.plan_week
+    never_rising: pd.DataFrame  # planner.windows.never_rising
+    tracks: object              # planner.visibility.SkyTracks of the Sun and Moon
+    settings: PlanSettings
+
+    def altitude_deg(self, target_index, jd_utc):
+        """Airless altitude (deg) of targets (row numbers) at UTC Julian dates, broadcast."""
+        return windows.target_positions(self.targets, self.site, target_index, jd_utc).alt_deg
+
+    def moon_sep_deg(self, target_index, jd_utc):
+        """Topocentric Moon-target separation (deg) of targets at UTC Julian dates, broadcast."""
+        return moon_separation_deg(self.targets, self.tracks, target_index, jd_utc)
+
+
+def moon_separation_deg(targets, tracks, target_index, jd_utc):
+    """Moon-target separation (deg), broadcast over ``target_index`` and ``jd_utc``.
+
+    The target's apparent (CIRS) place is taken once, at the middle of the times: it moves by
+    well under an arcsecond in a week, against the Moon's half-degree disc.
+    """
+    ti, jd = np.broadcast_arrays(np.asarray(target_index, dtype=int), np.asarray(jd_utc, dtype=float))
+    if ti.size == 0:
+        return np.zeros(ti.shape)
+    mid_tdb = float(utc_to_tdb_jd(np.array([np.nanmean(jd)]))[0])
+    uniq, inverse = np.unique(ti, return_inverse=True)
+    ra, dec = positions.cirs_place(targets["ra_deg"].to_numpy(float)[uniq],
+                                    targets["dec_deg"].to_numpy(float)[uniq], mid_tdb)
+    vec = numerics.unit_vectors(ra, dec)[inverse.reshape(ti.shape)]
+    return positions.separation_deg(vec, tracks.moon_vector(jd))
+
+
+def first_night_for(start, timezone: str, now: dt.datetime | None = None) -> dt.date:
+    """The first night's label: ``start`` as a date, or the night now under way or coming.
+
+    Nights are labelled by the local date of their evening and run from noon to noon, so before
+    local noon (at 2 a.m., say) the current night is the one labelled with yesterday's date.
+    ``now`` (an aware datetime) is for tests; it defaults to the present moment.
+    """
+    if start is not None:
+        return start if isinstance(start, dt.date) else dt.date.fromisoformat(str(start))
+    from .timescales.clock import zone
+
+    local = (now or dt.datetime.now(dt.timezone.utc)).astimezone(zone(timezone))
+    return (local - dt.timedelta(hours=12)).date()
+
+
+def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
+              settings: PlanSettings = PlanSettings(), progress=None) -> Plan:
+    """The week's :class:`Plan` for ``n_nights`` nights from ``first_night`` (a date label).
+
+    ``targets`` from :func:`planner.catalogue.read_catalogue`, ``site`` from
+    :func:`planner.site.read_site`. ``progress``, when given, is called with each name of
+    :data:`STAGES` as that stage starts. Deterministic: the same inputs give the same plan.
+    """
+    from astropy.time import Time
+
+    def stage(name):
+        log.info("stage: %s", name)
+        if progress is not None:
+            progress(name)
+
+    stage("nights")
+    # Sun and Moon tracks reach past the nights by the event margin (plus the light time), so that
+    # events just outside the week can still be placed
+    tracks = night_mod.tracks_for_nights(site, first_night, n_nights, margin_d=EVENT_MARGIN_D + 0.05)
+    nights = night_mod.night_table(site, first_night, n_nights, tracks=tracks)
+
+    stage("events")
+    span = Time([nights["noon_jd_utc"].min() - EVENT_MARGIN_D, nights["next_noon_jd_utc"].max() + EVENT_MARGIN_D],
+                format="jd", scale="utc").tdb.jd
+    events = predict_events(targets, span[0], span[1])
+
+    stage("intervals")
+    intervals = windows.observable_intervals(targets, site, nights, tracks=tracks)
+
+    stage("visibility")
+    visible = windows.event_visibility(events, targets, site, nights, baseline_h=settings.baseline_h,
+                                       k_sigma=settings.k_sigma, tracks=tracks, intervals=intervals)
+    visible = visible[visible["night"].notna()].reset_index(drop=True)
+
+    stage("schedule")
+    plan = Plan(site=site, targets=targets, nights=nights, events=visible, intervals=intervals,
+                schedule=pd.DataFrame(), never_rising=windows.never_rising(targets, site), tracks=tracks,
+                settings=settings)
+    plan.schedule = plan_week(visible, intervals, targets, nights, altitude_deg=plan.altitude_deg,
+                              moon_sep_deg=plan.moon_sep_deg, options=settings.schedule)
+    return plan

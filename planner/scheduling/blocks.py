@@ -1,0 +1,133 @@
+"""What the scheduler's stages share: table layouts, block kinds, options and small helpers.
+
+All times are UTC Julian dates (plain floats, ``*_jd_utc``); the scheduler does no astronomy or
+time-scale work of its own: altitudes and Moon separations come in as functions, each event's
+UTC time as the visible table's ``jd_utc`` column.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from ..errors import PeriplanError
+from ..sky.night import night_of
+from ..timescales.clock import date_to_jd_utc
+from .score import DEFAULT_WEIGHTS, SCORE_COLUMNS, ScoreWeights
+
+REPEAT_RULES = ("every", "first", "best")
+FIXED, FLEXIBLE = "fixed", "flexible"
+MIN_PER_DAY = 1440.0
+#: Samples of altitude through a block (start, interior, end) for airmass and the notes.
+ALT_SAMPLES = 9
+
+VISIBLE_COLUMNS = ("target", "event", "label", "bjd_tdb", "sigma_d", "target_index", "night",
+                   "window_start_jd_utc", "window_end_jd_utc", "observable_fraction",
+                   "observable_start_jd_utc", "observable_end_jd_utc", "moon_sep_deg", "moon_illumination",
+                   "jd_utc")
+AVAILABILITY_COLUMNS = ("target_index", "target", "night", "start_jd_utc", "end_jd_utc", "max_alt_deg")
+NIGHT_COLUMNS = ("night", "sunset_jd_utc", "dark_start_jd_utc", "dark_end_jd_utc", "sunrise_jd_utc",
+                 "moon_illumination")
+
+SCHEDULE_COLUMNS = (
+    "night", "start_jd_utc", "end_jd_utc", "target", "target_index", "event", "label", "kind",
+    "event_jd_utc", "event_sigma_d", "window_start_jd_utc", "window_end_jd_utc", "observable_fraction",
+    "priority", "period_d", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg",
+    "moon_illumination",
+) + SCORE_COLUMNS + ("notes",)
+
+
+@dataclass(frozen=True)
+class ScheduleOptions:
+    """Settings of :func:`plan_week`.
+
+    ``overhead_min``: setup/slew time (minutes) required between consecutive blocks.
+    ``repeats``: week rule for repeated target/events, one of :data:`REPEAT_RULES`.
+    ``min_block_min``: fixed candidates with a shorter observable stretch are dropped.
+    ``twilight_margin_min``: a block starting or ending this close to the edges of astronomical
+    darkness gets a note. ``flex_step_min``: step of the search for a flexible visit's start.
+    ``event_inside_only``: keep only fixed blocks that contain the predicted event moment (a
+    block that catches only the baseline or a wing of a long window is dropped); set False to
+    schedule partial windows whatever they hold. ``weights``: the score weights.
+    """
+
+    overhead_min: float = 10.0
+    repeats: str = "every"
+    event_inside_only: bool = True
+    min_block_min: float = 10.0
+    twilight_margin_min: float = 30.0
+    flex_step_min: float = 5.0
+    weights: ScoreWeights = field(default_factory=lambda: DEFAULT_WEIGHTS)
+
+    def __post_init__(self):
+        if self.repeats not in REPEAT_RULES:
+            raise PeriplanError(f"repeat rule {self.repeats!r} is unknown; expected one of {', '.join(REPEAT_RULES)}")
+        for name in ("overhead_min", "min_block_min", "twilight_margin_min"):
+            v = getattr(self, name)
+            if not (np.isfinite(v) and v >= 0):
+                raise PeriplanError(f"{name} must be a finite number of minutes >= 0; got {v!r}")
+        if not (np.isfinite(self.flex_step_min) and self.flex_step_min > 0):
+            raise PeriplanError(f"flex_step_min must be a positive number of minutes; got {self.flex_step_min!r}")
+
+
+
+def require_columns(frame: pd.DataFrame, columns, what: str) -> None:
+    missing = [c for c in columns if c not in frame.columns]
+    if missing:
+        raise PeriplanError(f"{what} table lacks column(s) {', '.join(missing)}; expected {', '.join(columns)}")
+
+
+def sample_times(start, end, k=ALT_SAMPLES):
+    """(n, k) times evenly spaced from start to end of each block."""
+    f = np.linspace(0.0, 1.0, k)
+    return np.asarray(start, float)[:, None] + (np.asarray(end, float) - np.asarray(start, float))[:, None] * f
+
+
+def altitudes(altitude_deg, target_index, times):
+    """(n, k) altitudes from the caller's function, or NaN when none is given."""
+    if altitude_deg is None or times.size == 0:
+        return np.full(times.shape, np.nan)
+    idx = np.broadcast_to(np.asarray(target_index, dtype=int)[:, None], times.shape)
+    alt = np.asarray(altitude_deg(idx, times), dtype=float)
+    if alt.shape != times.shape:
+        raise PeriplanError(f"altitude function returned shape {alt.shape}; expected {times.shape}")
+    return alt
+
+
+def night_index(jd_utc, nights: pd.DataFrame) -> np.ndarray:
+    """Row of ``nights`` (int array, -1 when none) whose night holds each UTC Julian date.
+
+    A night runs from ``noon_jd_utc`` to ``next_noon_jd_utc`` when the table has them (the
+    night engine's windows); otherwise from 12 h before to 12 h after the middle of sunset and
+    sunrise (or of the dark interval, or of the label date's following midnight UTC).
+    """
+    jd = np.atleast_1d(np.asarray(jd_utc, dtype=float))
+    if len(nights) == 0:
+        return np.full(jd.shape, -1)
+    if "noon_jd_utc" in nights and "next_noon_jd_utc" in nights:
+        return night_of(jd, nights)
+    mid = 0.5 * (nights["sunset_jd_utc"].to_numpy(float) + nights["sunrise_jd_utc"].to_numpy(float))
+    dark_mid = 0.5 * (nights["dark_start_jd_utc"].to_numpy(float) + nights["dark_end_jd_utc"].to_numpy(float))
+    label_mid = np.array([_label_midnight_jd_utc(x) for x in nights["night"].astype(str)])
+    mid = np.where(np.isfinite(mid), mid, np.where(np.isfinite(dark_mid), dark_mid, label_mid))
+    lo, hi = mid - 0.5, mid + 0.5
+    inside = (jd[:, None] >= lo[None, :]) & (jd[:, None] < hi[None, :])
+    return np.where(inside.any(axis=1), np.argmax(inside, axis=1), -1)
+
+
+def _label_midnight_jd_utc(label: str) -> float:
+    """JD (UTC) of 00:00 UTC on the day after the date ``label``; NaN when it is not a date."""
+    try:
+        return date_to_jd_utc(label) + 1.0
+    except PeriplanError:
+        return np.nan
+
+
+def mean_airmass(airmass):
+    """(n,) mean over the samples of (n, k) airmasses, ignoring NaN; NaN where all are NaN."""
+    known = ~np.isnan(airmass)
+    count = known.sum(axis=1)
+    total = np.where(known, airmass, 0.0).sum(axis=1)
+    return np.where(count > 0, total / np.maximum(count, 1), np.nan)
