@@ -31,7 +31,7 @@ def main(argv=None):
     parser.add_argument("--repeat", type=int, default=5, help="repeats; the best time counts (default 5)")
     args = parser.parse_args(argv)
 
-    from planner.orbits.kepler import solve_kepler
+    from planner import solve_kepler
     import radvel.kepler as rk
 
     try:

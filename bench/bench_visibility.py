@@ -20,10 +20,10 @@ import warnings
 import numpy as np
 import pandas as pd
 
-from planner.timescales import earth_orientation
+from planner import Site, night_table
 from planner.sky import windows
-from planner.sky.night import night_table, tracks_for_nights
-from planner.inputs.site import Site
+from planner.sky.night import tracks_for_nights
+from planner.timescales import earth_orientation
 
 SITE = Site(name="bench", latitude_deg=37.62, longitude_deg=-3.12, elevation_m=1650.0, timezone="Europe/Madrid",
             min_altitude_deg=30.0, moon_min_sep_deg=25.0, sun_min_sep_deg=0.0)

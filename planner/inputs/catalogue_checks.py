@@ -1,0 +1,333 @@
+"""One validator per concern of a catalogue row: names, coordinates, period, e/omega, epoch,
+time system, eclipse geometry, observing settings and events.
+
+Each validator takes a :class:`Cells` view of the raw table (text cells, one row per target,
+indexed by file row) and returns plain numpy columns in the engine's units; every problem becomes
+an :class:`~planner.errors.InputError` naming file, row, column and value, collected in
+``cells.errors`` so that one run reports every bad row. :func:`planner.inputs.catalogue.parse_catalogue`
+calls them in order and assembles the target table.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import re
+
+import numpy as np
+import pandas as pd
+
+from ..errors import InputError
+from ..orbits.geometry import ALL_EVENTS, ORBIT_EVENTS, PERIODIC_EVENT
+from ..timescales import epochs
+
+EPOCH_COLUMNS = ("tp", "tc", "t0")
+#: Smallest full Julian date accepted as an epoch (JD 2000000 is 763 AD); anything below it is
+#: taken to be a reduced date that needs ``time_offset_d``.
+MIN_FULL_JD = 2_000_000.0
+MAX_FULL_JD = 3_000_000.0
+#: Default events of an orbit, by whether it is eccentric (circular orbits have no periastron).
+DEFAULT_EVENTS_ECCENTRIC = ORBIT_EVENTS
+DEFAULT_EVENTS_CIRCULAR = ("primary_conjunction", "secondary_conjunction", "rv_max", "rv_min")
+
+_SEXAGESIMAL = re.compile(r"^\s*([+-]?)\s*(\d+)[:\s]+(\d+)(?:[:\s]+(\d+(?:\.\d*)?))?\s*$")
+
+
+@dataclasses.dataclass
+class Cells:
+    """The raw catalogue (text cells, index = file row) with its source name and error list."""
+
+    frame: pd.DataFrame
+    source: str
+    errors: list
+
+    @property
+    def n(self) -> int:
+        return len(self.frame)
+
+    @property
+    def rows(self) -> np.ndarray:
+        return self.frame.index.to_numpy()
+
+    def err(self, row, column, message, value=None) -> None:
+        self.errors.append(InputError(message, file=self.source, row=int(row), column=column, value=value))
+
+    def text(self, column) -> np.ndarray:
+        """The column's text cells (``""`` for every row when the column is absent)."""
+        if column not in self.frame:
+            return np.full(self.n, "", dtype=object)
+        return self.frame[column].astype(str).to_numpy()
+
+    def given(self, column) -> np.ndarray:
+        """True where the column exists and its cell is not empty."""
+        return self.text(column) != ""
+
+    def numeric(self, column, default=np.nan, positive=False, nonnegative=False) -> np.ndarray:
+        """Column as floats; bad cells become NaN (or ``default``) and an InputError each."""
+        if column not in self.frame:
+            return np.full(self.n, default, dtype=float)
+        text = self.frame[column].astype(str)
+        values = pd.to_numeric(text.where(text != "", None), errors="coerce").to_numpy(dtype=float, copy=True)
+        bad_number = (text != "").to_numpy() & ~np.isfinite(values)
+        for row, v in zip(self.frame.index[bad_number], text[bad_number]):
+            self.err(row, column, f"{v!r} is not a number", v)
+        values[bad_number] = np.nan
+        if positive:
+            bad = values <= 0
+            for row, v in zip(self.frame.index[bad], text[bad]):
+                self.err(row, column, f"{v} must be positive", v)
+            values[bad] = np.nan
+        if nonnegative:
+            bad = values < 0
+            for row, v in zip(self.frame.index[bad], text[bad]):
+                self.err(row, column, f"{v} must not be negative (it is a 1-sigma uncertainty)", v)
+            values[bad] = np.nan
+        return np.where(np.isnan(values), default, values) if not np.isnan(default) else values
+
+
+def parse_angle(text: str, hours: bool) -> float:
+    """Angle in degrees from decimal degrees or sexagesimal text; ``hours`` for right ascension.
+
+    Raises ValueError with the reason when the text is not a valid angle.
+    """
+    m = _SEXAGESIMAL.match(text)
+    if m:
+        sign, a, b, c = m.groups()
+        a, b, c = int(a), int(b), float(c or 0.0)
+        if b >= 60 or c >= 60:
+            raise ValueError("minutes and seconds must be below 60")
+        value = a + b / 60.0 + c / 3600.0
+        if hours:
+            if sign:
+                raise ValueError("a right ascension in hours has no sign")
+            if value >= 24:
+                raise ValueError("hours must be below 24")
+            return 15.0 * value
+        return -value if sign == "-" else value
+    value = float(text)  # raises ValueError
+    if not math.isfinite(value):
+        raise ValueError("not a finite number")
+    return value
+
+
+def check_names(cells: Cells) -> np.ndarray:
+    """Target names: not empty, unique in the file."""
+    rows, names = cells.rows, cells.text("name")
+    for row in rows[names == ""]:
+        cells.err(row, "name", "empty target name")
+    dup = pd.Series(names).duplicated(keep="first").to_numpy() & (names != "")
+    first_row = {}
+    for row, nm in zip(rows, names):
+        first_row.setdefault(nm, row)
+    for row, nm in zip(rows[dup], names[dup]):
+        cells.err(row, "name", f"duplicate target name {nm!r} (first at row {first_row[nm]}); names must be unique", nm)
+    return names
+
+
+def _angles(cells: Cells, column: str, is_ra: bool, expected: str) -> np.ndarray:
+    out = np.full(cells.n, np.nan)
+    what = "right ascension" if is_ra else "declination"
+    for i, (row, text) in enumerate(zip(cells.rows, cells.text(column))):
+        try:
+            out[i] = parse_angle(text, hours=is_ra and (":" in text or " " in text.strip()))
+        except ValueError as exc:
+            reason = str(exc) if "could not convert" not in str(exc) else "not a number"
+            cells.err(row, column, f"{text!r} is not a {what} ({reason}); expected {expected}", text)
+    return out
+
+
+def check_coordinates(cells: Cells):
+    """(ra_deg, dec_deg): ICRS degrees from decimal degrees or sexagesimal text; NaN where bad."""
+    ra = _angles(cells, "ra", True, "degrees 0-360 or hh:mm:ss.s")
+    bad = np.isfinite(ra) & ~((ra >= 0.0) & (ra < 360.0))
+    for row, text in zip(cells.rows[bad], cells.text("ra")[bad]):
+        cells.err(row, "ra", f"{text} is outside 0 <= ra < 360 deg", text)
+    ra[bad] = np.nan
+    dec = _angles(cells, "dec", False, "degrees or +dd:mm:ss")
+    bad = np.isfinite(dec) & ~((dec >= -90.0) & (dec <= 90.0))
+    for row, text, r in zip(cells.rows[bad], cells.text("dec")[bad], ra[bad]):
+        hint = " (are ra and dec swapped?)" if -90 <= r <= 90 else ""
+        cells.err(row, "dec", f"{text} is outside -90..+90 deg{hint}", text)
+    dec[bad] = np.nan
+    return ra, dec
+
+
+def check_period(cells: Cells):
+    """(period_d, period_err_d): the period, or Kepler's third law from a_au and the masses."""
+    period = cells.numeric("period_d", positive=True)
+    a_au = cells.numeric("a_au", positive=True)
+    m1 = cells.numeric("mass1_msun", positive=True)
+    m2 = cells.numeric("mass2_msun", default=0.0, nonnegative=True)
+    from_kepler = np.isnan(period) & np.isfinite(a_au) & np.isfinite(m1)
+    if from_kepler.any():
+        import astropy.units as u
+
+        from ..orbits.kepler import period_from_kepler_third_law
+
+        period[from_kepler] = period_from_kepler_third_law(
+            a_au[from_kepler] * u.au, (m1[from_kepler] + m2[from_kepler]) * u.M_sun).value
+    for row in cells.rows[np.isnan(period) & ~cells.given("period_d")]:
+        cells.err(row, "period_d", "missing period; give period_d (days) or a_au with mass1_msun")
+    return period, cells.numeric("period_err_d", default=0.0, nonnegative=True)
+
+
+def check_shape(cells: Cells):
+    """(e, e_err, omega_deg, omega_err_deg, linear): the orbit's shape, omega of the primary.
+
+    ``linear`` marks rows without e and omega (a linear ephemeris). A companion's omega
+    (``omega_of = companion``) gets 180 deg added; a circular orbit without omega gets 90 deg
+    (so Tp = Tc); omega is reduced to 0..360 deg.
+    """
+    rows = cells.rows
+    e = cells.numeric("e")
+    bad_e = ~np.isnan(e) & ~((e >= 0) & (e < 1))
+    for row, v in zip(rows[bad_e], e[bad_e]):
+        cells.err(row, "e", f"{v:g} is not a bound orbit; eccentricity must satisfy 0 <= e < 1", v)
+    omega = cells.numeric("omega_deg")
+    e_given, w_given = cells.given("e"), cells.given("omega_deg")
+    linear = ~e_given & ~w_given
+    need_omega = ~linear & ~w_given & ~(e == 0)
+    for row in rows[need_omega & ~bad_e & ~np.isnan(e)]:
+        cells.err(row, "omega_deg", "missing argument of periastron; it is required when e > 0")
+    for row in rows[~e_given & w_given]:
+        cells.err(row, "e", "missing eccentricity (omega_deg is given); leave both empty for a linear ephemeris")
+    e = np.where(bad_e, np.nan, e)
+
+    omega_of = np.char.lower(cells.text("omega_of").astype(str))
+    bad_of = ~np.isin(omega_of, ["", "primary", "companion"])
+    for row, v in zip(rows[bad_of], omega_of[bad_of]):
+        cells.err(row, "omega_of", f"{str(v)!r} is not allowed; expected 'primary' or 'companion'", v)
+    omega = np.where(omega_of == "companion", omega + 180.0, omega)
+    omega = np.where(np.isnan(omega) & (e == 0), 90.0, omega)  # circular: Tp = Tc convention
+    omega = np.mod(omega, 360.0)
+    e_err = cells.numeric("e_err", default=0.0, nonnegative=True)
+    omega_err = cells.numeric("omega_err_deg", default=0.0, nonnegative=True)
+    return e, e_err, omega, omega_err, linear
+
+
+def check_epoch(cells: Cells, linear: np.ndarray):
+    """(epoch_kind, full_jd, epoch_err_d): exactly one of tp / tc / t0, as a full Julian date.
+
+    ``time_offset_d`` is added first; an epoch below :data:`MIN_FULL_JD` without it is refused as
+    a reduced date, and one outside MIN_FULL_JD..MAX_FULL_JD as implausible (NaN in both cases).
+    """
+    rows, n = cells.rows, cells.n
+    present = {c: cells.given(c) for c in EPOCH_COLUMNS}
+    count = sum(present.values())
+    epoch_kind = np.full(n, "", dtype=object)
+    for c in EPOCH_COLUMNS:
+        epoch_kind[present[c]] = c
+    frame = cells.frame
+    for row in rows[count == 0]:
+        cells.err(row, "tp" if "tp" in frame else ("tc" if "tc" in frame else "t0"),
+                  "missing epoch; give tp (periastron), tc (primary conjunction) or t0 (linear ephemeris)")
+    for row in rows[count > 1]:
+        cells.err(row, "tc", "more than one epoch given (tp, tc, t0); give exactly one")
+    for row in rows[present["t0"] & ~linear]:
+        cells.err(row, "t0", "t0 is the epoch of a linear ephemeris; for an orbit with e and omega use tp or tc")
+    for row in rows[present["tp"] & linear]:
+        cells.err(row, "tp", "tp (periastron) needs e and omega_deg; for a linear ephemeris use t0 or tc")
+
+    epoch = np.full(n, np.nan)
+    epoch_err = np.zeros(n)
+    for c in EPOCH_COLUMNS:
+        vals = cells.numeric(c)
+        errs = cells.numeric(f"{c}_err_d", default=0.0, nonnegative=True)
+        epoch = np.where(present[c] & (count == 1), vals, epoch)
+        epoch_err = np.where(present[c] & (count == 1), errs, epoch_err)
+    offset_given = cells.given("time_offset_d")
+    full = epoch + cells.numeric("time_offset_d", default=0.0)
+    looks_reduced = np.isfinite(epoch) & ~offset_given & (epoch < MIN_FULL_JD)
+    for row, kind, v in zip(rows[looks_reduced], epoch_kind[looks_reduced], epoch[looks_reduced]):
+        cells.err(row, kind, f"{v:g} looks like a reduced Julian date; give the offset in column time_offset_d "
+                  "(e.g. 2400000, 2450000 or 2400000.5 for MJD)", v)
+    out_of_range = np.isfinite(full) & ~looks_reduced & ((full < MIN_FULL_JD) | (full > MAX_FULL_JD))
+    for row, kind, v in zip(rows[out_of_range], epoch_kind[out_of_range], full[out_of_range]):
+        cells.err(row, kind, f"epoch {v:.6f} (after time_offset_d) is not a plausible Julian date "
+                  f"({MIN_FULL_JD:.0f}-{MAX_FULL_JD:.0f})", v)
+    return epoch_kind, np.where(looks_reduced | out_of_range, np.nan, full), epoch_err
+
+
+def check_time_system(cells: Cells, full_jd, ra_deg, dec_deg):
+    """(time_system, epoch_bjd_tdb): the stated system (default BJD_TDB), epochs in BJD_TDB.
+
+    Converted in each target's direction by :func:`planner.timescales.epochs.to_bjd_tdb`; NaN
+    where the epoch, the coordinates or the system is bad.
+    """
+    system = np.char.upper(cells.text("time_system").astype(str))
+    system = np.where(system == "", "BJD_TDB", system)
+    bad = ~np.isin(system, epochs.TIME_SYSTEMS)
+    for row, v in zip(cells.rows[bad], system[bad]):
+        cells.err(row, "time_system", f"unknown time system {str(v)!r}; expected one of {', '.join(epochs.TIME_SYSTEMS)}", v)
+    epoch_bjd = np.full(cells.n, np.nan)
+    ok = np.isfinite(ra_deg) & np.isfinite(dec_deg) & np.isfinite(full_jd) & ~bad
+    for s in epochs.TIME_SYSTEMS:
+        sel = ok & (system == s)
+        if sel.any():
+            epoch_bjd[sel] = epochs.to_bjd_tdb(full_jd[sel], s, ra_deg[sel], dec_deg[sel])
+    return system, epoch_bjd
+
+
+def check_geometry(cells: Cells, e, omega_deg):
+    """(duration_h, a_rstar, inc_deg, rp_rstar): eclipse geometry; ``b`` becomes an inclination."""
+    rows = cells.rows
+    duration = cells.numeric("duration_h", positive=True)
+    a_rstar = cells.numeric("a_rstar", positive=True)
+    for row in rows[np.isfinite(a_rstar) & (a_rstar <= 1)]:
+        cells.err(row, "a_rstar", "a/R* must exceed 1 (the companion would orbit inside the star)")
+    inc = cells.numeric("inc_deg")
+    bad = np.isfinite(inc) & ((inc < 0) | (inc > 180))
+    for row, v in zip(rows[bad], inc[bad]):
+        cells.err(row, "inc_deg", f"{v:g} is outside 0..180 deg", v)
+    impact = cells.numeric("b", nonnegative=True)
+    rp = cells.numeric("rp_rstar", positive=True)
+    for row in rows[np.isfinite(inc) & np.isfinite(impact)]:
+        cells.err(row, "b", "give either inc_deg or b, not both")
+    from ..orbits.geometry import inclination_from_impact
+
+    with np.errstate(invalid="ignore"):
+        inc_from_b = np.degrees(inclination_from_impact(impact, a_rstar, np.nan_to_num(e), np.radians(omega_deg)))
+    inc = np.where(np.isnan(inc) & np.isfinite(impact) & np.isfinite(a_rstar), inc_from_b, inc)
+    return duration, a_rstar, inc, rp
+
+
+def check_observing(cells: Cells) -> dict:
+    """RV amplitude, systemic velocity, priority and flexible-visit settings, engine columns."""
+    return {
+        "k_ms": cells.numeric("k_ms", nonnegative=True),
+        "gamma_ms": cells.numeric("gamma_ms", default=0.0),
+        "priority": cells.numeric("priority", default=1.0, positive=True),
+        "visit_h": cells.numeric("visit_h", positive=True),
+        "visit_gap_h": cells.numeric("visit_gap_h", default=0.0, nonnegative=True),
+    }
+
+
+def check_events(cells: Cells, linear, e):
+    """(events, labels): each row's tuple of wanted event names and the label of its event.
+
+    Defaults: every event of an eccentric orbit, conjunctions and RV extremes of a circular one,
+    ``periodic`` for a linear ephemeris (labelled ``periodic`` unless ``label`` says otherwise).
+    """
+    out = []
+    for row, t, lin, ecc in zip(cells.rows, cells.text("events"), linear, e):
+        if lin:
+            default = (PERIODIC_EVENT,)
+        elif ecc == 0:
+            default = DEFAULT_EVENTS_CIRCULAR
+        else:
+            default = DEFAULT_EVENTS_ECCENTRIC
+        if not t:
+            out.append(default)
+            continue
+        wanted = tuple(dict.fromkeys(w.strip().lower() for w in t.split(";") if w.strip()))
+        unknown = [w for w in wanted if w not in ALL_EVENTS]
+        if unknown:
+            cells.err(row, "events", f"unknown event {unknown[0]!r}; expected a semicolon list of "
+                      f"{', '.join(ALL_EVENTS)}", t)
+        elif lin and set(wanted) - {PERIODIC_EVENT}:
+            cells.err(row, "events", "a linear ephemeris (no e, omega_deg) has only the event 'periodic'", t)
+        elif not lin and PERIODIC_EVENT in wanted:
+            cells.err(row, "events", "'periodic' is the event of a linear ephemeris; this row has orbital elements", t)
+        out.append(wanted)
+    labels = cells.text("label")
+    return out, np.where(labels == "", np.where(linear, "periodic", ""), labels)
