@@ -5,7 +5,6 @@ from __future__ import annotations
 import argparse
 import sys
 
-
 from ...errors import PeriplanError
 from ...outputs.tables import FORMATS, nights_frame, render
 
@@ -14,8 +13,6 @@ examples:
   periplan nights --site sample_targets/site.toml --start 2026-12-07 --days 7
   periplan nights --site site.toml --start 2027-06-01 --days 30 --format csv > nights.csv
 """
-
-#: Time columns of the table, in order; each has a ``_utc`` and a ``_local`` twin.
 
 
 def register(sub):
