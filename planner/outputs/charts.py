@@ -19,6 +19,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import PeriplanError
+from ..sky.night import darkness_of
 from ..timescales import clock
 from .atomic import atomic_write
 
@@ -84,10 +85,11 @@ def _shade_night(ax, night, ref_jd, lo_h, hi_h, y0=None, y1=None, label=True):
     if np.isfinite(d0) and np.isfinite(d1):
         span(tw0, d0, color=TWILIGHT_SHADE, alpha=0.18, lw=0, label="twilight" if label else None, gid="twilight")
         span(d1, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0, gid="twilight")
-        span(d0, d1, color=DARK_SHADE, alpha=0.22, lw=0, label="astronomical darkness" if label else None, gid="dark")
+        span(d0, d1, color=DARK_SHADE, alpha=0.22, lw=0, label=darkness_of(night)[0] if label else None,
+             gid="dark")
     elif np.isfinite(sunset) or np.isfinite(sunrise):
-        span(tw0, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0, label="Sun down, no full darkness" if label else None,
-             gid="twilight")
+        span(tw0, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0,
+             label=f"Sun down, no {darkness_of(night)[0]}" if label else None, gid="twilight")
 
 
 def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_alt_deg: float,
@@ -216,7 +218,7 @@ def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = N
                     color="black" if flexible else "white", clip_on=True)
         if here.empty:
             dark = np.isfinite(night.get("dark_start_jd_utc", np.nan))
-            ax.text(24.0, y, "nothing scheduled" if dark else "no astronomical darkness", ha="center",
+            ax.text(24.0, y, "nothing scheduled" if dark else f"no {darkness_of(night)[0]}", ha="center",
                     va="center", fontsize=8, color="#555555", style="italic")
     lo, hi = (min(spans) - 0.5, max(spans) + 0.5) if spans else (16.0, 32.0)
     ax.set_xlim(lo, hi)

@@ -20,6 +20,7 @@ import numpy as np
 import pandas as pd
 
 from ..scheduling.blocks import MIN_PER_DAY
+from ..sky.night import darkness_of
 from ..timescales import clock
 from .atomic import atomic_write
 
@@ -40,8 +41,18 @@ ACTIONS = {
     "periodic": "time series around the predicted {label}",
     "visit": "one visit (an RV point or a monitoring exposure) at any time inside the block",
 }
-SKY_ROWS = (("sunset_jd_utc", "Sunset"), ("dark_start_jd_utc", "Astronomical darkness begins"),
-            ("dark_end_jd_utc", "Astronomical darkness ends"), ("sunrise_jd_utc", "Sunrise"))
+
+
+def sky_rows(night) -> tuple[tuple[str, str], ...]:
+    """(night-table column, label) of the sky times, the darkness named as the site asked for it.
+
+    ``"Nautical darkness begins"`` for a site with ``darkness = "nautical"``, ``"Darkness (Sun
+    below -15 deg) begins"`` for a number (:func:`planner.sky.night.darkness_name`).
+    """
+    name = darkness_of(night)[0]
+    name = name[0].upper() + name[1:]
+    return (("sunset_jd_utc", "Sunset"), ("dark_start_jd_utc", f"{name} begins"),
+            ("dark_end_jd_utc", f"{name} ends"), ("sunrise_jd_utc", "Sunrise"))
 
 
 def _clock(jd_utc, tz=None) -> str:
@@ -117,8 +128,9 @@ def _title(night, site_name):
 def _empty_message(night) -> str:
     dark = np.isfinite(night["dark_start_jd_utc"]) and np.isfinite(night["dark_end_jd_utc"])
     if not dark:
-        return ("No astronomical darkness this night: nothing is scheduled. (The Sun stays less than "
-                "18 deg below the horizon.)")
+        name, alt = darkness_of(night)
+        below = (f" (The Sun stays less than {abs(alt):g} deg below the horizon.)" if np.isfinite(alt) else "")
+        return f"No {name} this night: nothing is scheduled.{below}"
     return ("Nothing scheduled: no event window is observable in darkness above the altitude limit, and no "
             "flexible target fits.")
 
@@ -146,9 +158,11 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
     Opens with :data:`CAUTION`; times are HH:MM in UTC and, with ``tz``, local.
     """
     lines = [_title(night, site_name), "=" * len(_title(night, site_name)), "", CAUTION, ""]
-    lines.append(f"{'Sky':32s}{'UTC':>7s}" + (f"   local ({tz})" if tz else ""))
-    for col, name in SKY_ROWS:
-        lines.append(f"{name:32s}{_clock(night[col]):>7s}" + (f"   {_clock(night[col], tz)}" if tz else ""))
+    rows = sky_rows(night)
+    width = max(32, 2 + max(len(name) for _, name in rows))
+    lines.append(f"{'Sky':{width}s}{'UTC':>7s}" + (f"   local ({tz})" if tz else ""))
+    for col, name in rows:
+        lines.append(f"{name:{width}s}{_clock(night[col]):>7s}" + (f"   {_clock(night[col], tz)}" if tz else ""))
     lines.append(f"Moon: {_moon_text(night, tz)}")
     lines.append("")
     blocks = blocks.sort_values("start_jd_utc", kind="stable")
@@ -198,7 +212,7 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
            f"<title>{e(title)}</title>", f"<style>{_CSS}</style>", "</head>", "<body>",
            f"<h1>{e(title)}</h1>", f'<p class="caution">{e(CAUTION)}</p>',
            "<table>", f"<tr><th>Sky</th><th>UTC</th>{f'<th>local ({e(tz)})</th>' if tz else ''}</tr>"]
-    for col, name in SKY_ROWS:
+    for col, name in sky_rows(night):
         local = f"<td>{e(_clock(night[col], tz))}</td>" if tz else ""
         out.append(f"<tr><td>{e(name)}</td><td>{e(_clock(night[col]))}</td>{local}</tr>")
     out.append(f"<tr><td>Moon</td><td colspan=\"{2 if tz else 1}\">{e(_moon_text(night, tz))}</td></tr>")
@@ -262,7 +276,7 @@ def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | No
         here = schedule[schedule["night"].astype(str) == label].sort_values("start_jd_utc", kind="stable")
         dark = np.isfinite(night["dark_start_jd_utc"]) and np.isfinite(night["dark_end_jd_utc"])
         dark_text = (f"dark {_clock(night['dark_start_jd_utc'], tz)}-{_clock(night['dark_end_jd_utc'], tz)}"
-                     if dark else "no darkness")
+                     if dark else f"no {darkness_of(night)[0]}")
         if here.empty:
             lines.append(f"{label}  {dark_text}  nothing scheduled")
             continue
