@@ -95,7 +95,7 @@ def test_blocks_are_listed_in_time_order_with_what_and_why():
     assert "Do: cover the periastron passage" in text
     assert ("Why: score 855.4 = priority 5 x rarity x3.76 (event recurs every 111.4 d) x conditions 45.5 points: "
             "90% of the event window observable (18.0), mean airmass 1.30 (8.5)") in text
-    assert "timing +-3.0 min (1 sigma)" in text
+    assert "timing +- 3.0 min (1 sigma) in a 2.9 h window (9.0)" in text
     assert "Notes: partial: 90% of the event window is observable." in text
     assert "one visit" in text  # the flexible block's action
 

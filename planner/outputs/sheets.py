@@ -19,9 +19,9 @@ import os
 import numpy as np
 import pandas as pd
 
-from ..scheduling.blocks import MIN_PER_DAY
 from ..sky.night import darkness_of
 from ..timescales import clock
+from . import explain
 from .atomic import atomic_write
 
 CAUTION = ("CAUTION: Never point the telescope at or near the Sun: it can blind in an instant and destroy "
@@ -88,11 +88,9 @@ def reasons(block) -> list[str]:
     lit_text = f"{100 * lit:.0f}% lit" if np.isfinite(lit) else "phase not known"
     conditions.append(f"Moon {sep:.0f} deg away, {lit_text} ({block['pts_moon']:.1f})" if np.isfinite(sep)
                       else f"Moon {lit_text}, separation not computed ({block['pts_moon']:.1f})")
-    sigma = block["event_sigma_d"]
-    if np.isfinite(sigma):
-        window_h = (block["window_end_jd_utc"] - block["window_start_jd_utc"]) * 24.0
-        conditions.append(f"timing +-{sigma * MIN_PER_DAY:.1f} min (1 sigma) in a {window_h:.1f} h window "
-                          f"({block['pts_timing']:.1f})")
+    timing = explain.timing_phrase(block, block["pts_timing"])
+    if timing:
+        conditions.append(timing)
     points = sum(block[c] for c in ("pts_coverage", "pts_airmass", "pts_moon", "pts_timing"))
     out.append(f"conditions {points:.1f} points: " + ", ".join(conditions))
     return out
@@ -142,8 +140,8 @@ def _block_lines(b, tz):
     head = f"{when_local + '  (' + when_utc + ')' if tz else when_utc}  {b['target']}: {what}"
     detail = []
     if b["kind"] != "flexible" and np.isfinite(b["event_jd_utc"]):
-        sig = b["event_sigma_d"] * MIN_PER_DAY
-        unc = f", +- {sig:.1f} min (1 sigma)" if np.isfinite(sig) else ""
+        unc = explain.sigma_text(b["event_sigma_d"])
+        unc = f", {unc}" if unc else ""
         loc = f" ({_clock(b['event_jd_utc'], tz)} local)" if tz else ""
         detail.append(f"Event at {_clock(b['event_jd_utc'])} UTC{loc}{unc}.")
     alts = [b["alt_start_deg"], b["alt_mid_deg"], b["alt_end_deg"]]

@@ -1,0 +1,74 @@
+"""The timing and the score of a block in words, shared by the nightly lists and the calendar.
+
+:func:`sigma_text` shows a 1-sigma time uncertainty in the unit that reads (minutes below two
+hours, hours below two days, days beyond) or "no uncertainty given" when the catalogue gave
+none; :func:`timing_phrase` is the timing condition of a score in words;
+:func:`no_uncertainty_note` is the once-per-run line that names the targets without
+uncertainties.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..scheduling.blocks import MIN_PER_DAY
+from ..scheduling.score import NEUTRAL_TIMING_QUALITY, no_uncertainty
+
+#: Shown instead of a 1-sigma value when the catalogue gives no uncertainty.
+NO_UNCERTAINTY = "no uncertainty given"
+#: Decimals of the printed condition points.
+POINT_DECIMALS = 1
+
+
+def length_text(days: float) -> str:
+    """A time length (days) in the unit that reads: ``4.2 min``, ``3.5 h`` or ``2.1 d``.
+
+    Minutes below 2 h, hours below 2 d, days beyond, one decimal (``0.0 min`` for less than 3 s).
+    """
+    d = abs(float(days))
+    if d < 2.0 / 24.0:
+        return f"{d * MIN_PER_DAY:.1f} min"
+    if d < 2.0:
+        return f"{d * 24.0:.1f} h"
+    return f"{d:.1f} d"
+
+
+def sigma_text(sigma_d) -> str:
+    """``+- 4.2 min (1 sigma)`` (unit as :func:`length_text`), or :data:`NO_UNCERTAINTY` for 0; "" for NaN."""
+    if sigma_d is None or not np.isfinite(sigma_d):
+        return ""
+    if no_uncertainty(sigma_d):
+        return NO_UNCERTAINTY
+    return f"+- {length_text(sigma_d)} (1 sigma)"
+
+
+def timing_phrase(block, points: float) -> str:
+    """The timing condition of one block in words, with its printed points."""
+    sigma = block["event_sigma_d"]
+    if block["kind"] == "flexible" or not np.isfinite(sigma):
+        return ""
+    if no_uncertainty(sigma):
+        return (f"timing: {NO_UNCERTAINTY}, neutral value {NEUTRAL_TIMING_QUALITY:g} "
+                f"({points:.{POINT_DECIMALS}f})")
+    window_d = block["window_end_jd_utc"] - block["window_start_jd_utc"]
+    return (f"timing {sigma_text(sigma)} in a {length_text(window_d)} window "
+            f"({points:.{POINT_DECIMALS}f})")
+
+
+def no_uncertainty_note(events) -> str | None:
+    """The once-per-run line naming the targets whose events have no uncertainty; None if there are none.
+
+    ``events``: any table with ``target`` and ``sigma_d`` (the plan's visible events, or the
+    events command's table).
+    """
+    if len(events) == 0:
+        return None
+    mask = no_uncertainty(events["sigma_d"].to_numpy(float))
+    names = list(dict.fromkeys(events["target"].to_numpy(object)[mask]))
+    if not names:
+        return None
+    shown = ", ".join(map(str, names[:5])) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
+    which = "target gives" if len(names) == 1 else "targets give"
+    return (f"{len(names)} {which} no timing uncertainty ({shown}): their events are shown with "
+            f"'{NO_UNCERTAINTY}' and scored with the neutral timing value {NEUTRAL_TIMING_QUALITY:g}; "
+            "add period_err_d and the epoch's error to the catalogue for real timing points")
