@@ -2,9 +2,11 @@
 
 :func:`sigma_text` shows a 1-sigma time uncertainty in the unit that reads (minutes below two
 hours, hours below two days, days beyond) or "no uncertainty given" when the catalogue gave
-none; :func:`timing_phrase` is the timing condition of a score in words;
-:func:`no_uncertainty_note` is the once-per-run line that names the targets without
-uncertainties.
+none; :func:`timing_phrase` is the timing condition of a score in words (a flexible visit's
+included: it has no event time, and its timing points count all the same); :func:`block_points`
+rounds the condition points of a score so that the printed parts always add up to the printed
+total (largest-remainder rounding); :func:`no_uncertainty_note` is the once-per-run line that
+names the targets without uncertainties.
 """
 
 from __future__ import annotations
@@ -12,7 +14,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..scheduling.blocks import MIN_PER_DAY
-from ..scheduling.score import NEUTRAL_TIMING_QUALITY, no_uncertainty
+from ..scheduling.score import NEUTRAL_TIMING_QUALITY, POINT_COLUMNS, no_uncertainty
 
 #: Shown instead of a 1-sigma value when the catalogue gives no uncertainty.
 NO_UNCERTAINTY = "no uncertainty given"
@@ -42,11 +44,38 @@ def sigma_text(sigma_d) -> str:
     return f"+- {length_text(sigma_d)} (1 sigma)"
 
 
+def rounded_parts(values, decimals: int = POINT_DECIMALS) -> tuple[list[float], float]:
+    """(parts, total) rounded to ``decimals`` so that the rounded parts add up to the rounded total.
+
+    The total is the true sum rounded; each part is rounded down and the units left over go to
+    the parts with the largest remainders (the largest-remainder method of apportionment), so a
+    part is never off by more than one unit of the last decimal and the printed sum holds.
+    """
+    scale = 10 ** decimals
+    v = np.asarray(values, dtype=float) * scale
+    total_units = int(np.round(v.sum()))
+    floors = np.floor(v)
+    left = total_units - int(floors.sum())
+    order = np.argsort(-(v - floors), kind="stable")
+    units = floors.copy()
+    if left > 0:
+        units[order[:left]] += 1
+    elif left < 0:
+        units[order[::-1][:-left]] -= 1
+    return [u / scale for u in units], total_units / scale
+
+
+def block_points(block) -> tuple[dict, float]:
+    """({column: printed points}, printed total) of one block's condition points (:data:`POINT_COLUMNS`)."""
+    parts, total = rounded_parts([float(block[c]) for c in POINT_COLUMNS])
+    return dict(zip(POINT_COLUMNS, parts)), total
+
+
 def timing_phrase(block, points: float) -> str:
     """The timing condition of one block in words, with its printed points."""
     sigma = block["event_sigma_d"]
     if block["kind"] == "flexible" or not np.isfinite(sigma):
-        return ""
+        return f"no event time to catch ({points:.{POINT_DECIMALS}f})"
     if no_uncertainty(sigma):
         return (f"timing: {NO_UNCERTAINTY}, neutral value {NEUTRAL_TIMING_QUALITY:g} "
                 f"({points:.{POINT_DECIMALS}f})")

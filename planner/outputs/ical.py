@@ -43,9 +43,10 @@ def _description(b: pd.Series) -> str:
         unc = explain.sigma_text(b["event_sigma_d"])
         unc = f" {unc}" if unc.startswith("+-") else (f" ({unc})" if unc else "")
         lines.append(f"Event: {what} at {when}{unc}")
-    pts = ", ".join(f"{c[4:]} {b[c]:.1f}" for c in b.index if c.startswith("pts_"))
+    parts, total = explain.block_points(b)  # printed parts add up to the printed total
+    pts = " + ".join(f"{c[4:]} {v:.1f}" for c, v in parts.items())
     lines.append(f"Score: {b['score']:.1f} = priority {b['x_priority']:g} x rarity {b['x_rarity']:.2f} "
-                 f"x conditions ({pts})")
+                 f"x conditions {total:.1f} points ({pts})")
     if isinstance(b.get("notes"), str) and b["notes"]:
         lines.append(f"Notes: {b['notes']}")
     lines.append(CAUTION_SHORT)

@@ -71,28 +71,31 @@ def action(block) -> str:
 
 
 def reasons(block) -> list[str]:
-    """The score of one block as phrases: the two factors, then each condition with its points."""
+    """The score of one block as phrases: the two factors, then each condition with its points.
+
+    Every condition is listed, the timing term of a flexible visit included, and the points are
+    rounded by :func:`planner.outputs.explain.block_points`, so the printed parts add up to the
+    printed conditions total.
+    """
     period = block["period_d"]
     recurs = f"event recurs every {period:.4g} d" if np.isfinite(period) else "no event: a visit"
     out = [f"priority {block['x_priority']:g}", f"rarity x{block['x_rarity']:.2f} ({recurs})"]
+    pts, total = explain.block_points(block)
     conditions = []
     frac = block["observable_fraction"]
     if np.isfinite(frac):
-        conditions.append(f"{100 * frac:.0f}% of the event window observable ({block['pts_coverage']:.1f})")
+        conditions.append(f"{100 * frac:.0f}% of the event window observable ({pts['pts_coverage']:.1f})")
     else:
-        conditions.append(f"whole block usable ({block['pts_coverage']:.1f})")
+        conditions.append(f"whole block usable ({pts['pts_coverage']:.1f})")
     x = block["airmass"]
-    conditions.append(f"mean airmass {x:.2f} ({block['pts_airmass']:.1f})" if np.isfinite(x)
-                      else f"airmass not known ({block['pts_airmass']:.1f})")
+    conditions.append(f"mean airmass {x:.2f} ({pts['pts_airmass']:.1f})" if np.isfinite(x)
+                      else f"airmass not known ({pts['pts_airmass']:.1f})")
     sep, lit = block["moon_sep_deg"], block["moon_illumination"]
     lit_text = f"{100 * lit:.0f}% lit" if np.isfinite(lit) else "phase not known"
-    conditions.append(f"Moon {sep:.0f} deg away, {lit_text} ({block['pts_moon']:.1f})" if np.isfinite(sep)
-                      else f"Moon {lit_text}, separation not computed ({block['pts_moon']:.1f})")
-    timing = explain.timing_phrase(block, block["pts_timing"])
-    if timing:
-        conditions.append(timing)
-    points = sum(block[c] for c in ("pts_coverage", "pts_airmass", "pts_moon", "pts_timing"))
-    out.append(f"conditions {points:.1f} points: " + ", ".join(conditions))
+    conditions.append(f"Moon {sep:.0f} deg away, {lit_text} ({pts['pts_moon']:.1f})" if np.isfinite(sep)
+                      else f"Moon {lit_text}, separation not computed ({pts['pts_moon']:.1f})")
+    conditions.append(explain.timing_phrase(block, pts["pts_timing"]))
+    out.append(f"conditions {total:.1f} points: " + ", ".join(conditions))
     return out
 
 
