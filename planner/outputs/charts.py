@@ -158,9 +158,15 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
         step_h = 1 if hi_h - lo_h <= 14 else 2
         tick_jd, hours = clock.local_whole_hours(ref + lo_h / _HOURS_PER_DAY, ref + hi_h / _HOURS_PER_DAY, tz,
                                                  step_h)
+        names = [clock.zone_abbreviation(tz, v) for v in tick_jd]
+        # the first tick after a clock change carries the zone's new abbreviation (02 CET after 02 CEST)
+        labels = [f"{v:02d}" + (f" {nm}" if k and nm != names[k - 1] else "")
+                  for k, (v, nm) in enumerate(zip(hours, names))]
         top = ax.secondary_xaxis("top")  # same hours as the bottom axis, labelled in local time
-        top.set_xticks((tick_jd - ref) * _HOURS_PER_DAY, [f"{v:02d}" for v in hours])
-        top.set_xlabel(f"local time, {tz} (hour)")
+        top.set_xticks((tick_jd - ref) * _HOURS_PER_DAY, labels)
+        changed = len(set(names)) > 1
+        top.set_xlabel(f"local time, {tz} (hour" + (f"; clocks change {names[0]} -> {names[-1]})" if changed
+                                                    else ")"))
     right = ax.twinx()
     right.set_ylim(0, 90)
     x_marks = np.array([1.0, 1.2, 1.5, 2.0, 3.0, 5.0])

@@ -97,6 +97,12 @@ def local_clock_h(jd_utc, tz: str | None, day) -> np.ndarray:
     return out
 
 
+def zone_abbreviation(tz: str, jd_utc: float) -> str:
+    """The zone's abbreviation in force at ``jd_utc`` (``CEST``, ``CET``; ``-03`` where the rules have none)."""
+    seconds = round((float(jd_utc) - UNIX_EPOCH_JD) * SECONDS_PER_DAY, 3)
+    return dt.datetime.fromtimestamp(seconds, tz=dt.timezone.utc).astimezone(zone(tz)).tzname() or ""
+
+
 #: Every zone offset in use is a whole number of quarter hours from UTC.
 _QUARTER_HOURS_PER_DAY = 96
 
