@@ -191,8 +191,9 @@ def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = N
     x is the clock time of the night (local with ``tz``, else UTC), read from the zone's rules at
     each instant, so a bar starts and ends where the nightly list's local times say, also after a
     daylight-saving change (a block shorter than a clock change that goes back is drawn with its
-    true length from its start); rows are the nights in the order of ``nights``; dark time is shaded, fixed blocks are solid bars and flexible visits
-    hatched bars in the target's colour, each labelled with the target. One bar patch per block.
+    true length from its start); rows are the nights in the order of ``nights``; dark time is
+    shaded, fixed blocks are solid bars and flexible visits hatched bars in the target's colour,
+    each labelled with the target. One bar patch per block.
     """
     labels = list(nights["night"].astype(str))
     n = len(labels)
