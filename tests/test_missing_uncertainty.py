@@ -83,3 +83,18 @@ def test_plan_says_no_uncertainty_given_on_every_output_and_notes_it_once(tmp_pa
     cal = Calendar.from_ical((out / "plan.ics").read_bytes())
     descs = [str(c["description"]) for c in cal.walk("VEVENT") if str(c["summary"]).startswith("Sinfecha V1")]
     assert descs and all("(no uncertainty given)" in d and "+- 0.0 min" not in d for d in descs)
+
+
+def test_events_command_leaves_the_sigma_empty_and_notes_it_once(tmp_path, capsys):
+    import io
+
+    cat = tmp_path / "targets.csv"
+    cat.write_text(CATALOGUE)
+    assert cli.main(["events", str(cat), "--start", "2026-12-07", "--days", "3", "--format", "csv"]) == 0
+    captured = capsys.readouterr()
+    table = pd.read_csv(io.StringIO(captured.out))
+    assert table.loc[table["target"] == "Sinfecha V1", "sigma_min"].isna().all()
+    other = table.loc[table["target"] == "Brumal V2", "sigma_min"]
+    assert len(other) and (other > 60).all()  # hours of uncertainty, in minutes: a number, not empty
+    notes = [ln for ln in captured.err.splitlines() if "no timing uncertainty" in ln]
+    assert len(notes) == 1 and "(Sinfecha V1)" in notes[0]

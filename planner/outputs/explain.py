@@ -97,7 +97,8 @@ def no_uncertainty_note(events) -> str | None:
     if not names:
         return None
     shown = ", ".join(map(str, names[:5])) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
-    which = "target gives" if len(names) == 1 else "targets give"
-    return (f"{len(names)} {which} no timing uncertainty ({shown}): their events are shown with "
-            f"'{NO_UNCERTAINTY}' and scored with the neutral timing value {NEUTRAL_TIMING_QUALITY:g}; "
-            "add period_err_d and the epoch's error to the catalogue for real timing points")
+    which, its = ("target gives", "its") if len(names) == 1 else ("targets give", "their")
+    return (f"{len(names)} {which} no timing uncertainty ({shown}): {its} sigma is left empty in tables "
+            f"and shown as '{NO_UNCERTAINTY}' on the nightly lists and the calendar, and plans score "
+            f"{its} events with the neutral timing value {NEUTRAL_TIMING_QUALITY:g} (half the timing points); "
+            "add period_err_d and the epoch's error (tp_err_d, tc_err_d or t0_err_d) to the catalogue")
