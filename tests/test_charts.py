@@ -20,7 +20,8 @@ from planner.inputs.catalogue import parse_catalogue
 J0 = 2461382.0  # 2026-12-07 12:00 UTC
 
 NIGHT = pd.Series({"night": "2026-12-07", "sunset_jd_utc": J0 + 0.20, "dark_start_jd_utc": J0 + 0.26,
-                   "dark_end_jd_utc": J0 + 0.74, "sunrise_jd_utc": J0 + 0.80, "moon_illumination": 0.4})
+                   "dark_end_jd_utc": J0 + 0.74, "sunrise_jd_utc": J0 + 0.80, "moon_illumination": 0.4,
+                   "darkness_sun_alt_deg": -18.0})
 
 
 def block(night, s, e, target, ti, event="periastron", kind="fixed", ev=np.nan, ws=np.nan, we=np.nan):

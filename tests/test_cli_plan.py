@@ -142,7 +142,7 @@ def test_week_without_darkness_says_so(tmp_path, capsys):
                            "--nights", "3", "--out", str(out)], capsys)
     assert code == 0
     assert "Nothing can be scheduled" in stdout
-    assert stdout.count("no darkness") == 3
+    assert stdout.count("no astronomical darkness") == 3
     assert len(pd.read_csv(out / "schedule.csv")) == 0
 
 

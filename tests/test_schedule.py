@@ -51,6 +51,7 @@ def nights_table(labels=NIGHT_LABELS, dark=True):
         "night": list(labels), "sunset_jd_utc": J0 + k + 0.20,
         "dark_start_jd_utc": J0 + k + 0.26 if dark else nan, "dark_end_jd_utc": J0 + k + 0.74 if dark else nan,
         "sunrise_jd_utc": J0 + k + 0.80, "moon_illumination": np.full(len(labels), 0.4),
+        "darkness_sun_alt_deg": np.full(len(labels), -18.0),
     })
 
 

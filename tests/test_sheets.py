@@ -21,9 +21,11 @@ from planner.outputs import sheets
 J0 = 2461382.0  # 2026-12-07 12:00 UTC
 TZ = "Europe/Madrid"
 NIGHT = pd.Series({"night": "2026-12-07", "sunset_jd_utc": J0 + 0.2013, "dark_start_jd_utc": J0 + 0.2637,
-                   "dark_end_jd_utc": J0 + 0.7391, "sunrise_jd_utc": J0 + 0.8012, "moon_illumination": 0.43})
+                   "dark_end_jd_utc": J0 + 0.7391, "sunrise_jd_utc": J0 + 0.8012, "moon_illumination": 0.43,
+                   "darkness_sun_alt_deg": -18.0})
 NO_DARK = pd.Series({"night": "2026-12-08", "sunset_jd_utc": J0 + 1.2, "dark_start_jd_utc": np.nan,
-                     "dark_end_jd_utc": np.nan, "sunrise_jd_utc": J0 + 1.8, "moon_illumination": 0.5})
+                     "dark_end_jd_utc": np.nan, "sunrise_jd_utc": J0 + 1.8, "moon_illumination": 0.5,
+                     "darkness_sun_alt_deg": -18.0})
 
 
 def block(s, e, target, event="periastron", kind="fixed", night="2026-12-07", **extra):
@@ -67,7 +69,7 @@ def test_caution_on_every_list_including_empty_ones():
 
 def test_sky_times_in_utc_and_local():
     text = sheets.night_sheet_text(NIGHT, blocks_shuffled(), TZ)
-    for col, name in sheets.SKY_ROWS:
+    for col, name in sheets.sky_rows(NIGHT):
         utc = utc_clock(NIGHT[col])
         local = utc.astimezone(ZoneInfo(TZ))
         line = next(ln for ln in text.splitlines() if ln.startswith(name))
@@ -93,7 +95,7 @@ def test_blocks_are_listed_in_time_order_with_what_and_why():
     assert "Do: cover the periastron passage" in text
     assert ("Why: score 855.4 = priority 5 x rarity x3.76 (event recurs every 111.4 d) x conditions 45.5 points: "
             "90% of the event window observable (18.0), mean airmass 1.30 (8.5)") in text
-    assert "timing +-3.0 min (1 sigma)" in text
+    assert "timing +- 3.0 min (1 sigma) in a 2.9 h window (9.0)" in text
     assert "Notes: partial: 90% of the event window is observable." in text
     assert "one visit" in text  # the flexible block's action
 
@@ -115,7 +117,7 @@ def test_empty_nights_say_why():
     assert "Nothing scheduled" in sheets.night_sheet_html(NIGHT, none, TZ)
     nights = pd.DataFrame([NIGHT, NO_DARK])
     summary = sheets.week_summary_text(none, nights, TZ)
-    assert "2026-12-08  no darkness  nothing scheduled" in summary
+    assert "2026-12-08  no astronomical darkness  nothing scheduled" in summary
     assert "Nothing could be scheduled this week" in summary
 
 

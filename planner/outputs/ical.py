@@ -15,6 +15,7 @@ import numpy as np
 import pandas as pd
 
 from ..timescales import clock
+from . import explain
 from .atomic import atomic_write
 
 PRODID = "-//periplan//observing plan//EN"
@@ -39,12 +40,13 @@ def _description(b: pd.Series) -> str:
         what = (b["label"] if isinstance(b.get("label"), str) and b["label"] else b["event"]).replace("_", " ")
         ev = b["event_jd_utc"]
         when = clock.jd_utc_to_datetime(ev).strftime("%Y-%m-%dT%H:%M:%SZ") if np.isfinite(ev) else "unknown"
-        sigma = b["event_sigma_d"] * 1440.0
-        unc = f" +- {sigma:.1f} min (1 sigma)" if np.isfinite(sigma) else ""
+        unc = explain.sigma_text(b["event_sigma_d"])
+        unc = f" {unc}" if unc.startswith("+-") else (f" ({unc})" if unc else "")
         lines.append(f"Event: {what} at {when}{unc}")
-    pts = ", ".join(f"{c[4:]} {b[c]:.1f}" for c in b.index if c.startswith("pts_"))
+    parts, total = explain.block_points(b)  # printed parts add up to the printed total
+    pts = " + ".join(f"{c[4:]} {v:.1f}" for c, v in parts.items())
     lines.append(f"Score: {b['score']:.1f} = priority {b['x_priority']:g} x rarity {b['x_rarity']:.2f} "
-                 f"x conditions ({pts})")
+                 f"x conditions {total:.1f} points ({pts})")
     if isinstance(b.get("notes"), str) and b["notes"]:
         lines.append(f"Notes: {b['notes']}")
     lines.append(CAUTION_SHORT)

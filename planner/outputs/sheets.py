@@ -19,8 +19,9 @@ import os
 import numpy as np
 import pandas as pd
 
-from ..scheduling.blocks import MIN_PER_DAY
+from ..sky.night import darkness_of
 from ..timescales import clock
+from . import explain
 from .atomic import atomic_write
 
 CAUTION = ("CAUTION: Never point the telescope at or near the Sun: it can blind in an instant and destroy "
@@ -40,8 +41,18 @@ ACTIONS = {
     "periodic": "time series around the predicted {label}",
     "visit": "one visit (an RV point or a monitoring exposure) at any time inside the block",
 }
-SKY_ROWS = (("sunset_jd_utc", "Sunset"), ("dark_start_jd_utc", "Astronomical darkness begins"),
-            ("dark_end_jd_utc", "Astronomical darkness ends"), ("sunrise_jd_utc", "Sunrise"))
+
+
+def sky_rows(night) -> tuple[tuple[str, str], ...]:
+    """(night-table column, label) of the sky times, the darkness named as the site asked for it.
+
+    ``"Nautical darkness begins"`` for a site with ``darkness = "nautical"``, ``"Darkness (Sun
+    below -15 deg) begins"`` for a number (:func:`planner.sky.night.darkness_name`).
+    """
+    name = darkness_of(night)[0]
+    name = name[0].upper() + name[1:]
+    return (("sunset_jd_utc", "Sunset"), ("dark_start_jd_utc", f"{name} begins"),
+            ("dark_end_jd_utc", f"{name} ends"), ("sunrise_jd_utc", "Sunrise"))
 
 
 def _clock(jd_utc, tz=None) -> str:
@@ -60,30 +71,31 @@ def action(block) -> str:
 
 
 def reasons(block) -> list[str]:
-    """The score of one block as phrases: the two factors, then each condition with its points."""
+    """The score of one block as phrases: the two factors, then each condition with its points.
+
+    Every condition is listed, the timing term of a flexible visit included, and the points are
+    rounded by :func:`planner.outputs.explain.block_points`, so the printed parts add up to the
+    printed conditions total.
+    """
     period = block["period_d"]
     recurs = f"event recurs every {period:.4g} d" if np.isfinite(period) else "no event: a visit"
     out = [f"priority {block['x_priority']:g}", f"rarity x{block['x_rarity']:.2f} ({recurs})"]
+    pts, total = explain.block_points(block)
     conditions = []
     frac = block["observable_fraction"]
     if np.isfinite(frac):
-        conditions.append(f"{100 * frac:.0f}% of the event window observable ({block['pts_coverage']:.1f})")
+        conditions.append(f"{100 * frac:.0f}% of the event window observable ({pts['pts_coverage']:.1f})")
     else:
-        conditions.append(f"whole block usable ({block['pts_coverage']:.1f})")
+        conditions.append(f"whole block usable ({pts['pts_coverage']:.1f})")
     x = block["airmass"]
-    conditions.append(f"mean airmass {x:.2f} ({block['pts_airmass']:.1f})" if np.isfinite(x)
-                      else f"airmass not known ({block['pts_airmass']:.1f})")
+    conditions.append(f"mean airmass {x:.2f} ({pts['pts_airmass']:.1f})" if np.isfinite(x)
+                      else f"airmass not known ({pts['pts_airmass']:.1f})")
     sep, lit = block["moon_sep_deg"], block["moon_illumination"]
     lit_text = f"{100 * lit:.0f}% lit" if np.isfinite(lit) else "phase not known"
-    conditions.append(f"Moon {sep:.0f} deg away, {lit_text} ({block['pts_moon']:.1f})" if np.isfinite(sep)
-                      else f"Moon {lit_text}, separation not computed ({block['pts_moon']:.1f})")
-    sigma = block["event_sigma_d"]
-    if np.isfinite(sigma):
-        window_h = (block["window_end_jd_utc"] - block["window_start_jd_utc"]) * 24.0
-        conditions.append(f"timing +-{sigma * MIN_PER_DAY:.1f} min (1 sigma) in a {window_h:.1f} h window "
-                          f"({block['pts_timing']:.1f})")
-    points = sum(block[c] for c in ("pts_coverage", "pts_airmass", "pts_moon", "pts_timing"))
-    out.append(f"conditions {points:.1f} points: " + ", ".join(conditions))
+    conditions.append(f"Moon {sep:.0f} deg away, {lit_text} ({pts['pts_moon']:.1f})" if np.isfinite(sep)
+                      else f"Moon {lit_text}, separation not computed ({pts['pts_moon']:.1f})")
+    conditions.append(explain.timing_phrase(block, pts["pts_timing"]))
+    out.append(f"conditions {total:.1f} points: " + ", ".join(conditions))
     return out
 
 
@@ -117,8 +129,9 @@ def _title(night, site_name):
 def _empty_message(night) -> str:
     dark = np.isfinite(night["dark_start_jd_utc"]) and np.isfinite(night["dark_end_jd_utc"])
     if not dark:
-        return ("No astronomical darkness this night: nothing is scheduled. (The Sun stays less than "
-                "18 deg below the horizon.)")
+        name, alt = darkness_of(night)
+        below = (f" (The Sun stays less than {abs(alt):g} deg below the horizon.)" if np.isfinite(alt) else "")
+        return f"No {name} this night: nothing is scheduled.{below}"
     return ("Nothing scheduled: no event window is observable in darkness above the altitude limit, and no "
             "flexible target fits.")
 
@@ -130,8 +143,8 @@ def _block_lines(b, tz):
     head = f"{when_local + '  (' + when_utc + ')' if tz else when_utc}  {b['target']}: {what}"
     detail = []
     if b["kind"] != "flexible" and np.isfinite(b["event_jd_utc"]):
-        sig = b["event_sigma_d"] * MIN_PER_DAY
-        unc = f", +- {sig:.1f} min (1 sigma)" if np.isfinite(sig) else ""
+        unc = explain.sigma_text(b["event_sigma_d"])
+        unc = f", {unc}" if unc else ""
         loc = f" ({_clock(b['event_jd_utc'], tz)} local)" if tz else ""
         detail.append(f"Event at {_clock(b['event_jd_utc'])} UTC{loc}{unc}.")
     alts = [b["alt_start_deg"], b["alt_mid_deg"], b["alt_end_deg"]]
@@ -146,9 +159,11 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
     Opens with :data:`CAUTION`; times are HH:MM in UTC and, with ``tz``, local.
     """
     lines = [_title(night, site_name), "=" * len(_title(night, site_name)), "", CAUTION, ""]
-    lines.append(f"{'Sky':32s}{'UTC':>7s}" + (f"   local ({tz})" if tz else ""))
-    for col, name in SKY_ROWS:
-        lines.append(f"{name:32s}{_clock(night[col]):>7s}" + (f"   {_clock(night[col], tz)}" if tz else ""))
+    rows = sky_rows(night)
+    width = max(32, 2 + max(len(name) for _, name in rows))
+    lines.append(f"{'Sky':{width}s}{'UTC':>7s}" + (f"   local ({tz})" if tz else ""))
+    for col, name in rows:
+        lines.append(f"{name:{width}s}{_clock(night[col]):>7s}" + (f"   {_clock(night[col], tz)}" if tz else ""))
     lines.append(f"Moon: {_moon_text(night, tz)}")
     lines.append("")
     blocks = blocks.sort_values("start_jd_utc", kind="stable")
@@ -198,7 +213,7 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
            f"<title>{e(title)}</title>", f"<style>{_CSS}</style>", "</head>", "<body>",
            f"<h1>{e(title)}</h1>", f'<p class="caution">{e(CAUTION)}</p>',
            "<table>", f"<tr><th>Sky</th><th>UTC</th>{f'<th>local ({e(tz)})</th>' if tz else ''}</tr>"]
-    for col, name in SKY_ROWS:
+    for col, name in sky_rows(night):
         local = f"<td>{e(_clock(night[col], tz))}</td>" if tz else ""
         out.append(f"<tr><td>{e(name)}</td><td>{e(_clock(night[col]))}</td>{local}</tr>")
     out.append(f"<tr><td>Moon</td><td colspan=\"{2 if tz else 1}\">{e(_moon_text(night, tz))}</td></tr>")
@@ -262,7 +277,7 @@ def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | No
         here = schedule[schedule["night"].astype(str) == label].sort_values("start_jd_utc", kind="stable")
         dark = np.isfinite(night["dark_start_jd_utc"]) and np.isfinite(night["dark_end_jd_utc"])
         dark_text = (f"dark {_clock(night['dark_start_jd_utc'], tz)}-{_clock(night['dark_end_jd_utc'], tz)}"
-                     if dark else "no darkness")
+                     if dark else f"no {darkness_of(night)[0]}")
         if here.empty:
             lines.append(f"{label}  {dark_text}  nothing scheduled")
             continue

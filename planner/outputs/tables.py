@@ -14,17 +14,24 @@ import pandas as pd
 
 from ..errors import PeriplanError
 from ..scheduling.blocks import MIN_PER_DAY
-from ..scheduling.score import SCORE_COLUMNS
+from ..scheduling.score import SCORE_COLUMNS, no_uncertainty
 from ..timescales import clock
 
 FORMATS = ("table", "csv", "json")
+
+
+def _sigma_min(sigma_d) -> np.ndarray:
+    """1-sigma uncertainties (days) in minutes, NaN where none is given (sigma exactly 0)."""
+    sigma = np.asarray(sigma_d, dtype=float)
+    return np.where(no_uncertainty(sigma), np.nan, sigma * MIN_PER_DAY)
 
 
 def events_frame(events: pd.DataFrame, t_utc, tz: str | None) -> pd.DataFrame:
     """Events for display and export, from :func:`seen_in_span`'s two results.
 
     Columns ``target, event, label, cycle, bjd_tdb, utc`` (ISO 8601, ``Z``), ``local`` (only when
-    ``tz`` is given), ``sigma_min`` (1-sigma, minutes) and ``duration_h``.
+    ``tz`` is given), ``sigma_min`` (1-sigma, minutes; empty when the catalogue gives no
+    uncertainty, see :func:`planner.scheduling.score.no_uncertainty`) and ``duration_h``.
     """
     some = len(events) > 0
     out = pd.DataFrame({
@@ -34,7 +41,7 @@ def events_frame(events: pd.DataFrame, t_utc, tz: str | None) -> pd.DataFrame:
     })
     if tz:
         out["local"] = clock.utc_to_local_iso(t_utc, tz) if some else np.array([], dtype=object)
-    out["sigma_min"] = events["sigma_d"].to_numpy(float) * 1440.0
+    out["sigma_min"] = _sigma_min(events["sigma_d"])
     out["duration_h"] = events["duration_d"].to_numpy(float) * 24.0
     return out
 
@@ -79,7 +86,8 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
     Columns ``night, start_utc, end_utc, start_local, end_local, target, event, label, kind,
     event_utc, event_sigma_min, score, x_priority, x_rarity, pts_*, alt_start_deg, alt_mid_deg, alt_end_deg, airmass,
     moon_sep_deg, moon_illumination, observable_fraction, notes``. Local columns are empty
-    without ``tz`` (an IANA zone name).
+    without ``tz`` (an IANA zone name); ``event_sigma_min`` is empty (NaN) where the catalogue gives
+    no uncertainty, so a missing value never reads as a perfectly known time.
     """
     n = len(schedule)
 
@@ -96,7 +104,7 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
         "target": schedule["target"].to_numpy(object), "event": schedule["event"].to_numpy(object),
         "label": schedule["label"].to_numpy(object), "kind": schedule["kind"].to_numpy(object),
         "event_utc": iso("event_jd_utc", False),
-        "event_sigma_min": schedule["event_sigma_d"].to_numpy(float) * MIN_PER_DAY,
+        "event_sigma_min": _sigma_min(schedule["event_sigma_d"]),
         "score": schedule["score"].to_numpy(float),
     })
     for c in SCORE_COLUMNS[:-1] + ("alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg",

@@ -46,7 +46,7 @@ class ScheduleOptions:
     ``overhead_min``: setup/slew time (minutes) required between consecutive blocks.
     ``repeats``: week rule for repeated target/events, one of :data:`REPEAT_RULES`.
     ``min_block_min``: fixed candidates with a shorter observable stretch are dropped.
-    ``twilight_margin_min``: a block starting or ending this close to the edges of astronomical
+    ``twilight_margin_min``: a block starting or ending this close to the edges of the site's
     darkness gets a note. ``flex_step_min``: step of the search for a flexible visit's start.
     ``event_inside_only``: keep only fixed blocks that contain the predicted event moment (a
     block that catches only the baseline or a wing of a long window is dropped); set False to

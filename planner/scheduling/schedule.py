@@ -41,6 +41,7 @@ import logging
 import numpy as np
 import pandas as pd
 
+from ..sky.night import darkness_of
 from ..timescales.clock import hhmm_utc
 from .blocks import (AVAILABILITY_COLUMNS, FLEXIBLE, MIN_PER_DAY, NIGHT_COLUMNS, SCHEDULE_COLUMNS, VISIBLE_COLUMNS,
                      ScheduleOptions, night_index, require_columns)
@@ -81,7 +82,7 @@ def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOption
         if (np.isfinite(sunset) and s < sunset) or (np.isfinite(sunrise) and e > sunrise):
             notes.append("SUN ABOVE THE HORIZON during the block: do not observe while the Sun is up")
         if not (np.isfinite(d0) and np.isfinite(d1)):
-            notes.append("no astronomical darkness this night")
+            notes.append(f"no {darkness_of(night_row)[0]} this night")
         else:
             if s < d0 + margin:
                 notes.append("starts in or close to evening twilight")

@@ -72,6 +72,62 @@ def utc_offset_h(tz: str | None, jd_utc: float) -> float:
     return moment.astimezone(zone(tz)).utcoffset().total_seconds() / 3600.0
 
 
+def local_clock_h(jd_utc, tz: str | None, day) -> np.ndarray:
+    """Local wall-clock hours of each UTC Julian date, counted from 00:00 of the local date ``day``.
+
+    The zone's rules are applied at each instant (so after a daylight-saving change the hours
+    are the clock's new ones): 01:30 on the day after ``day`` is 25.5. Without ``tz`` the
+    hours are UTC hours from 00:00 UTC of ``day``. NaN stays NaN; shape of ``jd_utc``.
+    """
+    jd = np.asarray(jd_utc, dtype=float)
+    base = calendar_date(day)
+    if not tz:
+        return (jd - date_to_jd_utc(base)) * 24.0
+    where = zone(tz)
+    out = np.full(jd.shape, np.nan)
+    for i, v in np.ndenumerate(jd):
+        if np.isfinite(v):
+            # to the millisecond: a JD float carries ~40 us, and a tick placed exactly on a clock
+            # change must not fall a few microseconds on the other side of it
+            seconds = round((v - UNIX_EPOCH_JD) * SECONDS_PER_DAY, 3)
+            local = dt.datetime.fromtimestamp(seconds, tz=dt.timezone.utc)
+            local = local.astimezone(where)
+            since = local.replace(tzinfo=None) - dt.datetime.combine(base, dt.time())
+            out[i] = since.total_seconds() / 3600.0
+    return out
+
+
+def zone_abbreviation(tz: str, jd_utc: float) -> str:
+    """The zone's abbreviation in force at ``jd_utc`` (``CEST``, ``CET``; ``-03`` where the rules have none)."""
+    seconds = round((float(jd_utc) - UNIX_EPOCH_JD) * SECONDS_PER_DAY, 3)
+    return dt.datetime.fromtimestamp(seconds, tz=dt.timezone.utc).astimezone(zone(tz)).tzname() or ""
+
+
+#: Every zone offset in use is a whole number of quarter hours from UTC.
+_QUARTER_HOURS_PER_DAY = 96
+
+
+def local_whole_hours(jd0_utc: float, jd1_utc: float, tz: str | None, step_h: int = 1):
+    """(jd_utc, hour) of the instants from ``jd0_utc`` to ``jd1_utc`` where the local clock shows a whole hour.
+
+    Only hours divisible by ``step_h`` are kept. The zone's rules are applied at each instant, so
+    a night across a daylight-saving change gets its ticks where the clock really reads them
+    (01:00 twice when the clocks go back, no 02:00 when they go forward). Without ``tz``: UTC.
+    Returns a float array of UTC Julian dates and a list of ints (0..23).
+    """
+    first = np.ceil(jd0_utc * _QUARTER_HOURS_PER_DAY)
+    last = np.floor(jd1_utc * _QUARTER_HOURS_PER_DAY)
+    where = zone(tz) if tz else dt.timezone.utc
+    jds, hours = [], []
+    for k in np.arange(first, last + 1):
+        seconds = round((k / _QUARTER_HOURS_PER_DAY - UNIX_EPOCH_JD) * SECONDS_PER_DAY)
+        local = dt.datetime.fromtimestamp(seconds, tz=dt.timezone.utc).astimezone(where)
+        if local.minute == 0 and local.second == 0 and local.hour % step_h == 0:
+            jds.append(k / _QUARTER_HOURS_PER_DAY)
+            hours.append(local.hour)
+    return np.asarray(jds, dtype=float), hours
+
+
 def jd_utc_to_iso_z(jd_utc) -> np.ndarray:
     """ISO 8601 UTC strings (``...Z``, to the second) of UTC Julian dates; ``""`` where NaN."""
     return _jd_strings(jd_utc, None)

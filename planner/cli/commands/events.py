@@ -59,6 +59,7 @@ def run(args) -> int:
     from ...inputs import catalogue
     from ...orbits.events import predict_events
     from ...orbits.events import seen_in_span
+    from ...outputs.explain import no_uncertainty_note
     from ...outputs.tables import events_frame
 
     if args.days <= 0:
@@ -91,6 +92,9 @@ def run(args) -> int:
         sys.stdout.flush()  # the summary line on stderr comes after the table
         print(f"{len(table)} events of {table['target'].nunique() if len(table) else 0} targets "
               f"from {start_utc.isot[:16]}Z to {end_utc.isot[:16]}Z", file=sys.stderr)
+    note = no_uncertainty_note(events)
+    if note:
+        print(f"periplan: note: {note}", file=sys.stderr)
     return 0
 
 

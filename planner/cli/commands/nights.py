@@ -32,7 +32,7 @@ def register(sub):
 
 
 def run(args) -> int:
-    from ...sky.night import night_table
+    from ...sky.night import darkness_name, night_table
     from ...inputs.site import read_site
     from ..spans import parse_date
 
@@ -46,7 +46,8 @@ def run(args) -> int:
                                                  "moon_up_dark_h": ".2f"}))
     if args.format == "table":
         sys.stdout.flush()  # the summary line on stderr comes after the table
-        print(f"{len(table)} nights at {site.name} ({site.timezone}); dark = Sun's centre below "
+        dark = darkness_name(site.darkness_sun_alt_deg)
+        print(f"{len(table)} nights at {site.name} ({site.timezone}); dark = {dark}, Sun's centre below "
               f"{site.darkness_sun_alt_deg:g} deg. Never point a telescope near the Sun; the observatory's "
               "own safety rules and local regulations come first.", file=sys.stderr)
     return 0

@@ -76,6 +76,7 @@ def run_plan(catalog, site_path, args) -> int:
     from ...inputs import catalogue
     from ...inputs.site import read_site
     from ...outputs import plan_folder, sheets
+    from ...outputs.explain import no_uncertainty_note
     from ...outputs.tables import never_rising_lines
     from ...pipeline import STAGES, first_night_for, make_plan
     from .. import spans
@@ -101,6 +102,9 @@ def run_plan(catalog, site_path, args) -> int:
     bar.done()
     for line in never_rising_lines(plan.never_rising, site.name, f"{args.out}/unobservable.csv"):
         print(f"periplan: warning: {line}", file=sys.stderr)
+    note = no_uncertainty_note(plan.events)
+    if note:
+        print(f"periplan: note: {note}", file=sys.stderr)
     sys.stdout.write(summary)
     if plan.schedule.empty:
         print("Nothing can be scheduled in these nights (see the nightly lists for darkness and limits).")
