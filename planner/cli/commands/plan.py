@@ -15,8 +15,9 @@ examples:
   periplan plan targets.csv --site site.toml --start 2026-12-07 --repeats first --out week --force
 
 Writes into --out: schedule.csv, night-DATE.txt and .html (printable lists), altitude-DATE.png,
-week.png, rv-TARGET.png, plan.ics and summary.txt. Never point a telescope at or near the Sun;
-the observatory's own safety rules and local regulations come first.
+week.png, rv-TARGET.png, plan.ics, summary.txt and plan-files.txt (the list of the plan's own
+files: --force replaces exactly these and never deletes any other file). Never point a telescope
+at or near the Sun; the observatory's own safety rules and local regulations come first.
 """
 
 
@@ -31,7 +32,8 @@ def add_plan_options(p, need_inputs: bool = True):
     p.add_argument("--out", metavar="DIR", default=None if need_inputs else "periplan-demo",
                    required=need_inputs, help="folder for the plan's files" +
                    ("" if need_inputs else " (default periplan-demo)"))
-    p.add_argument("--force", action="store_true", help="replace the plan files already in DIR")
+    p.add_argument("--force", action="store_true",
+                   help="replace the plan already in DIR (the files in its plan-files.txt; no other file is touched)")
     p.add_argument("--baseline-h", type=float, default=None, metavar="H",
                    help="baseline wanted either side of each event, hours (default 1)")
     p.add_argument("--k-sigma", type=float, default=None, metavar="K",
