@@ -141,7 +141,8 @@ def test_week_without_darkness_says_so(tmp_path, capsys):
     code, stdout, _ = run(["plan", str(SAMPLE_TARGETS), "--site", str(site), "--start", "2027-06-15",
                            "--nights", "3", "--out", str(out)], capsys)
     assert code == 0
-    assert "Nothing can be scheduled" in stdout
+    # said once for the plan (and once per night with its darkness), not twice
+    assert sum("othing could be scheduled" in ln or "othing can be scheduled" in ln for ln in stdout.splitlines()) == 1
     assert stdout.count("no darkness") == 3
     assert len(pd.read_csv(out / "schedule.csv")) == 0
 
@@ -182,3 +183,12 @@ def test_default_first_night_is_the_night_under_way():
     assert first_night_for(None, "Europe/Madrid", dt.datetime(2026, 12, 8, 2, 0, tzinfo=madrid)) == dt.date(2026, 12, 7)
     assert first_night_for(None, "Europe/Madrid", dt.datetime(2026, 12, 8, 20, 0, tzinfo=madrid)) == dt.date(2026, 12, 8)
     assert first_night_for("2026-12-01", "Europe/Madrid") == dt.date(2026, 12, 1)
+
+
+def test_one_night_plan_counts_in_the_singular(tmp_path, capsys):
+    code, out, err = run(["plan", str(SAMPLE_TARGETS), "--site", str(SITE), "--start", START, "--nights", "1",
+                          "--out", str(tmp_path / "one")], capsys)
+    assert code == 0, err
+    assert "1 nights" not in out and "of 1 night at" in out
+    last = [ln for ln in out.splitlines() if " at Altozano Ridge Observatory; " in ln]
+    assert len(last) == 1 and " files in " in last[0]

@@ -8,6 +8,7 @@ import sys
 
 from ...errors import PeriplanError
 from ...outputs.tables import FORMATS, nights_frame, render
+from ...outputs.wording import count
 
 EXAMPLES = """\
 examples:
@@ -49,7 +50,7 @@ def run(args) -> int:
                                                  "moon_up_dark_h": ".2f"}))
     if args.format == "table":
         sys.stdout.flush()  # the summary line on stderr comes after the table
-        print(f"{len(table)} nights at {site.name} ({site.timezone}); dark = Sun's centre below "
+        print(f"{count(len(table), 'night')} at {site.name} ({site.timezone}); dark = Sun's centre below "
               f"{site.darkness_sun_alt_deg:g} deg. Never point a telescope near the Sun; the observatory's "
               "own safety rules and local regulations come first.", file=sys.stderr)
     return 0

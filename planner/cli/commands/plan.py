@@ -79,6 +79,7 @@ def run_plan(catalog, site_path, args) -> int:
     from ...inputs.site import read_site
     from ...outputs import plan_folder, sheets
     from ...outputs.tables import never_rising_lines
+    from ...outputs.wording import count
     from ...pipeline import STAGES, first_night_for, make_plan
     from .. import spans
     from ..progress import ProgressBar
@@ -103,11 +104,10 @@ def run_plan(catalog, site_path, args) -> int:
     bar.done()
     for line in never_rising_lines(plan.never_rising, site.name, f"{args.out}/unobservable.csv"):
         print(f"periplan: warning: {line}", file=sys.stderr)
-    sys.stdout.write(summary)
-    if plan.schedule.empty:
-        print("Nothing can be scheduled in these nights (see the nightly lists for darkness and limits).")
-    print(f"\n{len(plan.schedule)} blocks on {plan.schedule['night'].nunique() if len(plan.schedule) else 0} "
-          f"of {len(plan.nights)} nights at {site.name}; {len(paths)} files in {args.out}/")
+    sys.stdout.write(summary)  # says once, itself, when nothing could be scheduled
+    used = plan.schedule["night"].nunique() if len(plan.schedule) else 0
+    print(f"\n{count(len(plan.schedule), 'block')} on {used} of {count(len(plan.nights), 'night')} at "
+          f"{site.name}; {count(len(paths), 'file')} in {args.out}/")
     print("Never point the telescope at or near the Sun; the observatory's own safety rules and local "
           "regulations come first.")
     return 0
