@@ -27,7 +27,9 @@ def add_plan_options(p, need_inputs: bool = True):
         p.add_argument("catalog", metavar="CATALOG", help="catalogue CSV file of targets and elements")
         p.add_argument("--site", required=True, metavar="SITE", help="site file (TOML)")
     p.add_argument("--start", metavar="YYYY-MM-DD",
-                   help="local date of the first night's evening (default: the night under way, or tonight)")
+                   help="local date of the first night's evening (default: the night under way until its "
+                        "darkness ends, then the coming night; blocks of a night under way that began "
+                        "before now are counted in a note)")
     p.add_argument("--nights", type=int, default=7, metavar="N", help="number of nights (default 7)")
     p.add_argument("--out", metavar="DIR", default=None if need_inputs else "periplan-demo",
                    required=need_inputs, help="folder for the plan's files" +
@@ -95,7 +97,8 @@ def run_plan(catalog, site_path, args) -> int:
         raise PeriplanError(f"--out {exc}") from None
     site = read_site(site_path)
     targets = catalogue.read_catalogue(catalog)
-    first = first_night_for(args.start, site.timezone)
+    now = _now()
+    first = first_night_for(args.start, site, now=now)
     bar = ProgressBar(len(STAGES) + 1)
     plan = make_plan(targets, site, first, args.nights, settings, progress=bar)
     summary = sheets.week_summary_text(plan.schedule, plan.nights, tz=site.timezone)
@@ -104,6 +107,10 @@ def run_plan(catalog, site_path, args) -> int:
     bar.done()
     for line in never_rising_lines(plan.never_rising, site.name, f"{args.out}/unobservable.csv"):
         print(f"periplan: warning: {line}", file=sys.stderr)
+    if args.start is None:
+        note = past_blocks_note(plan.schedule, first, now, site.timezone)
+        if note:
+            print(f"periplan: note: {note}", file=sys.stderr)
     sys.stdout.write(summary)  # says once, itself, when nothing could be scheduled
     used = plan.schedule["night"].nunique() if len(plan.schedule) else 0
     print(f"\n{count(len(plan.schedule), 'block')} on {used} of {count(len(plan.nights), 'night')} at "
@@ -111,6 +118,29 @@ def run_plan(catalog, site_path, args) -> int:
     print("Never point the telescope at or near the Sun; the observatory's own safety rules and local "
           "regulations come first.")
     return 0
+
+
+def _now():
+    """The present moment (aware, UTC); one place, so tests can set the clock."""
+    import datetime as dt
+
+    return dt.datetime.now(dt.timezone.utc)
+
+
+def past_blocks_note(schedule, first_night, now, tz: str) -> str | None:
+    """A note on the blocks of ``first_night`` that begin before ``now``, or None when there are none."""
+    from ...outputs.wording import count
+    from ...timescales.clock import datetime_to_jd_utc, zone
+
+    if schedule.empty:
+        return None
+    first = schedule[schedule["night"].astype(str) == str(first_night)]
+    past = first[first["start_jd_utc"].to_numpy(float) < datetime_to_jd_utc(now)]
+    if past.empty:
+        return None
+    clock = now.astimezone(zone(tz)).strftime("%H:%M")
+    return (f"the night of {first_night} is under way: {count(len(past), 'block')} of its "
+            f"{len(first)} began before now ({clock} local time)")
 
 
 def run(args) -> int:
