@@ -236,6 +236,6 @@ def test_one_night_plan_counts_in_the_singular(tmp_path, capsys):
     code, out, err = run(["plan", str(SAMPLE_TARGETS), "--site", str(SITE), "--start", START, "--nights", "1",
                           "--out", str(tmp_path / "one")], capsys)
     assert code == 0, err
-    assert "1 nights" not in out and "of 1 night at" in out
+    assert "1 nights" not in out and "on 1 night at" in out
     last = [ln for ln in out.splitlines() if " at Altozano Ridge Observatory; " in ln]
     assert len(last) == 1 and " files in " in last[0]

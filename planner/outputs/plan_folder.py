@@ -123,12 +123,15 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
     out_dir = os.fspath(out_dir)
     check_out_dir(out_dir, force)
     created = not os.path.isdir(out_dir)
-    current = "the folder"
+    current = "the plan's files"
     try:
         os.makedirs(out_dir, exist_ok=True)
         tz = plan.site.timezone
         staging = tempfile.mkdtemp(prefix=".periplan-", dir=out_dir)
     except OSError as exc:
+        if created:
+            with contextlib.suppress(OSError):
+                os.rmdir(out_dir)
         raise _write_error(out_dir, current, exc) from None
     made, done = [], False
 
@@ -158,7 +161,7 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
         _draw(jobs, workers)
         current = MANIFEST_NAME
         _write_text(path(MANIFEST_NAME), _MANIFEST_HEADER + "".join(f"{n}\n" for n in made if n != MANIFEST_NAME))
-        current = "the folder"
+        current = "the plan's files"
         stale = [n for n in manifest_names(out_dir) if n not in made] if force else []
         _commit(staging, out_dir, made, stale)
         done = True
@@ -184,7 +187,7 @@ def _write_error(out_dir, what, exc: OSError) -> PeriplanError:
 def _keep_aside(src: str, dst: str) -> None:
     """A second name ``dst`` for the file ``src`` (a hard link, or a copy where links fail)."""
     try:
-        os.link(src, dst)
+        os.link(src, dst, follow_symlinks=False)
     except OSError:
         shutil.copy2(src, dst)
 

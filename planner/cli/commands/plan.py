@@ -113,8 +113,9 @@ def run_plan(catalog, site_path, args) -> int:
             print(f"periplan: note: {note}", file=sys.stderr)
     sys.stdout.write(summary)  # says once, itself, when nothing could be scheduled
     used = plan.schedule["night"].nunique() if len(plan.schedule) else 0
-    print(f"\n{count(len(plan.schedule), 'block')} on {used} of {count(len(plan.nights), 'night')} at "
-          f"{site.name}; {count(len(paths), 'file')} in {args.out}/")
+    nights = count(len(plan.nights), "night") if used == len(plan.nights) else f"{used} of {count(len(plan.nights), 'night')}"
+    print(f"\n{count(len(plan.schedule), 'block')} on {nights} at {site.name}; "
+          f"{count(len(paths), 'file')} in {args.out}/")
     print("Never point the telescope at or near the Sun; the observatory's own safety rules and local "
           "regulations come first.")
     return 0
