@@ -14,6 +14,7 @@ from __future__ import annotations
 import hashlib
 import re
 import unicodedata
+from collections import Counter
 
 #: Longest file-name part in bytes of UTF-8: leaves room for the prefix, the hash suffix and the
 #: extension within the 255-byte name limit of the usual file systems.
@@ -53,21 +54,18 @@ def unique_file_parts(names) -> dict[str, str]:
     get ``-2``, ``-3`` ... in the order given.
     """
     names = list(dict.fromkeys(str(n) for n in names))
-    parts = {n: file_part(n) for n in names}
-    groups: dict[str, list[str]] = {}
+    plain = {n: file_part(n) for n in names}
+    sharing = Counter(p.casefold() for p in plain.values())
+    taken = {p.casefold() for p in plain.values() if sharing[p.casefold()] == 1}
+    parts = {}
     for n in names:
-        groups.setdefault(parts[n].casefold(), []).append(n)
-    for members in groups.values():
-        if len(members) > 1:
-            for n in members:
-                parts[n] = f"{parts[n]}-{name_suffix(n)}"
-    taken: set[str] = {p.casefold() for n, p in parts.items() if len(groups[file_part(n).casefold()]) == 1}
-    for n in names:
-        if len(groups[file_part(n).casefold()]) == 1:
+        if sharing[plain[n].casefold()] == 1:
+            parts[n] = plain[n]
             continue
-        part, k = parts[n], 2
+        stem = part = f"{plain[n]}-{name_suffix(n)}"
+        k = 2
         while part.casefold() in taken:
-            part, k = f"{parts[n]}-{k}", k + 1
-        parts[n] = part
+            part, k = f"{stem}-{k}", k + 1
         taken.add(part.casefold())
+        parts[n] = part
     return parts
