@@ -53,6 +53,10 @@ class InputErrors(PeriplanError):
         return "\n".join(str(e) for e in self.errors)
 
 
+class PeriplanWarning(UserWarning):
+    """Input that is accepted but looks wrong (the command line prints it as one line)."""
+
+
 class ConvergenceError(PeriplanError):
     """An iterative solver did not converge; ``mask`` marks the elements that failed."""
 

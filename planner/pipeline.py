@@ -85,19 +85,28 @@ def moon_separation_deg(targets, tracks, target_index, jd_utc):
     return positions.separation_deg(vec, tracks.moon_vector(jd))
 
 
-def first_night_for(start, timezone: str, now: dt.datetime | None = None) -> dt.date:
-    """The first night's label: ``start`` as a date, or the night now under way or coming.
+def first_night_for(start, site, now: dt.datetime | None = None) -> dt.date:
+    """The first night's label: ``start`` as a date, or by default the night still to observe.
 
-    Nights are labelled by the local date of their evening and run from noon to noon, so before
-    local noon (at 2 a.m., say) the current night is the one labelled with yesterday's date.
-    ``now`` (an aware datetime) is for tests; it defaults to the present moment.
+    Nights are labelled by the local date of their evening and run from noon to noon. Without
+    ``start`` the first night is the night under way (at 2 a.m., the one labelled with
+    yesterday's date) until the end of its darkness (the site's darkness; sunrise on a night
+    without darkness), and from then on the coming night: run at 05:50, after dawn, a plan
+    starts with the evening ahead, not with a night that is over. ``site`` is a
+    :class:`~planner.inputs.site.Site`; ``now`` (an aware datetime) is for tests and defaults
+    to the present moment.
     """
     if start is not None:
         return start if isinstance(start, dt.date) else dt.date.fromisoformat(str(start))
-    from .timescales.clock import zone
+    from .timescales.clock import datetime_to_jd_utc, zone
 
-    local = (now or dt.datetime.now(dt.timezone.utc)).astimezone(zone(timezone))
-    return (local - dt.timedelta(hours=12)).date()
+    now = now or dt.datetime.now(dt.timezone.utc)
+    under_way = (now.astimezone(zone(site.timezone)) - dt.timedelta(hours=12)).date()
+    night = night_mod.night_table(site, under_way, 1).iloc[0]
+    ends = [night[c] for c in ("dark_end_jd_utc", "sunrise_jd_utc") if np.isfinite(night[c])]
+    if ends and datetime_to_jd_utc(now) >= ends[0]:
+        return under_way + dt.timedelta(days=1)
+    return under_way
 
 
 def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,

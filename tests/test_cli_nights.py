@@ -141,3 +141,9 @@ def test_target_that_never_rises_is_reported_not_dropped(tmp_path, capsys):
 def test_events_site_option_errors(args, message, capsys):
     code, out, err = run(["events", str(SAMPLE_TARGETS), "--start", "2026-12-07"] + args, capsys)
     assert code == 2 and out == "" and message in err and len(err.strip().splitlines()) == 1
+
+
+def test_one_night_is_counted_in_the_singular(capsys):
+    code = cli.main(["nights", "--site", str(SAMPLE_SITE), "--start", "2026-12-07", "--days", "1"])
+    _, err = capsys.readouterr()
+    assert code == 0 and err.startswith("1 night at ") and "1 nights" not in err

@@ -112,7 +112,7 @@ def test_empty_catalogue_gives_an_empty_plan(tmp_path, capsys):
     code = cli.main(["plan", str(cat), "--site", str(REPO / "sample_targets" / "site.toml"),
                      "--start", "2026-12-07", "--nights", "2", "--out", str(tmp_path / "p")])
     out, _ = capsys.readouterr()
-    assert code == 0 and "Nothing can be scheduled" in out
+    assert code == 0 and "Nothing could be scheduled" in out
     assert len(pd.read_csv(tmp_path / "p" / "schedule.csv")) == 0
 
 

@@ -23,6 +23,7 @@ from ..sky.night import darkness_of
 from ..timescales import clock
 from . import explain
 from .atomic import atomic_write
+from .wording import count
 
 CAUTION = ("CAUTION: Never point the telescope at or near the Sun: it can blind in an instant and destroy "
            "instruments. The observatory's own safety rules and local regulations come first.")
@@ -290,5 +291,6 @@ def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | No
     if n == 0:
         lines.append("Nothing could be scheduled this week (no dark time, or no target visible in darkness).")
     else:
-        lines.append(f"{n} blocks, {schedule['target'].nunique()} targets, {len(nights)} nights; times in {clock}.")
+        lines.append(f"{count(n, 'block')}, {count(schedule['target'].nunique(), 'target')}, "
+                     f"{count(len(nights), 'night')}; times in {clock}.")
     return "\n".join(lines) + "\n"

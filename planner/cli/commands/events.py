@@ -11,6 +11,7 @@ from ...orbits import geometry
 from ...errors import PeriplanError
 from . import require_nonnegative
 from ...outputs.tables import FORMATS, render
+from ...outputs.wording import count
 
 #: Most days of nights added either side of the span for windows widened by large timing
 #: uncertainties; beyond it the coverage of a window is counted only where nights are known.
@@ -90,12 +91,18 @@ def run(args) -> int:
     sys.stdout.write(render(table, args.format, formats))
     if args.format == "table":
         sys.stdout.flush()  # the summary line on stderr comes after the table
-        print(f"{len(table)} events of {table['target'].nunique() if len(table) else 0} targets "
+        print(f"{events_of_targets(len(table), table['target'].nunique() if len(table) else 0, len(targets))} "
               f"from {start_utc.isot[:16]}Z to {end_utc.isot[:16]}Z", file=sys.stderr)
     note = no_uncertainty_note(events)
     if note:
         print(f"periplan: note: {note}", file=sys.stderr)
     return 0
+
+
+def events_of_targets(n_events: int, n_with_events: int, n_targets: int) -> str:
+    """``"12 events of 3 targets"``, ``"5 events of 2 of 6 targets"``, ``"0 events of 1 target"``."""
+    of = count(n_targets, "target") if n_with_events in (0, n_targets) else f"{n_with_events} of {count(n_targets, 'target')}"
+    return f"{count(n_events, 'event')} of {of}"
 
 
 def _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args):
@@ -107,9 +114,12 @@ def _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, ar
     from ...timescales.clock import zone
     from ...sky.windows import DEFAULT_BASELINE_H, DEFAULT_K_SIGMA, event_visibility, never_rising
 
+    if args.visible is None or args.visible <= 0:
+        fate = "events that cannot be seen are listed with observable_fraction 0"
+    else:
+        fate = f"events that cannot be seen are left out by --visible {args.visible:g}"
     for line in never_rising_lines(never_rising(targets, site), site.name):
-        print(f"periplan: warning: {line}; events that cannot be seen are listed with "
-              "observable_fraction 0", file=sys.stderr)
+        print(f"periplan: warning: {line}; {fate}", file=sys.stderr)
     baseline_h = DEFAULT_BASELINE_H if args.baseline_h is None else args.baseline_h
     k_sigma = DEFAULT_K_SIGMA if args.k_sigma is None else args.k_sigma
     # nights covering every window: the span, one night either side, plus the widest half-window

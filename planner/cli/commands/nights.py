@@ -7,6 +7,7 @@ import sys
 
 from ...errors import PeriplanError
 from ...outputs.tables import FORMATS, nights_frame, render
+from ...outputs.wording import count
 
 EXAMPLES = """\
 examples:
@@ -47,7 +48,7 @@ def run(args) -> int:
     if args.format == "table":
         sys.stdout.flush()  # the summary line on stderr comes after the table
         dark = darkness_name(site.darkness_sun_alt_deg)
-        print(f"{len(table)} nights at {site.name} ({site.timezone}); dark = {dark}, Sun's centre below "
+        print(f"{count(len(table), 'night')} at {site.name} ({site.timezone}); dark = {dark}, Sun's centre below "
               f"{site.darkness_sun_alt_deg:g} deg. Never point a telescope near the Sun; the observatory's "
               "own safety rules and local regulations come first.", file=sys.stderr)
     return 0
