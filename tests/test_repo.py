@@ -25,3 +25,20 @@ def test_readme_states_the_safety_caution():
     text = (REPO / "README.md").read_text()
     assert "Never point a telescope at or near the Sun" in text
     assert "local regulations" in text
+
+
+def test_readme_accuracy_claims_are_the_tolerances_of_the_tests_it_names():
+    # The guarantee table names test_night, test_visibility and test_windows for these numbers;
+    # their tolerances must be the promise, not looser.
+    import test_night
+    import test_visibility
+    import test_windows
+
+    text = (REPO / "README.md").read_text()
+    assert "Night times within a second of astroplan" in text
+    assert "target altitudes within 1 arcsecond of astropy, the Sun and Moon within 1.5 arcseconds" in text
+    rounding = 1e-9  # of an arcsecond: the constants are written as n / 3600
+    assert test_night.ASTROPLAN_TOLERANCE_S <= 1.0
+    assert test_visibility.ALT_TOLERANCE_DEG * 3600.0 <= 1.0 + rounding
+    assert test_windows.EDGE_TOLERANCE_DEG * 3600.0 <= 1.0 + rounding
+    assert test_visibility.BODY_TOLERANCE_DEG * 3600.0 <= 1.5 + rounding

@@ -22,7 +22,7 @@ Notes
 -----
 Accuracy against astropy's full AltAz transform (pressure=0): about 1 arcsecond (polar motion and
 diurnal aberration, up to 0.3 arcsec each, are left out; the once-a-day apparent place adds
-< 0.3 arcsec); tests/test_visibility.py checks 1,000 targets x 7 nights to 0.005 deg. The
+< 0.3 arcsec); tests/test_visibility.py checks 1,000 targets x 7 nights to 1 arcsec. The
 interpolated geocentric Moon moves 0.5 deg/h on a path curved on the scale of its 27-day orbit
 and 15-day variation, so the cubic adds little: measured against astropy's topocentric AltAz of
 ``get_body`` over a week at 37.6 N, the Moon's altitude differs by at most 0.64 / 0.70 / 1.20
