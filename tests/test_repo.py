@@ -42,3 +42,65 @@ def test_readme_accuracy_claims_are_the_tolerances_of_the_tests_it_names():
     assert test_visibility.ALT_TOLERANCE_DEG * 3600.0 <= 1.0 + rounding
     assert test_windows.EDGE_TOLERANCE_DEG * 3600.0 <= 1.0 + rounding
     assert test_visibility.BODY_TOLERANCE_DEG * 3600.0 <= 1.5 + rounding
+
+
+def project_metadata():
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python 3.10: the declared tomli backport
+        import tomli as tomllib
+    return tomllib.loads((REPO / "pyproject.toml").read_text())["project"]
+
+
+def requirement_names(requirements):
+    from packaging.requirements import Requirement
+
+    return {Requirement(r).name.lower() for r in requirements}
+
+
+def test_declared_test_dependencies_are_imported_not_skipped():
+    # importorskip on a declared test dependency would make its reference checks vanish
+    # silently when it is missing; they must fail instead.
+    declared = requirement_names(project_metadata()["optional-dependencies"]["test"])
+    skipped = []
+    for path in sorted((REPO / "tests").glob("*.py")):
+        for module in re.findall(r"importorskip\(\s*['\"]([\w.]+)", path.read_text()):
+            if module.split(".")[0].lower() in declared:
+                skipped.append(f"{path.name}: {module}")
+    assert not skipped
+
+
+def test_astroplan_is_a_test_and_bench_reference_not_a_dependency():
+    import ast
+
+    meta = project_metadata()
+    assert "astroplan" not in requirement_names(meta["dependencies"])
+    assert "astroplan" in requirement_names(meta["optional-dependencies"]["test"])
+    assert {"astroplan", "radvel"} <= requirement_names(meta["optional-dependencies"]["bench"])
+    for path in (REPO / "planner").rglob("*.py"):
+        for node in ast.walk(ast.parse(path.read_text())):
+            names = ([a.name for a in node.names] if isinstance(node, ast.Import)
+                     else [node.module or ""] if isinstance(node, ast.ImportFrom) else [])
+            assert not [n for n in names if n.split(".")[0] == "astroplan"], path.name
+
+
+def test_installed_versions_meet_the_declared_floors():
+    # The floors in pyproject.toml are the versions the suite was run with; a run on older
+    # versions than declared would test something the floors do not promise.
+    from importlib.metadata import version
+
+    from packaging.requirements import Requirement
+    from packaging.version import Version
+
+    meta = project_metadata()
+    requirements = meta["dependencies"] + meta["optional-dependencies"]["test"]
+    checked = 0
+    for text in requirements:
+        req = Requirement(text)
+        if req.marker is not None and not req.marker.evaluate():
+            continue
+        floors = [s.version for s in req.specifier if s.operator == ">="]
+        assert floors, f"{req.name} has no version floor"
+        assert Version(version(req.name)) >= Version(floors[0]), req.name
+        checked += 1
+    assert checked >= 15
