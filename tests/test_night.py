@@ -273,3 +273,15 @@ def test_shared_crossing_search_on_a_known_function():
     assert list(r) == [0, 0, 0, 1, 1]
     want = [(0.03, 0.5), (1.0, 1.5), (2.0, 2.03), (0.1, 0.6), (1.1, 1.6)]
     assert np.max(np.abs(np.c_[start, end] - np.array(want))) <= DEFAULT_TOLERANCE_D
+
+
+def test_crossings_that_do_not_alternate_are_a_crossing_search_error():
+    # a series said to be above zero at both ends with one rising crossing between: two starts
+    # and one end; the message says what to change
+    from planner.errors import CrossingSearchError, PeriplanError
+    from planner.sky.crossings import positive_intervals
+
+    with pytest.raises(CrossingSearchError, match="sample the function on a finer grid") as info:
+        positive_intervals(np.array([0]), np.array([0.5]), np.array([True]), np.array([True]),
+                           np.array([True]), np.array([0.0]), np.array([1.0]))
+    assert isinstance(info.value, PeriplanError)

@@ -221,3 +221,41 @@ def test_local_strings_equal_python_zoneinfo(tz):
     assert list(ours) == ref
     assert list(clock.utc_to_iso_z(t)) == [
         dt.datetime.fromtimestamp(int(u), tz=dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ") for u in unix]
+
+
+@pytest.mark.parametrize("call, message", [
+    (lambda: clock.zone("Mars/Olympus"), "unknown time zone 'Mars/Olympus'; expected an IANA name"),
+    (lambda: clock.calendar_date("2026-13-01"), "'2026-13-01' is not a date; expected YYYY-MM-DD"),
+    (lambda: clock.datetime_to_jd_utc(__import__("datetime").datetime(2026, 12, 7, 22)),
+     "naive datetime 2026-12-07T22:00:00 has no time zone; give one"),
+    (lambda: clock.jd_utc_to_datetime(float("nan")), "nan is not a finite Julian date"),
+    (lambda: epochs.to_bjd_tdb(2460000.0, "HJD_TT", 10.0, 20.0),
+     "unknown time system 'HJD_TT'; expected one of BJD_TDB, HJD_UTC, JD_UTC"),
+    (lambda: epochs.utc_to_tdb_jd(1e12), "cannot be converted from UTC to TDB"),
+    (lambda: epochs.bjd_tdb_to_utc(np.array([2461381.5, np.nan]), 10.0, 20.0),
+     "1 of 2 times are not finite numbers"),
+], ids=["zone", "date", "naive datetime", "nan datetime", "time system", "erfa range", "nan to utc"])
+def test_time_scale_errors_name_the_value_and_what_is_accepted(call, message):
+    import re
+
+    from planner.errors import PeriplanError, TimeScaleError
+
+    with pytest.raises(TimeScaleError, match=re.escape(message)) as info:
+        call()
+    assert isinstance(info.value, PeriplanError)
+
+
+@pytest.mark.parametrize("n", [10, 3000])  # astropy one by one below 1000 times, a grid above
+def test_times_that_are_not_finite_stay_nan_on_both_conversion_paths(n):
+    # reference: astropy's UTC -> TDB for the finite times
+    jd = 2461381.5 + np.linspace(0.0, 30.0, n)
+    jd[3] = np.nan
+    got = epochs.utc_to_tdb_jd(jd)
+    ok = np.isfinite(jd)
+    ref = Time(jd[ok], format="jd", scale="utc").tdb
+    assert np.isnan(got[3]) and np.all(np.isfinite(got[ok]))
+    assert np.max(np.abs(got[ok] - (ref.jd1 + ref.jd2))) * 86400 < 1e-6
+    # an epoch or time that is NaN alone gives NaN, as it does beside finite ones
+    assert np.isnan(epochs.to_bjd_tdb(np.nan, "JD_UTC", 10.0, 20.0))
+    assert np.isnan(epochs.light_travel_time_d(np.nan, 10.0, 20.0))
+    assert np.isnan(epochs.to_bjd_tdb(np.array([2461381.5, np.nan]), "HJD_UTC", 10.0, 20.0)[1])
