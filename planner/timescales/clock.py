@@ -29,7 +29,7 @@ def zone(name: str):
         return ZoneInfo(name)
     except (ZoneInfoNotFoundError, ValueError):
         raise TimeScaleError(f"unknown time zone {name!r}; expected an IANA name such as Europe/Madrid "
-                            "or America/Santiago") from None
+                             "or America/Santiago") from None
 
 
 def calendar_date(value) -> dt.date:
