@@ -14,6 +14,7 @@ import hashlib
 import numpy as np
 import pandas as pd
 
+from ..errors import TimeScaleError
 from ..timescales import clock
 from . import explain
 from .atomic import atomic_write
@@ -66,7 +67,8 @@ def plan_calendar(schedule: pd.DataFrame, dtstamp_utc: dt.datetime | None = None
 
     stamp = dtstamp_utc or dt.datetime.now(dt.timezone.utc).replace(microsecond=0)
     if stamp.tzinfo is None:
-        raise ValueError("dtstamp_utc must be timezone-aware (UTC)")
+        raise TimeScaleError(f"dtstamp_utc {stamp.isoformat()} has no time zone; give an aware datetime, "
+                             "e.g. datetime(..., tzinfo=datetime.timezone.utc)")
     cal = Calendar()
     cal.add("prodid", PRODID)
     cal.add("version", "2.0")

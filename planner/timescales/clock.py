@@ -11,7 +11,7 @@ import datetime as dt
 
 import numpy as np
 
-from ..errors import PeriplanError
+from ..errors import TimeScaleError
 
 #: Julian date of 1970-01-01 00:00 UTC (the Unix epoch).
 UNIX_EPOCH_JD = 2440587.5
@@ -22,18 +22,18 @@ SECONDS_PER_DAY = 86400.0
 
 
 def zone(name: str):
-    """zoneinfo ZoneInfo for an IANA name, or a PeriplanError naming the bad zone."""
+    """zoneinfo ZoneInfo for an IANA name, or a TimeScaleError naming the bad zone."""
     from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
     try:
         return ZoneInfo(name)
     except (ZoneInfoNotFoundError, ValueError):
-        raise PeriplanError(f"unknown time zone {name!r}; expected an IANA name such as Europe/Madrid "
-                            "or America/Santiago") from None
+        raise TimeScaleError(f"unknown time zone {name!r}; expected an IANA name such as Europe/Madrid "
+                             "or America/Santiago") from None
 
 
 def calendar_date(value) -> dt.date:
-    """A ``datetime.date`` from a date or a ``YYYY-MM-DD`` string; a PeriplanError otherwise."""
+    """A ``datetime.date`` from a date or a ``YYYY-MM-DD`` string; a TimeScaleError otherwise."""
     if isinstance(value, dt.datetime):
         return value.date()
     if isinstance(value, dt.date):
@@ -41,7 +41,7 @@ def calendar_date(value) -> dt.date:
     try:
         return dt.date.fromisoformat(str(value))
     except (TypeError, ValueError):
-        raise PeriplanError(f"{value!r} is not a date; expected YYYY-MM-DD, e.g. 2026-12-07") from None
+        raise TimeScaleError(f"{value!r} is not a date; expected YYYY-MM-DD, e.g. 2026-12-07") from None
 
 
 def date_to_jd_utc(day) -> float:
@@ -52,7 +52,8 @@ def date_to_jd_utc(day) -> float:
 def datetime_to_jd_utc(when: dt.datetime) -> float:
     """UTC Julian date of an aware datetime (a naive one is refused: its zone would be a guess)."""
     if when.tzinfo is None:
-        raise PeriplanError("naive datetime; give a time zone (e.g. zoneinfo.ZoneInfo('UTC'))")
+        raise TimeScaleError(f"naive datetime {when.isoformat()} has no time zone; give one, e.g. "
+                             "tzinfo=zoneinfo.ZoneInfo('UTC') or the site's zone")
     return when.timestamp() / SECONDS_PER_DAY + UNIX_EPOCH_JD
 
 
@@ -60,6 +61,8 @@ def jd_utc_to_datetime(jd_utc: float) -> dt.datetime:
     """Aware UTC datetime, rounded to the nearest second, of a UTC Julian date."""
     from astropy.time import Time
 
+    if not np.isfinite(jd_utc):
+        raise TimeScaleError(f"{jd_utc!r} is not a finite Julian date; expected a UTC Julian date such as 2461381.5")
     seconds = _utc_seconds(Time(float(jd_utc), format="jd", scale="utc"))[0]
     return dt.datetime.fromtimestamp(int(seconds.astype(np.int64)), tz=dt.timezone.utc)
 
@@ -226,7 +229,7 @@ def utc_to_local_iso(t_utc, tz: str) -> np.ndarray:
     """Local clock times ``YYYY-MM-DDTHH:MM:SS+HH:MM`` in the IANA zone ``tz`` (zoneinfo rules)."""
     import pandas as pd
 
-    zone(tz)  # a PeriplanError for an unknown zone
+    zone(tz)  # a TimeScaleError for an unknown zone
     utc = _utc_seconds(t_utc)
     local = pd.DatetimeIndex(utc).tz_localize("UTC").tz_convert(tz).tz_localize(None).to_numpy().astype("datetime64[s]")
     return _iso_strings(local, (local - utc).astype(np.int64) // 60)
