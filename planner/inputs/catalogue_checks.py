@@ -30,16 +30,25 @@ MAX_FULL_JD = 3_000_000.0
 DEFAULT_EVENTS_ECCENTRIC = ORBIT_EVENTS
 DEFAULT_EVENTS_CIRCULAR = ("primary_conjunction", "secondary_conjunction", "rv_max", "rv_min")
 
+_DECIMAL_COMMA = re.compile(r"^\s*[+-]?\d+,\d+\s*$")
 _SEXAGESIMAL = re.compile(r"^\s*([+-]?)\s*(\d+)[:\s]+(\d+)(?:[:\s]+(\d+(?:\.\d*)?))?\s*$")
 
 
 @dataclasses.dataclass
 class Cells:
-    """The raw catalogue (text cells, index = file row) with its source name and error list."""
+    """The raw catalogue (index = row number) with its source name and error list.
+
+    Cells are text (``""`` when empty), or floats (NaN when empty) for numeric columns of a
+    table read with its types. ``names`` maps an engine column to the column name the user gave
+    (``period`` for ``period_d``), ``notes`` to a remark added to its messages (a unit
+    conversion); messages name the user's column.
+    """
 
     frame: pd.DataFrame
     source: str
     errors: list
+    names: dict = dataclasses.field(default_factory=dict)
+    notes: dict = dataclasses.field(default_factory=dict)
 
     @property
     def n(self) -> int:
@@ -50,27 +59,43 @@ class Cells:
         return self.frame.index.to_numpy()
 
     def err(self, row, column, message, value=None) -> None:
-        self.errors.append(InputError(message, file=self.source, row=int(row), column=column, value=value))
+        self.errors.append(InputError(message + self.notes.get(column, ""), file=self.source, row=int(row),
+                                      column=self.names.get(column, column), value=value))
+
+    def _is_float(self, column) -> bool:
+        return column in self.frame and self.frame[column].dtype.kind == "f"
 
     def text(self, column) -> np.ndarray:
         """The column's text cells (``""`` for every row when the column is absent)."""
         if column not in self.frame:
             return np.full(self.n, "", dtype=object)
+        if self._is_float(column):
+            values = self.frame[column].to_numpy(float)
+            return np.array(["" if np.isnan(v) else repr(float(v)) for v in values], dtype=object)
         return self.frame[column].astype(str).to_numpy()
 
     def given(self, column) -> np.ndarray:
         """True where the column exists and its cell is not empty."""
+        if self._is_float(column):
+            return ~np.isnan(self.frame[column].to_numpy(float))
         return self.text(column) != ""
 
     def numeric(self, column, default=np.nan, positive=False, nonnegative=False) -> np.ndarray:
         """Column as floats; bad cells become NaN (or ``default``) and an InputError each."""
         if column not in self.frame:
             return np.full(self.n, default, dtype=float)
-        text = self.frame[column].astype(str)
-        values = pd.to_numeric(text.where(text != "", None), errors="coerce").to_numpy(dtype=float, copy=True)
-        bad_number = (text != "").to_numpy() & ~np.isfinite(values)
-        for row, v in zip(self.frame.index[bad_number], text[bad_number]):
-            self.err(row, column, f"{v!r} is not a number", v)
+        if self._is_float(column):
+            values = self.frame[column].to_numpy(float, copy=True)
+            bad_number = np.isinf(values)
+            text = pd.Series(self.text(column), index=self.frame.index) if bad_number.any() or positive or nonnegative \
+                else None
+        else:
+            text = self.frame[column].astype(str)
+            values = pd.to_numeric(text.where(text != "", None), errors="coerce").to_numpy(dtype=float, copy=True)
+            bad_number = (text != "").to_numpy() & ~np.isfinite(values)
+        for row, v in zip(self.frame.index[bad_number], text[bad_number] if bad_number.any() else ()):
+            hint = " (a decimal comma? write numbers with a decimal point)" if _DECIMAL_COMMA.match(v) else ""
+            self.err(row, column, f"{v!r} is not a number{hint}", v)
         values[bad_number] = np.nan
         if positive:
             bad = values <= 0
