@@ -43,7 +43,7 @@ CATALOGUE_EXPECTED = {
     "missing_omega.csv": (2, "omega_deg", "required when e > 0"),
     "missing_epoch_value.csv": (2, "tc", "missing epoch"),
     "two_epochs.csv": (2, "tc", "give exactly one"),
-    "unknown_event.csv": (2, "events", "unknown event 'transit'"),
+    "unknown_event.csv": (2, "events", "unknown event 'ingress'"),
     "too_many_fields.csv": (2, None, "8 fields but the header has 7"),
     "negative_uncertainty.csv": (2, "period_err_d", "must not be negative"),
     "omega_of_unknown.csv": (2, "omega_of", "expected 'primary' or 'companion'"),

@@ -6,11 +6,12 @@ and the engine's columns (units in the names, every epoch in BJD_TDB, omega of t
 
 ``name, ra_deg, dec_deg, ephemeris, period_d, period_err_d, e, e_err, omega_deg,
 omega_err_deg, epoch_kind, epoch_bjd_tdb, epoch_err_d, tp_bjd_tdb, time_system, k_ms, gamma_ms,
-priority, events, duration_h, a_rstar, inc_deg, rp_rstar, label, visit_h, visit_gap_h``
+priority, events, duration_h, a_rstar, inc_deg, rp_rstar, label, visit_h, visit_gap_h, events_given``
 
 ``ephemeris`` is ``"orbit"`` (Keplerian elements) or ``"linear"`` (only T0 and P: the target's
 event is ``periodic``). ``epoch_kind`` is ``tp``, ``tc`` or ``t0``. ``events`` is a tuple of event
-names. Every problem found in the file is collected and raised together as
+names: the ``events`` column's (aliases resolved), or the target's defaults
+(:func:`~planner.inputs.catalogue_checks.default_events`) where ``events_given`` is False. Every problem found in the file is collected and raised together as
 :class:`~planner.errors.InputErrors`, each naming file, row (the header is row 1), column, value
 and what was expected.
 
@@ -46,6 +47,7 @@ from __future__ import annotations
 import csv
 import difflib
 import io
+import warnings
 
 import numpy as np
 import pandas as pd
@@ -70,7 +72,7 @@ OUTPUT_COLUMNS = (
     "name", "ra_deg", "dec_deg", "ephemeris", "period_d", "period_err_d", "e", "e_err",
     "omega_deg", "omega_err_deg", "epoch_kind", "epoch_bjd_tdb", "epoch_err_d", "tp_bjd_tdb",
     "time_system", "k_ms", "gamma_ms", "priority", "events", "duration_h", "a_rstar", "inc_deg",
-    "rp_rstar", "label", "visit_h", "visit_gap_h",
+    "rp_rstar", "label", "visit_h", "visit_gap_h", "events_given",
 )
 
 
@@ -128,7 +130,7 @@ def _split_rows(text: str, source: str):
         for record in csv.reader(lines(), delimiter=delimiter):
             state["row"] += 1
             state["at_start"] = True
-            if any(cell.strip() for cell in record):
+            if "".join(record).strip():
                 records.append(record)
                 numbers.append(state["row"])
     except csv.Error as exc:
@@ -184,6 +186,12 @@ def load_columns(header, values, rows, source, header_row=None, units=None, erro
         raise InputErrors(errors)
     for h, v in extras.items():
         result[h] = _extra_column(v)
+    none = [int(r) for r, evs in zip(rows, result["events"]) if not evs]
+    if none:
+        shown = ", ".join(map(str, none[:5])) + (f" and {len(none) - 5} more" if len(none) > 5 else "")
+        warnings.warn(f"{source}: row{'s' if len(none) > 1 else ''} {shown}: no event to predict (a circular "
+                      "orbit without k_ms, eclipse geometry or duration_h); name the wanted events in column events",
+                      stacklevel=2)
     return result
 
 
@@ -294,7 +302,9 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
     system, epoch_bjd = checks.check_time_system(cells, full_jd, ra, dec)
     observing = checks.check_observing(cells)
     duration, a_rstar, inc, rp = checks.check_geometry(cells, e, omega)
-    events, labels = checks.check_events(cells, linear, e)
+    eclipse = np.isfinite(duration) | (np.isfinite(a_rstar) & np.isfinite(inc) & np.isfinite(rp))
+    events, labels = checks.check_events(cells, linear, e, rv=np.isfinite(observing["k_ms"]) & (observing["k_ms"] > 0),
+                                         eclipse=eclipse)
 
     tp = np.where(epoch_kind == "tc", np.nan, epoch_bjd)
     orbit_tc = (epoch_kind == "tc") & ~linear & np.isfinite(e) & np.isfinite(omega)
@@ -313,4 +323,5 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
         "epoch_kind": epoch_kind.astype(str), "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
         "tp_bjd_tdb": tp, "time_system": system, "events": events, "duration_h": duration,
         "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing,
+        "events_given": cells.given("events"),
     }, columns=list(OUTPUT_COLUMNS))
