@@ -1,19 +1,31 @@
-"""Catalogue loader: a CSV file of published elements -> a validated table of targets.
+"""Catalogue loader: a catalogue of published elements -> a validated table of targets.
 
-This is the only module that reads catalogue files. :func:`read_catalogue` takes a path,
-:func:`parse_catalogue` the text; both return a :class:`pandas.DataFrame` with one row per target
-and the engine's columns (units in the names, every epoch in BJD_TDB, omega of the primary):
+This is the only module that reads catalogue files. :func:`read_catalogue` takes a path (a CSV
+file, or an ECSV, VOTable or FITS table read by :mod:`planner.inputs.catalogue_tables`), a pandas
+DataFrame or an astropy Table; :func:`parse_catalogue` CSV text. Every form goes through
+:func:`load_columns` (one header check, the validators of :mod:`catalogue_checks`, the same
+messages) and gives a :class:`pandas.DataFrame` with one row per target and the engine's columns
+(units in the names, every epoch in BJD_TDB, omega of the primary):
 
 ``name, ra_deg, dec_deg, ephemeris, period_d, period_err_d, e, e_err, omega_deg,
 omega_err_deg, epoch_kind, epoch_bjd_tdb, epoch_err_d, tp_bjd_tdb, time_system, k_ms, gamma_ms,
 priority, events, duration_h, a_rstar, inc_deg, rp_rstar, label, visit_h, visit_gap_h, events_given``
 
+then the catalogue's columns that periplan does not read, under their own names (floats when
+every cell is a number, else text), for the writers to show (a magnitude on the nightly sheets).
+
 ``ephemeris`` is ``"orbit"`` (Keplerian elements) or ``"linear"`` (only T0 and P: the target's
 event is ``periodic``). ``epoch_kind`` is ``tp``, ``tc`` or ``t0``. ``events`` is a tuple of event
 names: the ``events`` column's (aliases resolved), or the target's defaults
-(:func:`~planner.inputs.catalogue_checks.default_events`) where ``events_given`` is False. Every problem found in the file is collected and raised together as
-:class:`~planner.errors.InputErrors`, each naming file, row (the header is row 1), column, value
-and what was expected.
+(:func:`~planner.inputs.catalogue_checks.default_events`) where ``events_given`` is False.
+Every problem found is collected and raised together as :class:`~planner.errors.InputErrors`,
+each naming file, row, column, value and what was expected. Rows of a CSV file are counted as a
+spreadsheet shows them (the header is row 1, a quoted cell with line breaks is one row, comment
+and blank lines count); rows of tables as :mod:`catalogue_tables` says.
+
+A header name one edit away from a column periplan reads (``perod_d``) is refused with "did you
+mean"; a name without its unit (``period``) is refused unless a table gives its unit; other
+names are carried unread.
 
 Input columns (header names, case-insensitive; order free):
 
@@ -32,13 +44,16 @@ Input columns (header names, case-insensitive; order free):
 ``omega_of``       ``primary`` (default) or ``companion`` (then omega + 180 deg is used)
 ``k_ms``, ``gamma_ms``  RV semi-amplitude and systemic velocity, m/s
 ``priority``       positive number, larger is more important (default 1)
-``events``         semicolon list of wanted events (default: all that the elements define)
+``events``         semicolon list of wanted events; the usual words are aliases (``transit``,
+                   ``primary_eclipse``, ``occultation``, ``secondary_eclipse``), and a linear
+                   ephemeris may say ``maximum`` or ``minimum`` (default: what the columns
+                   make worth observing, :func:`~planner.inputs.catalogue_checks.default_events`)
 ``duration_h``     event duration in hours (transit/eclipse), used when no geometry is given
 ``a_rstar``, ``inc_deg`` or ``b``, ``rp_rstar``  eclipse geometry (a/R*, inclination or impact
                    parameter at primary conjunction, radius ratio)
 ``label``          the catalogue's own name for the event of a linear ephemeris
 ``visit_h``, ``visit_gap_h``  block length and minimum spacing (hours) of flexible visits
-``notes``, ``x_*`` ignored (free text for the user)
+``notes``, others  carried unread (free text, magnitudes, anything of the user's)
 =================  ====================================================================
 """
 
@@ -57,7 +72,7 @@ from . import catalogue_checks as checks
 from .catalogue_checks import EPOCH_COLUMNS, parse_angle
 from .textfile import decode_text, read_bytes
 
-__all__ = ["KNOWN_COLUMNS", "OUTPUT_COLUMNS", "parse_angle", "parse_catalogue", "read_catalogue"]
+__all__ = ["KNOWN_COLUMNS", "OUTPUT_COLUMNS", "load_columns", "parse_angle", "parse_catalogue", "read_catalogue"]
 
 NUMERIC_COLUMNS = (
     "period_d", "period_err_d", "e", "e_err", "omega_deg", "omega_err_deg", "tp", "tc", "t0",
@@ -76,9 +91,26 @@ OUTPUT_COLUMNS = (
 )
 
 
-def read_catalogue(path) -> pd.DataFrame:
-    """Validated target table (see module docstring) from the CSV file at ``path``."""
-    raw, source = read_bytes(path, "catalogue")
+def read_catalogue(catalogue, name: str | None = None) -> pd.DataFrame:
+    """Validated target table (see module docstring) from a catalogue in any form.
+
+    ``catalogue`` is a path to a CSV file, or to an ECSV, VOTable or FITS table (chosen by the
+    extension, :data:`planner.inputs.catalogue_tables.TABLE_FORMATS`), a pandas DataFrame or an
+    astropy Table. Every form goes through the same checks and messages; ``name`` is what the
+    messages call a DataFrame or Table (default ``DataFrame`` / ``Table``).
+    """
+    if isinstance(catalogue, pd.DataFrame):
+        from .catalogue_tables import load_frame
+
+        return load_frame(catalogue, name or "DataFrame")
+    from .catalogue_tables import is_table, load_table, read_table_file, table_format
+
+    if is_table(catalogue):
+        return load_table(catalogue, name or "Table", first_row=0)
+    fmt = table_format(catalogue)
+    if fmt is not None:
+        return read_table_file(catalogue, fmt)
+    raw, source = read_bytes(catalogue, "catalogue")
     return parse_catalogue(raw, source=source)
 
 
