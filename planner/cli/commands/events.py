@@ -31,7 +31,9 @@ def register(sub):
         description="List every predicted event of every catalogue target in a span of days, sorted by "
                     "time, in BJD_TDB, UTC and (with --tz) local time, with the 1-sigma timing uncertainty.",
         epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("catalog", metavar="CATALOG", help="catalogue CSV file of targets and elements")
+    p.add_argument("catalog", metavar="CATALOG",
+                   help="catalogue of targets and elements: CSV, or an ECSV, VOTable or FITS table "
+                        "(by extension)")
     p.add_argument("--start", required=True, metavar="YYYY-MM-DD",
                    help="first day of the span (00:00 UTC, or local midnight with --tz)")
     p.add_argument("--days", type=float, default=7.0, metavar="N", help="length of the span in days (default 7)")
