@@ -127,7 +127,7 @@ def test_same_messages_with_the_table_row(ext, tmp_path):
 def test_message_names_the_table_column_and_its_conversion():
     t = bad_table()
     t["period"][2] = -72.0
-    assert messages(t)[0] == ("Table, row 2, column period: -3.0 must be positive (converted from h in the table "
+    assert messages(t)[0] == ("Table, row 2, column period: -3 must be positive (converted from h in the table "
                               "to d)")
 
 
@@ -141,6 +141,12 @@ def test_unit_of_the_wrong_kind_is_an_error_naming_the_column(column, unit, kind
     t = table_in_other_units()
     t["e"].unit = u.deg
     assert messages(t) == ["Table: column 'e' has unit 'deg' (angle); e needs dimensionless (no unit)"]
+
+
+def test_numeric_names_read_as_written():
+    t = table_in_other_units()
+    t["name"] = [436, 2]  # catalogue numbers as integers, as a FITS table may hold them
+    assert planner.read_catalogue(t)["name"].tolist() == ["436", "2"]
 
 
 def test_time_objects_and_unreadable_files_are_refused(tmp_path):

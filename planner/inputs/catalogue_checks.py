@@ -69,7 +69,7 @@ class Cells:
             return np.full(self.n, "", dtype=object)
         if self._is_float(column):
             values = self.frame[column].to_numpy(float)
-            return np.array(["" if np.isnan(v) else repr(float(v)) for v in values], dtype=object)
+            return np.array(["" if np.isnan(v) else _float_text(v) for v in values], dtype=object)
         return self.frame[column].astype(str).to_numpy()
 
     def given(self, column) -> np.ndarray:
@@ -106,6 +106,12 @@ class Cells:
                 self.err(row, column, f"{v} must not be negative (it is a 1-sigma uncertainty)", v)
             values[bad] = np.nan
         return np.where(np.isnan(values), default, values) if not np.isnan(default) else values
+
+
+def _float_text(value: float) -> str:
+    """Shortest text that reads back as ``value``, without a trailing ``.0`` (``12345``, ``5.63``)."""
+    text = repr(float(value))
+    return text[:-2] if text.endswith(".0") else text
 
 
 def parse_angle(text: str, hours: bool) -> float:
