@@ -52,6 +52,12 @@ CATALOGUE_EXPECTED = {
     "inclination_and_impact.csv": (2, "b", "give either inc_deg or b, not both"),
     "empty_name.csv": (2, "name", "empty target name"),
     "tp_on_linear_ephemeris.csv": (2, "tp", "needs e and omega_deg"),
+    "decimal_comma.csv": (2, "period_d", "'3,25' is not a number (a decimal comma?"),
+    "period_without_unit.csv": (1, "period", "needs its unit: did you mean 'period_d'?"),
+    "reserved_column_name.csv": (1, "ra_deg", "is a name periplan gives to a column it computes"),
+    "quoted_note_then_bad_row.csv": (3, "e", "1.5 is not a bound orbit"),  # the note is one row
+    "period_unit_of_length.ecsv": (None, None, "column 'period' has unit 'm' (length); period_d needs time"),
+    "eccentricity_one.ecsv": (2, "e", "1.02 is not a bound orbit"),  # the second data row
 }
 
 
