@@ -58,6 +58,8 @@ CATALOGUE_EXPECTED = {
     "quoted_note_then_bad_row.csv": (3, "e", "1.5 is not a bound orbit"),  # the note is one row
     "period_unit_of_length.ecsv": (None, None, "column 'period' has unit 'm' (length); period_d needs time"),
     "eccentricity_one.ecsv": (2, "e", "1.02 is not a bound orbit"),  # the second data row
+    "unclosed_quote.csv": (3, None, 'not readable as CSV: a quote (") opened in this row is never closed'),
+    "text_after_closing_quote.csv": (2, None, "text follows a closing quote"),
 }
 
 

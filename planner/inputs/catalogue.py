@@ -159,14 +159,20 @@ def _split_rows(text: str, source: str):
     delimiter = _delimiter(text)
     records, numbers = [], []
     try:
-        for record in csv.reader(lines(), delimiter=delimiter):
+        for record in csv.reader(lines(), delimiter=delimiter, strict=True):
             state["row"] += 1
             state["at_start"] = True
             if "".join(record).strip():
                 records.append(record)
                 numbers.append(state["row"])
     except csv.Error as exc:
-        raise InputErrors([InputError(f"not readable as CSV ({exc})", file=source, row=state["row"] + 1)]) from None
+        reason = str(exc)
+        if "unexpected end of data" in reason:
+            reason = 'a quote (") opened in this row is never closed; the rest of the file would be one cell'
+        elif "expected after" in reason:
+            reason = ('text follows a closing quote ("); inside a quoted cell write a quote twice (""), '
+                      "or do not quote the cell")
+        raise InputErrors([InputError(f"not readable as CSV: {reason}", file=source, row=state["row"] + 1)]) from None
     if not records:
         raise InputErrors([InputError(
             "empty catalogue; expected a header row such as 'name,ra,dec,period_d,e,omega_deg,tp' "
