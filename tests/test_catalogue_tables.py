@@ -143,6 +143,12 @@ def test_unit_of_the_wrong_kind_is_an_error_naming_the_column(column, unit, kind
     assert messages(t) == ["Table: column 'e' has unit 'deg' (angle); e needs dimensionless (no unit)"]
 
 
+def test_quantity_columns_of_a_qtable(reference):
+    from astropy.table import QTable
+
+    assert_same_targets(planner.read_catalogue(QTable(table_in_other_units())), reference)
+
+
 def test_numeric_names_read_as_written():
     t = table_in_other_units()
     t["name"] = [436, 2]  # catalogue numbers as integers, as a FITS table may hold them

@@ -128,9 +128,15 @@ def _text(values: np.ndarray, missing: np.ndarray) -> np.ndarray:
 
 
 def _column_values(col, name: str, source: str, errors: list) -> np.ndarray:
-    """Floats (NaN where masked) for a numeric column, text otherwise."""
+    """Floats (NaN where masked) for a numeric column (a Quantity of a QTable too), text otherwise."""
+    import astropy.units as u
     from astropy.table import Column
 
+    if isinstance(col, u.Quantity) and col.ndim == 1:  # a QTable column (masked or not)
+        mask = np.asarray(getattr(col, "mask", np.zeros(len(col), bool)), bool)
+        out = np.array(getattr(col, "unmasked", col).value, dtype=float)
+        out[mask] = np.nan
+        return out
     if not isinstance(col, Column):
         errors.append(InputError(f"column {name!r} holds {type(col).__name__} objects; give it as plain numbers "
                                  "(Julian dates for an epoch, with the system in column time_system) or text",
