@@ -10,7 +10,9 @@ P/2 + (P/pi) [arctan(e cos w / sqrt(1 - e^2)) + e cos w sqrt(1 - e^2) / (1 - e^2
 HAT-P-2 b: Pal et al. 2010, MNRAS 401, 2665 (abstract): P = 5.6334729 d, e = 0.5171,
 omega = 185.22 deg, Tc = 2454387.49375 BJD. delta Cephei light maxima: P = 5.366249 d,
 max at JD 2436075.445 (GCVS, from memory); Algol primary minima: P = 2.8673043 d,
-min at HJD 2445641.5135 (from memory). The default events are common practice (no source):
+min at HJD 2445641.5135 (from memory). Inputs only, never checked values: HAT-P-2 b's a/R* 9.7,
+inclination 86.7 deg, Rp/R* 0.0723 and K 983.9 m/s (from memory). The default events are
+common practice (no source):
 nothing photometric happens at apastron, RV extremes need an RV amplitude, eclipse-shaped
 blocks need an eclipse.
 """
