@@ -43,7 +43,7 @@ CATALOGUE_EXPECTED = {
     "missing_omega.csv": (2, "omega_deg", "required when e > 0"),
     "missing_epoch_value.csv": (2, "tc", "missing epoch"),
     "two_epochs.csv": (2, "tc", "give exactly one"),
-    "unknown_event.csv": (2, "events", "unknown event 'transit'"),
+    "unknown_event.csv": (2, "events", "unknown event 'ingress'"),
     "too_many_fields.csv": (2, None, "8 fields but the header has 7"),
     "negative_uncertainty.csv": (2, "period_err_d", "must not be negative"),
     "omega_of_unknown.csv": (2, "omega_of", "expected 'primary' or 'companion'"),
@@ -52,6 +52,14 @@ CATALOGUE_EXPECTED = {
     "inclination_and_impact.csv": (2, "b", "give either inc_deg or b, not both"),
     "empty_name.csv": (2, "name", "empty target name"),
     "tp_on_linear_ephemeris.csv": (2, "tp", "needs e and omega_deg"),
+    "decimal_comma.csv": (2, "period_d", "'3,25' is not a number (a decimal comma?"),
+    "period_without_unit.csv": (1, "period", "needs its unit: did you mean 'period_d'?"),
+    "reserved_column_name.csv": (1, "ra_deg", "is a name periplan gives to a column it computes"),
+    "quoted_note_then_bad_row.csv": (3, "e", "1.5 is not a bound orbit"),  # the note is one row
+    "period_unit_of_length.ecsv": (None, None, "column 'period' has unit 'm' (length); period_d needs time"),
+    "eccentricity_one.ecsv": (2, "e", "1.02 is not a bound orbit"),  # the second data row
+    "unclosed_quote.csv": (3, None, 'not readable as CSV: a quote (") opened in this row is never closed'),
+    "text_after_closing_quote.csv": (2, None, "text follows a closing quote"),
 }
 
 

@@ -27,6 +27,7 @@ import zlib
 import numpy as np
 import pandas as pd
 
+from ..errors import PeriplanError
 from ..timescales.epochs import bjd_tdb_to_utc
 from . import geometry
 from .geometry import ORBIT_EVENTS, PERIODIC_EVENT
@@ -98,7 +99,12 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
     start_bjd_tdb, end_bjd_tdb : float
         Span in BJD_TDB.
     kinds : iterable of str, optional
-        Keep only these event names (intersected with each target's own ``events`` list).
+        Keep only these event names: intersected with the ``events`` list of a target whose
+        catalogue names its events (``events_given``), else with every event its elements define
+        (the filter asks for them, beyond the target's defaults). The
+        aliases of :data:`planner.orbits.geometry.EVENT_ALIASES` are accepted, and ``maximum`` /
+        ``minimum`` keep the periodic events whose label says so
+        (:func:`planner.orbits.geometry.periodic_kind`).
 
     Returns
     -------
@@ -111,7 +117,7 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
         ``target_index`` (row of ``targets``).
     """
     n = len(targets)
-    wanted_kinds = None if kinds is None else set(kinds)
+    wanted_kinds = None if kinds is None else _kinds(kinds)
     period = targets["period_d"].to_numpy(float)
     period_err = targets["period_err_d"].to_numpy(float)
     epoch = targets["epoch_bjd_tdb"].to_numpy(float)
@@ -130,9 +136,13 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
                                    np.radians(targets["omega_err_deg"].to_numpy(float)), epoch_kind,
                                    targets["name"].to_numpy(object), n_samples, seed)
     want = np.zeros((n, 7), bool)
-    for i, (evs, orb) in enumerate(zip(targets["events"], is_orbit)):
+    asked = targets["events_given"].to_numpy(bool) if "events_given" in targets else np.ones(n, bool)
+    for i, (evs, orb, label) in enumerate(zip(targets["events"], is_orbit, targets["label"])):
+        if wanted_kinds is not None and not asked[i]:  # the filter asks for events beyond the defaults
+            evs = (ORBIT_EVENTS if e[i] > 0 else _CIRCULAR_EVENTS) if orb else (PERIODIC_EVENT,)
         for ev in evs:
-            if wanted_kinds is None or ev in wanted_kinds:
+            if wanted_kinds is None or ev in wanted_kinds or (
+                    ev == PERIODIC_EVENT and geometry.periodic_kind(label) in wanted_kinds):
                 want[i, names.index(ev)] = True
         if not orb:
             want[i, :6] = False
@@ -173,6 +183,21 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
         "eclipses": pd.arrays.BooleanArray(np.isfinite(dur) & known, ~known),
         "target_index": t_i.astype(np.int64),
     })
+    return out
+
+
+#: Events a circular orbit defines (its periastron is a convention: omega = 90 deg).
+_CIRCULAR_EVENTS = ("primary_conjunction", "secondary_conjunction", "rv_max", "rv_min")
+
+
+def _kinds(kinds) -> set:
+    """The event names and periodic kinds that the words ``kinds`` mean (aliases resolved)."""
+    out = set()
+    for word in kinds:
+        name = geometry.canonical_event(word)
+        if name is None:
+            raise PeriplanError(f"unknown event {word!r}; expected one of {', '.join(geometry.EVENT_WORDS)}")
+        out.add(name)
     return out
 
 

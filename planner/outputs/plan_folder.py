@@ -150,7 +150,8 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
         for label in nights["night"].astype(str):
             for ext in ("txt", "html"):
                 path(f"night-{label}.{ext}")
-        jobs.append((sheets.write_night_sheets, (staging, schedule, nights), {"tz": tz, "site_name": plan.site.name}))
+        jobs.append((sheets.write_night_sheets, (staging, schedule, nights), {"tz": tz, "site_name": plan.site.name,
+                                                                        "targets": plan.targets}))
         jobs.append((ical.write_ics, (path("plan.ics"), schedule), {"site_name": plan.site.name}))
         if len(plan.never_rising):
             text = render(plan.never_rising.drop(columns="target_index"), "csv",

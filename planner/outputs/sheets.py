@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import html
 import os
+import re
 
 import numpy as np
 import pandas as pd
@@ -137,11 +138,29 @@ def _empty_message(night) -> str:
             "flexible target fits.")
 
 
+#: Catalogue columns that hold a magnitude (``mag``, ``vmag``, ``V_mag``, ``mag_r``, ...), shown
+#: beside the target's name on the block line.
+MAGNITUDE_COLUMN = re.compile(r"^(mag|[a-z]{1,2}_?mag|mag_?[a-z]{1,2})$", re.IGNORECASE)
+
+
+def magnitude_texts(targets: pd.DataFrame) -> np.ndarray:
+    """Per target, ``"vmag 9.5"`` from the first magnitude column of the catalogue (``""`` where none)."""
+    column = next((c for c in targets.columns if MAGNITUDE_COLUMN.match(str(c))), None)
+    if column is None:
+        return np.full(len(targets), "", dtype=object)
+    values = targets[column].to_numpy(object)
+    return np.array(["" if v is None or (isinstance(v, float) and not np.isfinite(v)) or str(v).strip() == ""
+                     else f"{column} {v:g}" if isinstance(v, float) else f"{column} {str(v).strip()}"
+                     for v in values], dtype=object)
+
+
 def _block_lines(b, tz):
     what = _what(b)
     when_utc = f"{_clock(b['start_jd_utc'])}-{_clock(b['end_jd_utc'])} UTC"
     when_local = f"{_clock(b['start_jd_utc'], tz)}-{_clock(b['end_jd_utc'], tz)} local" if tz else ""
-    head = f"{when_local + '  (' + when_utc + ')' if tz else when_utc}  {b['target']}: {what}"
+    mag = b.get("magnitude")
+    name = f"{b['target']} ({mag})" if isinstance(mag, str) and mag else f"{b['target']}"
+    head = f"{when_local + '  (' + when_utc + ')' if tz else when_utc}  {name}: {what}"
     detail = []
     if b["kind"] != "flexible" and np.isfinite(b["event_jd_utc"]):
         unc = explain.sigma_text(b["event_sigma_d"])
@@ -240,8 +259,14 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
 
 
 def write_night_sheets(out_dir, schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None,
-                       site_name: str | None = None) -> list[str]:
-    """Write ``night-YYYY-MM-DD.txt`` and ``.html`` for every night into ``out_dir``; returns the paths."""
+                       site_name: str | None = None, targets: pd.DataFrame | None = None) -> list[str]:
+    """Write ``night-YYYY-MM-DD.txt`` and ``.html`` for every night into ``out_dir``; returns the paths.
+
+    With ``targets`` (the catalogue's target table), a magnitude column of the catalogue is shown
+    beside each target's name (:func:`magnitude_texts`).
+    """
+    if targets is not None and len(schedule):
+        schedule = schedule.assign(magnitude=magnitude_texts(targets)[schedule["target_index"].to_numpy(int)])
     paths = []
     for _, night in nights.iterrows():
         label = str(night["night"])

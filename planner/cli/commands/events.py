@@ -32,12 +32,16 @@ def register(sub):
         description="List every predicted event of every catalogue target in a span of days, sorted by "
                     "time, in BJD_TDB, UTC and (with --tz) local time, with the 1-sigma timing uncertainty.",
         epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("catalog", metavar="CATALOG", help="catalogue CSV file of targets and elements")
+    p.add_argument("catalog", metavar="CATALOG",
+                   help="catalogue of targets and elements: CSV, or an ECSV, VOTable or FITS table "
+                        "(by extension)")
     p.add_argument("--start", required=True, metavar="YYYY-MM-DD",
                    help="first day of the span (00:00 UTC, or local midnight with --tz)")
     p.add_argument("--days", type=float, default=7.0, metavar="N", help="length of the span in days (default 7)")
-    p.add_argument("--kinds", nargs="+", metavar="EVENT", choices=geometry.ALL_EVENTS,
-                   help=f"only these events: {', '.join(geometry.ALL_EVENTS)}")
+    p.add_argument("--kinds", nargs="+", metavar="EVENT", type=_event_word,
+                   help=f"only these events: {', '.join(geometry.ALL_EVENTS)}; also the words "
+                        f"{', '.join(geometry.EVENT_ALIASES)} (for the conjunctions) and maximum, minimum "
+                        "(periodic events whose label says so)")
     p.add_argument("--tz", metavar="ZONE", help="IANA time zone for local times, e.g. Europe/Madrid")
     p.add_argument("--site", metavar="SITE",
                    help="site file (TOML): adds the night, the airless altitude and Moon separation at the "
@@ -53,6 +57,14 @@ def register(sub):
     p.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
     p.set_defaults(run=run)
     return p
+
+
+def _event_word(text: str) -> str:
+    """An event name or periodic kind from a word of --kinds (aliases resolved)."""
+    name = geometry.canonical_event(text)
+    if name is None:
+        raise argparse.ArgumentTypeError(f"unknown event {text!r}; expected one of {', '.join(geometry.EVENT_WORDS)}")
+    return name
 
 
 def run(args) -> int:

@@ -24,7 +24,9 @@ at or near the Sun; the observatory's own safety rules and local regulations com
 def add_plan_options(p, need_inputs: bool = True):
     """Options shared by ``plan`` and ``demo``."""
     if need_inputs:
-        p.add_argument("catalog", metavar="CATALOG", help="catalogue CSV file of targets and elements")
+        p.add_argument("catalog", metavar="CATALOG",
+                       help="catalogue of targets and elements: CSV, or an ECSV, VOTable or FITS table "
+                            "(by extension)")
         p.add_argument("--site", required=True, metavar="SITE", help="site file (TOML)")
     p.add_argument("--start", metavar="YYYY-MM-DD",
                    help="local date of the first night's evening (default: the night under way until its "
