@@ -29,9 +29,11 @@ JULIAN_YEAR_D = 365.25
 #: True anomalies of the six events are c_k - s_k omega (see geometry.event_true_anomalies).
 _NU_CONST = np.array([0.0, np.pi, np.pi / 2, 3 * np.pi / 2, 0.0, np.pi])
 _NU_SIGN = np.array([0.0, 0.0, 1.0, 1.0, 1.0, 1.0])
-#: Fixed-point passes for omega at the event time; omega_dot P is below 1e-3 rad for every known
-#: binary, so each pass gains three digits and three passes reach the float64 floor.
-_OMEGA_PASSES = 3
+#: Fixed-point passes for omega at the event time: each pass shrinks the error by about
+#: omega_dot P_a (1 + e)^1.5 / (1 - e)^0.5 / 2 pi, below 1e-3 for every known binary (three passes
+#: then reach the float64 floor); the loop stops when no time moves by more than 1e-10 d.
+_OMEGA_MAX_PASSES = 30
+_OMEGA_TOL_D = 1e-10
 
 
 def anomalistic_period_d(period_d, omega_dot_rad_d, period_kind):
@@ -72,9 +74,13 @@ def event_times(k, cycle, tp_ref, pa_d, e, omega_ref_rad, t_omega_ref, omega_dot
     """
     base = np.floor(continuous_phase(k, e, omega_ref_rad))
     t = tp_ref + pa_d * (cycle + continuous_phase(k, e, omega_ref_rad) - base)
-    for _ in range(_OMEGA_PASSES):
+    for _ in range(_OMEGA_MAX_PASSES):
         w = omega_ref_rad + omega_dot_rad_d * (t - t_omega_ref)
-        t = tp_ref + pa_d * (cycle + continuous_phase(k, e, w) - base)
+        t_new = tp_ref + pa_d * (cycle + continuous_phase(k, e, w) - base)
+        done = np.all(np.abs(t_new - t) <= _OMEGA_TOL_D)
+        t = t_new
+        if done:
+            break
     return t
 
 
