@@ -39,6 +39,14 @@ Input columns (header names, case-insensitive; order free):
 ``visit_h``, ``visit_gap_h``  block length and minimum spacing (hours) of flexible visits
 ``notes``, ``x_*`` ignored (free text for the user)
 =================  ====================================================================
+
+Eccentric binaries (validated in :mod:`planner.inputs.binary_checks`): ``omega_dot_deg_cycle``
+or ``omega_dot_deg_yr`` (with ``omega_dot_err_*``) and ``period_kind`` (``sidereal``/``anomalistic``);
+a second epoch (``tp`` beside ``tc``, or ``tsec``/``tsec_err_d``, a secondary conjunction);
+``ecosw``/``esinw`` or ``secosw``/``sesinw`` with ``_err`` instead of e/omega_deg; a third body
+``p3_d``, ``t3``, ``e3``, ``omega3_deg`` and ``ltte_amp_d`` or ``a12sini_au``. They become the
+engine columns :data:`BINARY_COLUMNS` (rates in deg/day, epochs in BJD_TDB, NaN or ``""`` when
+absent; ``epoch_tension_sigma`` is the disagreement of two epochs in combined sigma).
 """
 
 from __future__ import annotations
