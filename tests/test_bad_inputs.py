@@ -139,3 +139,18 @@ def test_bad_catalogue_stops_plan_before_anything_is_written(tmp_path, capsys):
         _, err = capsys.readouterr()
         assert code == 2 and err.startswith(f"periplan: error: {name}"), (name, err)
         assert not out.exists(), name
+
+
+def test_linear_row_with_tp_and_tc_gets_only_the_epoch_messages():
+    # a linear ephemeris (no e, omega) cannot hold two epochs; the refusal names the epochs and
+    # does not also ask for errors that are there
+    from planner.errors import InputErrors
+    from planner.inputs import catalogue
+
+    with pytest.raises(InputErrors) as err:
+        catalogue.parse_catalogue("name,ra,dec,period_d,tc,tc_err_d,tp,tp_err_d\n"
+                                  "X,10,20,3.1,2455000.5,0.01,2455000.1,0.02\n", source="lin.csv")
+    text = str(err.value)
+    assert "lin.csv, row 2, column tc: more than one epoch given" in text
+    assert "lin.csv, row 2, column tp: tp (periastron) needs e and omega_deg" in text
+    assert "1-sigma errors" not in text

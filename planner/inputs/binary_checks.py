@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..orbits.apsidal import JULIAN_YEAR_D
 from ..timescales import epochs
 from .catalogue_checks import MAX_FULL_JD, MIN_FULL_JD, Cells
 
@@ -86,8 +87,8 @@ def check_apsidal(cells: Cells, period_d, linear, e):
     err_year = cells.numeric("omega_dot_err_deg_yr", default=0.0, nonnegative=True)
     for row in rows[cells.given("omega_dot_deg_cycle") & cells.given("omega_dot_deg_yr")]:
         cells.err(row, "omega_dot_deg_yr", "give the apsidal rate once: omega_dot_deg_cycle or omega_dot_deg_yr")
-    rate = np.where(np.isfinite(per_cycle), per_cycle / period_d, per_year / 365.25)
-    err = np.where(np.isfinite(per_cycle), err_cycle / period_d, err_year / 365.25)
+    rate = np.where(np.isfinite(per_cycle), per_cycle / period_d, per_year / JULIAN_YEAR_D)
+    err = np.where(np.isfinite(per_cycle), err_cycle / period_d, err_year / JULIAN_YEAR_D)
     given = np.isfinite(rate)
     col = np.where(cells.given("omega_dot_deg_cycle"), "omega_dot_deg_cycle", "omega_dot_deg_yr")
     for row, c in zip(rows[given & (linear | (e == 0))], col[given & (linear | (e == 0))]):
@@ -128,7 +129,7 @@ def check_second_epoch(cells: Cells, epoch_kind, epoch_err, linear, ra_deg, dec_
     other and combined.
     """
     rows, n = cells.rows, cells.n
-    both = cells.given("tp") & cells.given("tc") & (epoch_kind == "tc")
+    both = cells.given("tp") & cells.given("tc") & (epoch_kind == "tc") & ~linear
     tsec = cells.given("tsec")
     for row in rows[tsec & both]:
         cells.err(row, "tsec", "at most two epochs: tsec with tc or tp, or tc with tp")
