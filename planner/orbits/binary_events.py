@@ -36,7 +36,9 @@ class _Rows:
     """The elements of the rows ``idx`` of the target table, engine units (radians, days)."""
 
     def __init__(self, targets, idx):
-        col = lambda c, kind=float: targets[c].to_numpy(kind)[idx]  # noqa: E731
+        def col(name, kind=float):
+            return targets[name].to_numpy(kind)[idx]
+
         self.idx = idx
         self.names = targets["name"].to_numpy(object)[idx]
         self.p, self.p_err = col("period_d"), col("period_err_d")
@@ -51,9 +53,8 @@ class _Rows:
         self.kb = np.array([EPOCH_EVENT.get(k, self_k) for k, self_k in zip(kind2, self.ka)])
         self.tb = np.where(self.two, col("epoch2_bjd_tdb"), self.ta)
         self.sb = np.where(self.two, col("epoch2_err_d"), self.sa)
-        self.shape = tuple(col(c, object if c == "shape_kind" else float)
-                           for c in ("shape_kind", "shape_x", "shape_y", "shape_x_err", "shape_y_err"))
-        self.shape = (self.shape[0].astype(str),) + self.shape[1:]
+        self.shape = (col("shape_kind", str),) + tuple(col(c) for c in ("shape_x", "shape_y", "shape_x_err",
+                                                                         "shape_y_err"))
 
     def frames(self, wdot):
         """(P_a, Tp_A, Tp_B, omega_B) for the apsidal rate ``wdot`` (rad/day, per row)."""
