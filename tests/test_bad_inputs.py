@@ -42,7 +42,14 @@ CATALOGUE_EXPECTED = {
     "duplicate_names.csv": (3, "name", "duplicate target name 'Good-1' (first at row 2)"),
     "missing_omega.csv": (2, "omega_deg", "required when e > 0"),
     "missing_epoch_value.csv": (2, "tc", "missing epoch"),
-    "two_epochs.csv": (2, "tc", "give exactly one"),
+    # tp with tc is allowed since issue 14 (two epochs), but only with both 1-sigma errors
+    "two_epochs.csv": (2, "tp_err_d", "two epochs need both 1-sigma errors"),
+    "epochs_inconsistent.csv": (2, "tp", "combined sigma (over 10)"),
+    "omega_dot_no_unit.csv": (1, "omega_dot", "omega_dot has no unit"),
+    "period_kind_unknown.csv": (2, "period_kind", "expected 'sidereal' or 'anomalistic'"),
+    "shape_both_parametrisations.csv": (2, "ecosw", "both e/omega_deg and ecosw/esinw are given"),
+    "ecosw_without_esinw.csv": (2, "esinw", "come as a pair"),
+    "third_body_e3_one.csv": (2, "e3", "1 is not a bound orbit"),
     "unknown_event.csv": (2, "events", "unknown event 'ingress'"),
     "too_many_fields.csv": (2, None, "8 fields but the header has 7"),
     "negative_uncertainty.csv": (2, "period_err_d", "must not be negative"),
@@ -140,3 +147,18 @@ def test_bad_catalogue_stops_plan_before_anything_is_written(tmp_path, capsys):
         _, err = capsys.readouterr()
         assert code == 2 and err.startswith(f"periplan: error: {name}"), (name, err)
         assert not out.exists(), name
+
+
+def test_linear_row_with_tp_and_tc_gets_only_the_epoch_messages():
+    # a linear ephemeris (no e, omega) cannot hold two epochs; the refusal names the epochs and
+    # does not also ask for errors that are there
+    from planner.errors import InputErrors
+    from planner.inputs import catalogue
+
+    with pytest.raises(InputErrors) as err:
+        catalogue.parse_catalogue("name,ra,dec,period_d,tc,tc_err_d,tp,tp_err_d\n"
+                                  "X,10,20,3.1,2455000.5,0.01,2455000.1,0.02\n", source="lin.csv")
+    text = str(err.value)
+    assert "lin.csv, row 2, column tc: more than one epoch given" in text
+    assert "lin.csv, row 2, column tp: tp (periastron) needs e and omega_deg" in text
+    assert "1-sigma errors" not in text

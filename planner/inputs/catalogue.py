@@ -55,6 +55,14 @@ Input columns (header names, case-insensitive; order free):
 ``visit_h``, ``visit_gap_h``  block length and minimum spacing (hours) of flexible visits
 ``notes``, others  carried unread (free text, magnitudes, anything of the user's)
 =================  ====================================================================
+
+Eccentric binaries (validated in :mod:`planner.inputs.binary_checks`): ``omega_dot_deg_cycle``
+or ``omega_dot_deg_yr`` (with ``omega_dot_err_*``) and ``period_kind`` (``sidereal``/``anomalistic``);
+a second epoch (``tp`` beside ``tc``, or ``tsec``/``tsec_err_d``, a secondary conjunction);
+``ecosw``/``esinw`` or ``secosw``/``sesinw`` with ``_err`` instead of e/omega_deg; a third body
+``p3_d``, ``t3``, ``e3``, ``omega3_deg`` and ``ltte_amp_d`` or ``a12sini_au``. They become the
+engine columns :data:`BINARY_COLUMNS` (rates in deg/day, epochs in BJD_TDB, NaN or ``""`` when
+absent; ``epoch_tension_sigma`` is the disagreement of two epochs in combined sigma).
 """
 
 from __future__ import annotations
@@ -68,19 +76,26 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError, InputErrors
+from . import binary_checks
 from . import catalogue_checks as checks
 from .catalogue_checks import EPOCH_COLUMNS, parse_angle
 from .textfile import decode_text, read_bytes
 
 __all__ = ["KNOWN_COLUMNS", "OUTPUT_COLUMNS", "load_columns", "parse_angle", "parse_catalogue", "read_catalogue"]
 
+#: Engine columns of eccentric binaries (see the "Eccentric binaries" table above).
+BINARY_COLUMNS = (
+    "shape_kind", "shape_x", "shape_y", "shape_x_err", "shape_y_err", "omega_dot_deg_d",
+    "omega_dot_err_deg_d", "period_kind", "epoch2_kind", "epoch2_bjd_tdb", "epoch2_err_d",
+    "epoch_tension_sigma", "p3_d", "t3_bjd_tdb", "e3", "omega3_deg", "ltte_amp_d",
+)
 NUMERIC_COLUMNS = (
     "period_d", "period_err_d", "e", "e_err", "omega_deg", "omega_err_deg", "tp", "tc", "t0",
     "tp_err_d", "tc_err_d", "t0_err_d", "time_offset_d", "k_ms", "gamma_ms", "priority",
     "duration_h", "a_rstar", "inc_deg", "b", "rp_rstar", "a_au", "mass1_msun", "mass2_msun",
     "visit_h", "visit_gap_h",
-)
-TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes")
+) + binary_checks.NUMERIC_COLUMNS
+TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes") + binary_checks.TEXT_COLUMNS
 KNOWN_COLUMNS = TEXT_COLUMNS + NUMERIC_COLUMNS
 
 OUTPUT_COLUMNS = (
@@ -88,7 +103,7 @@ OUTPUT_COLUMNS = (
     "omega_deg", "omega_err_deg", "epoch_kind", "epoch_bjd_tdb", "epoch_err_d", "tp_bjd_tdb",
     "time_system", "k_ms", "gamma_ms", "priority", "events", "duration_h", "a_rstar", "inc_deg",
     "rp_rstar", "label", "visit_h", "visit_gap_h", "events_given",
-)
+) + BINARY_COLUMNS
 
 
 def read_catalogue(catalogue, name: str | None = None) -> pd.DataFrame:
@@ -336,8 +351,15 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
     ra, dec = checks.check_coordinates(cells)
     period, period_err = checks.check_period(cells)
     e, e_err, omega, omega_err, linear = checks.check_shape(cells)
+    shape = binary_checks.check_shape_alternatives(cells, cells.given("e"), cells.given("omega_deg"))
+    alt = shape[0] != ""
+    e, omega, linear = np.where(alt, shape[5], e), np.where(alt, shape[6], omega), linear & ~alt
     epoch_kind, full_jd, epoch_err = checks.check_epoch(cells, linear)
     system, epoch_bjd = checks.check_time_system(cells, full_jd, ra, dec)
+    omega_dot, omega_dot_err, period_kind = binary_checks.check_apsidal(cells, period, linear, e)
+    kind2, epoch2, epoch2_err = binary_checks.check_second_epoch(cells, epoch_kind, epoch_err, linear, ra, dec,
+                                                                 system)
+    third = binary_checks.check_third_body(cells, ra, dec, system)
     observing = checks.check_observing(cells)
     duration, a_rstar, inc, rp = checks.check_geometry(cells, e, omega)
     eclipse = np.isfinite(duration) | (np.isfinite(a_rstar) & np.isfinite(inc) & np.isfinite(rp))
@@ -352,7 +374,14 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
         tp[orbit_tc] = tp_from_tc(epoch_bjd[orbit_tc], period[orbit_tc], e[orbit_tc], np.radians(omega[orbit_tc]))
     tp[linear] = np.nan
 
-    return pd.DataFrame({
+    binary = {
+        "shape_kind": shape[0].astype(str), "shape_x": shape[1], "shape_y": shape[2], "shape_x_err": shape[3],
+        "shape_y_err": shape[4], "omega_dot_deg_d": omega_dot, "omega_dot_err_deg_d": omega_dot_err,
+        "period_kind": period_kind, "epoch2_kind": kind2, "epoch2_bjd_tdb": epoch2, "epoch2_err_d": epoch2_err,
+        "epoch_tension_sigma": np.full(len(names), np.nan),
+        **dict(zip(("p3_d", "t3_bjd_tdb", "e3", "omega3_deg", "ltte_amp_d"), third)),
+    }
+    table = pd.DataFrame({
         "name": names, "ra_deg": ra, "dec_deg": dec,
         "ephemeris": np.where(linear, "linear", "orbit"),
         "period_d": period, "period_err_d": period_err,
@@ -360,6 +389,12 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
         "omega_deg": np.where(linear, np.nan, omega), "omega_err_deg": omega_err,
         "epoch_kind": epoch_kind.astype(str), "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
         "tp_bjd_tdb": tp, "time_system": system, "events": events, "duration_h": duration,
-        "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing,
+        "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing, **binary,
         "events_given": cells.given("events"),
     }, columns=list(OUTPUT_COLUMNS))
+    if (kind2 != "").any() and not cells.errors:
+        from ..orbits.binary_events import epoch_tension_sigma
+
+        table["epoch_tension_sigma"] = epoch_tension_sigma(table)
+        binary_checks.check_epoch_agreement(cells, table["epoch_tension_sigma"].to_numpy(float), kind2)
+    return table

@@ -250,8 +250,11 @@ def check_epoch(cells: Cells, linear: np.ndarray):
     for row in rows[count == 0]:
         cells.err(row, "tp" if "tp" in frame else ("tc" if "tc" in frame else "t0"),
                   "missing epoch; give tp (periastron), tc (primary conjunction) or t0 (linear ephemeris)")
-    for row in rows[count > 1]:
-        cells.err(row, "tc", "more than one epoch given (tp, tc, t0); give exactly one")
+    # tp with tc is a row with two epochs: tc is kept here, tp goes to binary_checks.check_second_epoch
+    two = present["tp"] & present["tc"] & ~present["t0"] & ~linear
+    epoch_kind[two] = "tc"
+    for row in rows[(count > 1) & ~two]:
+        cells.err(row, "tc", "more than one epoch given (tp, tc, t0); give exactly one, or tc with tp")
     for row in rows[present["t0"] & ~linear]:
         cells.err(row, "t0", "t0 is the epoch of a linear ephemeris; for an orbit with e and omega use tp or tc")
     for row in rows[present["tp"] & linear]:
@@ -262,8 +265,9 @@ def check_epoch(cells: Cells, linear: np.ndarray):
     for c in EPOCH_COLUMNS:
         vals = cells.numeric(c)
         errs = cells.numeric(f"{c}_err_d", default=0.0, nonnegative=True)
-        epoch = np.where(present[c] & (count == 1), vals, epoch)
-        epoch_err = np.where(present[c] & (count == 1), errs, epoch_err)
+        single = present[c] & ((count == 1) | (two & (c == "tc")))
+        epoch = np.where(single, vals, epoch)
+        epoch_err = np.where(single, errs, epoch_err)
     offset_given = cells.given("time_offset_d")
     full = epoch + cells.numeric("time_offset_d", default=0.0)
     looks_reduced = np.isfinite(epoch) & ~offset_given & (epoch < MIN_FULL_JD)

@@ -96,6 +96,7 @@ def run(args) -> int:
     events = predict_events(targets, *spans.bjd_bounds(start_utc, end_utc), kinds=args.kinds)
     events, t_utc = seen_in_span(events, targets, start_utc, end_utc)
     table = events_frame(events, t_utc, tz)
+    _note_corrections(table, events, targets)
     formats = {"bjd_tdb": ".6f", "sigma_min": ".2f", "duration_h": ".2f"}
     if site is not None:
         table = _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args)
@@ -115,6 +116,22 @@ def events_of_targets(n_events: int, n_with_events: int, n_targets: int) -> str:
     """``"12 events of 3 targets"``, ``"5 events of 2 of 6 targets"``, ``"0 events of 1 target"``."""
     of = count(n_targets, "target") if n_with_events in (0, n_targets) else f"{n_with_events} of {count(n_targets, 'target')}"
     return f"{count(n_events, 'event')} of {of}"
+
+
+def _note_corrections(table, events, targets):
+    """Add a ``corrections`` column when any target has one; warn of two epochs in tension."""
+    from ...inputs.binary_checks import EPOCH_WARN_SIGMA
+    from ...orbits.events import applied_corrections
+
+    corrections = applied_corrections(targets)
+    if "epoch_tension_sigma" in targets:
+        for name, kind, s in zip(targets["name"], targets["epoch2_kind"], targets["epoch_tension_sigma"]):
+            if np.isfinite(s) and s > EPOCH_WARN_SIGMA:
+                print(f"periplan: warning: {name}: its two epochs disagree by {s:.1f} combined sigma (over "
+                      f"{EPOCH_WARN_SIGMA:g}); each event uses the nearer epoch, check {kind} and the elements",
+                      file=sys.stderr)
+    if (corrections != "").any():
+        table["corrections"] = corrections[events["target_index"].to_numpy()] if len(events) else []
 
 
 def _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args):
