@@ -6,6 +6,8 @@ planner.timescales.epochs computes, tested against astropy in tests/test_timesca
 """
 
 import astropy.units as u
+import numpy as np
+import pandas as pd
 import pytest
 from astropy.coordinates import EarthLocation, SkyCoord
 from astropy.time import Time
@@ -53,7 +55,7 @@ def test_quoted_line_breaks_keep_the_file_rows(targets):
             "Star A,2026-12-09T21:14:00Z,,visit,maybe,\n")
     with pytest.raises(InputErrors) as err:
         parse_log(text, targets, "log.csv")
-    assert str(err.value) == "log.csv, row 6, column outcome: 'maybe' is not an outcome; expected done, partial or lost"
+    assert str(err.value) == "log.csv, row 6, column outcome: 'maybe' is not an outcome; expected done, partial or lost (or planned)"
 
 
 def test_every_bad_row_is_reported_with_its_column(targets):
@@ -89,5 +91,19 @@ def test_bad_log_exits_2_with_one_line_and_writes_nothing(tmp_path, capsys):
     code = cli.main(["coverage", str(cat), "--log", str(log), "--charts", str(charts)])
     err = capsys.readouterr().err
     assert code == 2
-    assert err.strip() == "periplan: error: log.csv, row 2, column outcome: 'clouds' is not an outcome; expected done, partial or lost"
+    assert err.strip() == "periplan: error: log.csv, row 2, column outcome: 'clouds' is not an outcome; expected done, partial or lost (or planned)"
     assert not charts.exists()
+
+
+def test_the_plans_template_reads_back_as_planned_rows(tmp_path, targets):
+    from planner.outputs.log_template import write_log_template
+
+    schedule = pd.DataFrame({"target": ["Star A", "Star B"], "start_jd_utc": [2461384.40, 2461384.55],
+                             "end_jd_utc": [2461384.50, 2461384.57], "event": ["periastron", "visit"],
+                             "kind": ["fixed", "flexible"], "cycle": [12.0, np.nan]})
+    path = write_log_template(tmp_path / "log-template.csv", schedule)
+    log = parse_log(open(path).read(), targets, "log-template.csv")
+    assert log["outcome"].tolist() == ["planned", "planned"]
+    assert log["purpose"].tolist() == ["periastron", "visit"] and log["cycle"][0] == 12
+    # to the second: the template writes whole seconds
+    assert np.all(np.abs(log["start_jd_utc"] - schedule["start_jd_utc"]) <= 0.5 / 86400 + TIME_TOL_D)

@@ -15,7 +15,8 @@ counting all its lines):
                   ``visit`` (an RV or monitoring visit) or ``free``
 ``cycle``         the event's cycle as ``periplan events`` numbers it (whole orbits since the
                   catalogue epoch); empty: the cycle nearest the observation
-``outcome``       ``done``, ``partial`` or ``lost``
+``outcome``       ``done``, ``partial`` or ``lost``; ``planned`` (as the template of ``plan``
+                  writes it) for a row not observed yet, which counts for nothing
 ``covers``        for a series, the parts observed, ``;``-separated from ``pre, T1, T2, mid,
                   T3, T4, post`` (``T1-T4`` for all four contacts); empty: from the times
 ``notes``, ``x_*`` free text, kept
@@ -45,7 +46,7 @@ from .textfile import decode_text, read_bytes
 
 LOG_COLUMNS = ("target", "start", "end", "purpose", "cycle", "outcome", "covers", "notes")
 REQUIRED = ("target", "start", "purpose", "outcome")
-OUTCOMES = ("done", "partial", "lost")
+OUTCOMES = ("done", "partial", "lost", "planned")
 PURPOSES = ALL_EVENTS + ("visit", "free")
 #: The usual words for the conjunctions, taken as the event names.
 EVENT_WORDS = {"transit": "primary_conjunction", "primary_eclipse": "primary_conjunction",
@@ -207,7 +208,7 @@ def _validate(frame, targets, source, errors):
     outcome = np.array([o.lower() for o in text("outcome")], dtype=object)
     for row, o in zip(rows, outcome):
         if o not in OUTCOMES:
-            err(row, "outcome", f"{o!r} is not an outcome; expected done, partial or lost", o)
+            err(row, "outcome", f"{o!r} is not an outcome; expected done, partial or lost (or planned)", o)
     cycle = np.full(n, np.nan)
     for k, (row, c) in enumerate(zip(rows, text("cycle"))):
         if not c:
