@@ -52,6 +52,13 @@ CATALOGUE_EXPECTED = {
     "inclination_and_impact.csv": (2, "b", "give either inc_deg or b, not both"),
     "empty_name.csv": (2, "name", "empty target name"),
     "tp_on_linear_ephemeris.csv": (2, "tp", "needs e and omega_deg"),
+    "observe_unknown_word.csv": (2, "observe", "unknown observation 'spectroscopy'; expected photometry, rv"),
+    "observe_unknown_in_list.csv": (2, "observe", "unknown observation 'imaging'"),
+    "visit_length_negative.csv": (2, "visit_h", "-0.5 must be positive"),
+    "rv_fraction_above_one.csv": (2, "rv_fraction_k", "1.5 is outside 0 < fraction <= 1"),
+    "rv_fraction_negative.csv": (2, "rv_fraction_k", "-0.1 is outside 0 < fraction <= 1"),
+    "rv_visits_fractional.csv": (2, "rv_visits", "2.5 is not a whole number of visits >= 1"),
+    "full_coverage_not_yes_no.csv": (2, "full_coverage", "'maybe' is not yes or no"),
 }
 
 

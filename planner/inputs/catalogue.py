@@ -6,7 +6,8 @@ and the engine's columns (units in the names, every epoch in BJD_TDB, omega of t
 
 ``name, ra_deg, dec_deg, ephemeris, period_d, period_err_d, e, e_err, omega_deg,
 omega_err_deg, epoch_kind, epoch_bjd_tdb, epoch_err_d, tp_bjd_tdb, time_system, k_ms, gamma_ms,
-priority, events, duration_h, a_rstar, inc_deg, rp_rstar, label, visit_h, visit_gap_h``
+priority, events, duration_h, a_rstar, inc_deg, rp_rstar, label, visit_h, visit_gap_h, observe,
+rv_fraction_k, rv_visits, rv_gap_h, full_coverage``
 
 ``ephemeris`` is ``"orbit"`` (Keplerian elements) or ``"linear"`` (only T0 and P: the target's
 event is ``periodic``). ``epoch_kind`` is ``tp``, ``tc`` or ``t0``. ``events`` is a tuple of event
@@ -37,6 +38,13 @@ Input columns (header names, case-insensitive; order free):
                    parameter at primary conjunction, radius ratio)
 ``label``          the catalogue's own name for the event of a linear ephemeris
 ``visit_h``, ``visit_gap_h``  block length and minimum spacing (hours) of flexible visits
+                   (``visit_h`` is also the length of an RV visit; default 0.5 h)
+``observe``        ``photometry``, ``rv`` or ``photometry;rv``: what the observer does
+``rv_fraction_k``  an RV visit counts while the RV is within this fraction of K of the
+                   extremum (0 < f <= 1, default 0.1)
+``rv_visits``, ``rv_gap_h``  RV visits wanted over a periastron passage (default 3), and their
+                   least spacing (hours, default 1)
+``full_coverage``  ``yes``: a series counts only when it covers T1 to T4 with both baselines
 ``notes``, ``x_*`` ignored (free text for the user)
 =================  ====================================================================
 """
@@ -61,16 +69,18 @@ NUMERIC_COLUMNS = (
     "period_d", "period_err_d", "e", "e_err", "omega_deg", "omega_err_deg", "tp", "tc", "t0",
     "tp_err_d", "tc_err_d", "t0_err_d", "time_offset_d", "k_ms", "gamma_ms", "priority",
     "duration_h", "a_rstar", "inc_deg", "b", "rp_rstar", "a_au", "mass1_msun", "mass2_msun",
-    "visit_h", "visit_gap_h",
+    "visit_h", "visit_gap_h", "rv_fraction_k", "rv_visits", "rv_gap_h",
 )
-TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes")
+TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes", "observe",
+                "full_coverage")
 KNOWN_COLUMNS = TEXT_COLUMNS + NUMERIC_COLUMNS
 
 OUTPUT_COLUMNS = (
     "name", "ra_deg", "dec_deg", "ephemeris", "period_d", "period_err_d", "e", "e_err",
     "omega_deg", "omega_err_deg", "epoch_kind", "epoch_bjd_tdb", "epoch_err_d", "tp_bjd_tdb",
     "time_system", "k_ms", "gamma_ms", "priority", "events", "duration_h", "a_rstar", "inc_deg",
-    "rp_rstar", "label", "visit_h", "visit_gap_h",
+    "rp_rstar", "label", "visit_h", "visit_gap_h", "observe", "rv_fraction_k", "rv_visits", "rv_gap_h",
+    "full_coverage",
 )
 
 
@@ -155,6 +165,7 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
     observing = checks.check_observing(cells)
     duration, a_rstar, inc, rp = checks.check_geometry(cells, e, omega)
     events, labels = checks.check_events(cells, linear, e)
+    requests = checks.check_requests(cells, linear, duration, a_rstar, observing["k_ms"])
 
     tp = np.where(epoch_kind == "tc", np.nan, epoch_bjd)
     orbit_tc = (epoch_kind == "tc") & ~linear & np.isfinite(e) & np.isfinite(omega)
@@ -173,4 +184,5 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
         "epoch_kind": epoch_kind.astype(str), "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
         "tp_bjd_tdb": tp, "time_system": system, "events": events, "duration_h": duration,
         "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing,
+        **requests,
     }, columns=list(OUTPUT_COLUMNS))
