@@ -42,6 +42,14 @@ def _description(b: pd.Series) -> str:
         sigma = b["event_sigma_d"] * 1440.0
         unc = f" +- {sigma:.1f} min (1 sigma)" if np.isfinite(sigma) else ""
         lines.append(f"Event: {what} at {when}{unc}")
+        request = b.get("request")
+        if isinstance(request, str) and request:
+            serves = str(b.get("serves", "") or "").replace("_", " ").replace(";", " and ")
+            lines.append(f"Request: {request.replace('_', ' ')} (serves {serves})")
+        covers = b.get("covers")
+        if isinstance(covers, str) and covers:
+            missing = b.get("not_covered")
+            lines.append(f"Covers: {covers}" + (f"; not covered: {missing}" if isinstance(missing, str) and missing else ""))
     pts = ", ".join(f"{c[4:]} {b[c]:.1f}" for c in b.index if c.startswith("pts_"))
     lines.append(f"Score: {b['score']:.1f} = priority {b['x_priority']:g} x rarity {b['x_rarity']:.2f} "
                  f"x conditions ({pts})")

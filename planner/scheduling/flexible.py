@@ -1,10 +1,11 @@
-"""Flexible visits (targets with ``visit_h``) placed greedily in the gaps between fixed blocks."""
+"""Visits placed greedily in the gaps: movable RV visits that lost their proposed start, and the
+monitor visits of targets with ``visit_h``."""
 
 from __future__ import annotations
 
 import numpy as np
 
-from .blocks import ALT_SAMPLES, FLEXIBLE, MIN_PER_DAY, altitudes, mean_airmass, sample_times
+from .blocks import FLEXIBLE, MIN_PER_DAY, SCHEDULE_COLUMNS, altitudes, mean_airmass, sample_times
 from .score import airmass_from_alt, score_components
 
 
@@ -113,16 +114,62 @@ def fill_flexible(availability, targets, nights, fixed_chosen, altitude_deg, moo
             last_start[ti] = t0[k]
             busy.append((t0[k], t1[k]))
             alt = found[k][3]
-            row = {
+            row = {c: np.nan for c in SCHEDULE_COLUMNS}
+            row.update({
                 "night": label, "start_jd_utc": t0[k], "end_jd_utc": t1[k], "target": names[ti],
-                "target_index": ti, "event": "visit", "label": "flexible visit", "kind": FLEXIBLE,
-                "event_jd_utc": np.nan, "event_sigma_d": np.nan, "window_start_jd_utc": np.nan,
-                "window_end_jd_utc": np.nan, "observable_fraction": np.nan,
-                "priority": float(priority[ti]), "period_d": np.nan,
-                "alt_start_deg": alt[0], "alt_mid_deg": alt[ALT_SAMPLES // 2], "alt_end_deg": alt[-1],
-                "airmass": float(mean_airmass(x[k:k + 1])[0]), "moon_sep_deg": sep[k],
-                "moon_illumination": lit, "notes": "", "_alt": alt,
-            }
+                "target_index": ti, "event": "visit", "serves": "visit", "label": "flexible visit",
+                "kind": FLEXIBLE, "request": "monitor", "request_id": -1, "group": -1, "slot": 0, "n_slots": 1, "covers": "",
+                "not_covered": "", "science_fraction": 1.0, "priority": float(priority[ti]),
+                "earliest_start_jd_utc": t0[k], "latest_start_jd_utc": t0[k],
+                "alt_low_deg": float(np.min(alt)), "airmass": float(mean_airmass(x[k:k + 1])[0]),
+                "moon_sep_deg": sep[k], "moon_illumination": lit, "notes": "", "_alt": alt,
+            })
             row.update({c: float(sc[c].iloc[k]) for c in sc.columns})
             rows.append(row)
     return rows
+
+
+def second_chance(cands, mask, alt, altitude_deg, options):
+    """``mask`` with movable visits that were left out placed in the free time, if any fits.
+
+    Highest score first, each unserved movable candidate (an RV visit or sequence slot whose
+    request group has no chosen candidate) moves inside its allowed start range to the free
+    start nearest its proposed one, keeping the overhead from every chosen block of its night.
+    ``cands`` (and ``alt``, its altitude samples) are updated in place for the moved visits.
+    """
+    mask = mask.copy()
+    movable = cands["request"].isin(("rv_visit", "rv_sequence")).to_numpy()
+    todo = np.flatnonzero(movable & ~mask)
+    if todo.size == 0:
+        return mask
+    overhead_d = options.overhead_min / MIN_PER_DAY
+    step_d = options.flex_step_min / MIN_PER_DAY
+    score = cands["score"].to_numpy(float)
+    group = cands["group"].to_numpy()
+    night = cands["night"].to_numpy(object)
+    start = cands["start_jd_utc"].to_numpy(float).copy()
+    end = cands["end_jd_utc"].to_numpy(float).copy()
+    lo, hi = cands["earliest_start_jd_utc"].to_numpy(float), cands["latest_start_jd_utc"].to_numpy(float)
+    served = set(group[mask].tolist())
+    for i in sorted(todo, key=lambda r: (-score[r], start[r])):
+        if group[i] in served:
+            continue
+        length = end[i] - start[i]
+        busy = [(start[j], end[j]) for j in np.flatnonzero(mask & (night == night[i]))]
+        grid = np.append(np.arange(lo[i], hi[i], step_d), hi[i])
+        free = np.ones(grid.size, bool)
+        for bs, be in busy:
+            free &= (grid + length + overhead_d <= bs) | (grid >= be + overhead_d)
+        if not free.any():
+            continue
+        t0 = float(grid[free][np.argmin(np.abs(grid[free] - start[i]))])
+        start[i], end[i] = t0, t0 + length
+        mask[i] = True
+        served.add(group[i])
+        ti = cands["target_index"].to_numpy(int)[i:i + 1]
+        a = altitudes(altitude_deg, ti, sample_times(start[i:i + 1], end[i:i + 1]))
+        alt[i] = a[0]
+        cands.loc[i, ["start_jd_utc", "end_jd_utc"]] = [t0, t0 + length]
+        cands.loc[i, "alt_low_deg"] = float(np.min(a)) if np.isfinite(a).all() else np.nan
+        cands.loc[i, "airmass"] = float(mean_airmass(airmass_from_alt(a))[0])
+    return mask
