@@ -15,9 +15,12 @@ Method, per night:
    O(n log n) dynamic programme over blocks sorted by end time with a binary search for the last
    compatible block (Kleinberg & Tardos, *Algorithm Design*, 2006, sec. 6.1). Two blocks are
    compatible when the later one starts at least the setup/slew overhead after the earlier one
-   ends. Each night's chosen set has the largest possible total score; tests/test_schedule.py
-   checks this against brute force over all subsets. A request is served at most once across
-   the week (:func:`planner.scheduling.week.choose_fixed`).
+   ends; tests/test_schedule.py checks the programme against brute force over all subsets.
+   A movable visit has several candidate starts but may be served once, which the programme
+   cannot express: each night is solved twice, with every visit at its proposed start, and
+   with the fixed blocks alone and then the visits fitted around them (best value first, the
+   first of its starts that fits), and the better total is kept. A request is served at most
+   once across the week (:func:`planner.scheduling.week.choose_fixed`).
 3. Movable visits left out (RV visits and sequence slots whose proposed start clashed) are
    given a second chance: highest value first, each is moved inside its allowed start range to
    the free time nearest its proposed start (greedy, not optimal).
@@ -137,6 +140,7 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
                                   RequestSettings(min_block_min=options.min_block_min), options.weights)
     order = list(nights["night"].astype(str))
     cands, alt_fixed = candidates_from_requests(requests, altitude_deg)
+    cands["_alternative"] = requests["alternative"].to_numpy(bool) if "alternative" in requests else False
     # a long window (large timing uncertainty) can have its observable stretch on a night other
     # than the event's: a block belongs to the night that holds its middle, so nights never overlap
     held = night_index(0.5 * (cands["start_jd_utc"] + cands["end_jd_utc"]).to_numpy(float), nights)
@@ -145,7 +149,7 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
     cands, alt_fixed = cands[in_week].reset_index(drop=True), alt_fixed[in_week]
     mask = choose_fixed(cands, order, options.overhead_min / MIN_PER_DAY, options.repeats)
     mask = second_chance(cands, mask, alt_fixed, altitude_deg, options)
-    chosen = cands[mask].reset_index(drop=True)
+    chosen = cands[mask].drop(columns="_alternative").reset_index(drop=True)
     alts = list(alt_fixed[mask])
     flex = fill_flexible(monitor_requests(availability, targets), targets, nights, chosen, altitude_deg,
                          moon_sep_deg, options)

@@ -27,12 +27,34 @@ def choose_fixed(cands: pd.DataFrame, nights_order, overhead_d, repeats) -> np.n
     score = cands["score"].to_numpy(float)
     banned = np.zeros(n, dtype=bool)
     rank = {lab: i for i, lab in enumerate(nights_order)}
+    movable = cands["request"].isin(("rv_visit", "rv_sequence")).to_numpy() if "request" in cands else np.zeros(n, bool)
+    alternative = (cands["_alternative"].to_numpy(bool) if "_alternative" in cands else np.zeros(n, bool))
+
+    def fit_visits(taken, rows):
+        """``taken`` (indices) plus, best value first, the first start of each visit group that fits."""
+        taken = list(taken)
+        used = set(group[taken].tolist())
+        for r in sorted(rows, key=lambda r: (-score[r], start[r], r)):
+            if group[r] in used:
+                continue
+            if all(end[r] + overhead_d <= start[t] or end[t] + overhead_d <= start[r] for t in taken):
+                taken.append(r)
+                used.add(group[r])
+        return np.asarray(taken, dtype=int)
 
     def solve(label):
         rows = np.flatnonzero((night == label) & ~banned)
         chosen[night == label] = False
-        if rows.size:
-            chosen[rows[best_intervals(start[rows], end[rows], score[rows], overhead_d)]] = True
+        if rows.size == 0:
+            return
+        first = rows[~alternative[rows]]
+        pick_a = first[best_intervals(start[first], end[first], score[first], overhead_d)] if first.size else first
+        fixed = rows[~movable[rows]]
+        pick_b = fixed[best_intervals(start[fixed], end[fixed], score[fixed], overhead_d)] if fixed.size else fixed
+        pick_b = fit_visits(pick_b, rows[movable[rows]])
+        if len(set(group[pick_a].tolist())) < pick_a.size:  # a group twice: keep its best only
+            pick_a = fit_visits([r for r in pick_a if not movable[r]], pick_a[movable[pick_a]])
+        chosen[pick_b if score[pick_b].sum() > score[pick_a].sum() + 1e-9 else pick_a] = True
 
     def keep_one_per(keys):
         """Keep the best chosen candidate of each key, ban the others, re-plan the nights hit."""
