@@ -3,9 +3,9 @@
 Fixed candidates (series stretches) are their stretch; movable ones (RV visits and sequence
 slots) are proposed at the start the request stage chose (lowest airmass inside the allowed
 range) and keep their allowed range in ``earliest_start_jd_utc`` / ``latest_start_jd_utc``.
-Altitudes are sampled through each block for the airmass and the notes; the block's lowest
-altitude, the altitude at the event moment (when the block holds it) and at each contact it
-covers are the schedule's altitude columns.
+Once blocks are chosen, :func:`with_altitudes` samples the altitude through each for the
+airmass and the notes; the block's lowest altitude, the altitude at the event moment (when the
+block holds it) and at each contact it covers are the schedule's altitude columns.
 """
 
 from __future__ import annotations
@@ -28,25 +28,34 @@ def point_altitudes(altitude_deg, target_index, jd_utc, start, end):
     return out
 
 
-def candidates_from_requests(requests: pd.DataFrame, altitude_deg=None):
-    """(candidates with :data:`SCHEDULE_COLUMNS`, (n, ALT_SAMPLES) altitudes through each block)."""
+def candidates_from_requests(requests: pd.DataFrame) -> pd.DataFrame:
+    """Candidates (columns :data:`SCHEDULE_COLUMNS`) of the request table, altitudes not yet filled."""
     r = requests.reset_index(drop=True)
-    n = len(r)
-    idx = r["target_index"].to_numpy(int)
-    start, end = r["start_jd_utc"].to_numpy(float), r["end_jd_utc"].to_numpy(float)
+    out = pd.DataFrame({c: (r[c].to_numpy() if c in r else np.full(len(r), np.nan)) for c in SCHEDULE_COLUMNS})
+    out["kind"] = np.full(len(r), FIXED, dtype=object)
+    out["notes"] = ""
+    return out
+
+
+def with_altitudes(blocks: pd.DataFrame, altitude_deg=None):
+    """(blocks with the altitude and airmass columns filled, (n, ALT_SAMPLES) altitudes through each).
+
+    Done for the chosen blocks only: the lowest altitude through the block, the altitude at the
+    event moment and at each contact the block holds, and the mean airmass through it.
+    """
+    b = blocks.reset_index(drop=True).copy()
+    idx = b["target_index"].to_numpy(int)
+    start, end = b["start_jd_utc"].to_numpy(float), b["end_jd_utc"].to_numpy(float)
     alt = altitudes(altitude_deg, idx, sample_times(start, end))
-    out = pd.DataFrame({c: r[c].to_numpy() for c in SCHEDULE_COLUMNS if c in r})
-    out["kind"] = np.full(n, FIXED, dtype=object)
-    out["alt_low_deg"] = np.min(alt, axis=1) if n else np.zeros(0)
-    out["alt_event_deg"] = point_altitudes(altitude_deg, idx, r["event_jd_utc"].to_numpy(float), start, end)
+    b["alt_low_deg"] = np.min(alt, axis=1) if len(b) else np.zeros(0)
+    b["alt_event_deg"] = point_altitudes(altitude_deg, idx, b["event_jd_utc"].to_numpy(float), start, end)
     for c in CONTACT_NAMES:
-        out[f"alt_{c}_deg"] = point_altitudes(altitude_deg, idx, r[f"{c}_jd_utc"].to_numpy(float), start, end)
+        b[f"alt_{c}_deg"] = point_altitudes(altitude_deg, idx, b[f"{c}_jd_utc"].to_numpy(float), start, end)
     from .blocks import mean_airmass
     from .score import airmass_from_alt
 
-    out["airmass"] = mean_airmass(airmass_from_alt(alt))
-    out["notes"] = ""
-    return out[list(SCHEDULE_COLUMNS)], alt
+    b["airmass"] = mean_airmass(airmass_from_alt(alt))
+    return b, alt
 
 
 def fixed_candidates(visible: pd.DataFrame, targets: pd.DataFrame, altitude_deg=None,
@@ -60,4 +69,4 @@ def fixed_candidates(visible: pd.DataFrame, targets: pd.DataFrame, altitude_deg=
     require_columns(visible, VISIBLE_COLUMNS, "visible-event")
     req = build_requests(visible, targets, intervals, altitude_deg,
                          RequestSettings(min_block_min=options.min_block_min), options.weights)
-    return candidates_from_requests(req, altitude_deg)[0]
+    return with_altitudes(candidates_from_requests(req), altitude_deg)[0]

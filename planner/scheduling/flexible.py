@@ -1,5 +1,4 @@
-"""Visits placed greedily in the gaps: movable RV visits that lost their proposed start, and the
-monitor visits of targets with ``visit_h``."""
+"""Monitor visits (targets with ``visit_h``) placed greedily in the gaps between the blocks."""
 
 from __future__ import annotations
 
@@ -128,48 +127,3 @@ def fill_flexible(availability, targets, nights, fixed_chosen, altitude_deg, moo
             rows.append(row)
     return rows
 
-
-def second_chance(cands, mask, alt, altitude_deg, options):
-    """``mask`` with movable visits that were left out placed in the free time, if any fits.
-
-    Highest score first, each unserved movable candidate (an RV visit or sequence slot whose
-    request group has no chosen candidate) moves inside its allowed start range to the free
-    start nearest its proposed one, keeping the overhead from every chosen block of its night.
-    ``cands`` (and ``alt``, its altitude samples) are updated in place for the moved visits.
-    """
-    mask = mask.copy()
-    movable = cands["request"].isin(("rv_visit", "rv_sequence")).to_numpy()
-    todo = np.flatnonzero(movable & ~mask)
-    if todo.size == 0:
-        return mask
-    overhead_d = options.overhead_min / MIN_PER_DAY
-    step_d = options.flex_step_min / MIN_PER_DAY
-    score = cands["score"].to_numpy(float)
-    group = cands["group"].to_numpy()
-    night = cands["night"].to_numpy(object)
-    start = cands["start_jd_utc"].to_numpy(float).copy()
-    end = cands["end_jd_utc"].to_numpy(float).copy()
-    lo, hi = cands["earliest_start_jd_utc"].to_numpy(float), cands["latest_start_jd_utc"].to_numpy(float)
-    served = set(group[mask].tolist())
-    for i in sorted(todo, key=lambda r: (-score[r], start[r])):
-        if group[i] in served:
-            continue
-        length = end[i] - start[i]
-        busy = [(start[j], end[j]) for j in np.flatnonzero(mask & (night == night[i]))]
-        grid = np.append(np.arange(lo[i], hi[i], step_d), hi[i])
-        free = np.ones(grid.size, bool)
-        for bs, be in busy:
-            free &= (grid + length + overhead_d <= bs) | (grid >= be + overhead_d)
-        if not free.any():
-            continue
-        t0 = float(grid[free][np.argmin(np.abs(grid[free] - start[i]))])
-        start[i], end[i] = t0, t0 + length
-        mask[i] = True
-        served.add(group[i])
-        ti = cands["target_index"].to_numpy(int)[i:i + 1]
-        a = altitudes(altitude_deg, ti, sample_times(start[i:i + 1], end[i:i + 1]))
-        alt[i] = a[0]
-        cands.loc[i, ["start_jd_utc", "end_jd_utc"]] = [t0, t0 + length]
-        cands.loc[i, "alt_low_deg"] = float(np.min(a)) if np.isfinite(a).all() else np.nan
-        cands.loc[i, "airmass"] = float(mean_airmass(airmass_from_alt(a))[0])
-    return mask

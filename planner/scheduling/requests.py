@@ -48,8 +48,6 @@ the candidate serves), ``label``, ``night`` (label of the event's night), ``slot
 ``science_fraction``     value share of the science kept (series parts; 1 for a visit)
 ``observable_fraction``  observable share of the window (all stretches together)
 ``merged_with``          request id of the second request a merged candidate serves (-1 if none)
-``alternative``          True for the extra starts of a movable visit (:data:`ALTERNATIVE_STARTS`),
-                         False for the proposed one
 ``priority``, ``period_d``, ``moon_sep_deg``, ``moon_illumination``, the score columns
                          (:data:`~planner.scheduling.score.SCORE_COLUMNS`; ``score`` is the value)
 
@@ -88,7 +86,7 @@ REQUEST_COLUMNS = (
     "stretch_start_jd_utc", "stretch_end_jd_utc", "start_jd_utc", "end_jd_utc", "length_d",
     "earliest_start_jd_utc", "latest_start_jd_utc", "t1_jd_utc", "t2_jd_utc", "t3_jd_utc", "t4_jd_utc",
     "covers", "not_covered", "science_fraction", "observable_fraction", "priority", "period_d",
-    "moon_sep_deg", "moon_illumination", "merged_with", "alternative",
+    "moon_sep_deg", "moon_illumination", "merged_with",
 )
 
 
@@ -183,9 +181,11 @@ def _windows(v, kind, targets, settings):
     half = DEFAULT_EVENT_LENGTH_H / 48.0
     w0[sel], w1[sel] = jd[sel] - half - sig[sel], jd[sel] + half + sig[sel]
     sel = kind == RV_SEQUENCE
-    if sel.any():
-        lo, hi = orbit_contacts.rv_swing_offsets_d(p[sel], e[sel], w[sel])
-        w0[sel], w1[sel] = jd[sel] + lo - sig[sel], jd[sel] + hi + sig[sel]
+    if sel.any():  # one swing per target
+        uniq, inv = np.unique(ti[sel], return_inverse=True)
+        first = np.flatnonzero(sel)[np.unique(inv, return_index=True)[1]]
+        lo, hi = orbit_contacts.rv_swing_offsets_d(p[first], e[first], w[first])
+        w0[sel], w1[sel] = jd[sel] + lo[inv] - sig[sel], jd[sel] + hi[inv] + sig[sel]
     return w0, w1, contacts
 
 
@@ -260,8 +260,7 @@ def build_requests(visible: pd.DataFrame, targets: pd.DataFrame, intervals: pd.D
     cands = _score(cands, altitude_deg, weights)
     order = ["stretch_start_jd_utc", "stretch_end_jd_utc", "target_index", "event", "request_id"]
     cands = merge_requests(cands.sort_values(order, kind="stable"))
-    cands = _alternative_placements(cands, altitude_deg, weights)
-    return cands.sort_values(order + ["start_jd_utc"], kind="stable").reset_index(drop=True)
+    return cands.sort_values(order, kind="stable").reset_index(drop=True)
 
 
 def _stretches(base, intervals):
@@ -335,38 +334,6 @@ def _movable_visits(c, altitude_deg):
     c["start_jd_utc"] = start
     c["end_jd_utc"] = np.where(mov, start + length, c["end_jd_utc"].to_numpy(float))
     return c
-
-
-#: Alternative starts of a movable visit offered to the scheduler, as fractions of its allowed
-#: start range (besides the lowest-airmass one), so that a visit can yield to a fixed series.
-ALTERNATIVE_STARTS = (0.0, 0.25, 0.5, 0.75, 1.0)
-
-
-def _alternative_placements(c, altitude_deg, weights):
-    """Movable candidates repeated at :data:`ALTERNATIVE_STARTS` of their range (one group each).
-
-    Each alternative is scored at its own start; a merged candidate keeps the value of the
-    request it serves besides its own. Alternatives closer than a minute to another are dropped.
-    """
-    mov = np.flatnonzero((c["placement"] == "movable").to_numpy() & (
-        (c["latest_start_jd_utc"] - c["earliest_start_jd_utc"]).to_numpy(float) * MIN_PER_DAY >= 1.0))
-    if mov.size == 0:
-        return c.assign(alternative=False)
-    own = c["x_priority"] * c["x_rarity"] * c[["pts_coverage", "pts_airmass", "pts_moon", "pts_timing"]].sum(axis=1)
-    partner = (c["score"] - own).to_numpy(float)
-    rep = np.repeat(mov, len(ALTERNATIVE_STARTS))
-    frac = np.tile(np.asarray(ALTERNATIVE_STARTS), mov.size)
-    alt = c.iloc[rep].reset_index(drop=True)
-    lo, hi = alt["earliest_start_jd_utc"].to_numpy(float), alt["latest_start_jd_utc"].to_numpy(float)
-    start = lo + (hi - lo) * frac
-    far = np.abs(start - alt["start_jd_utc"].to_numpy(float)) * MIN_PER_DAY >= 1.0
-    alt, start, rep = alt[far].reset_index(drop=True), start[far], rep[far]
-    alt["end_jd_utc"] = start + alt["length_d"].to_numpy(float)
-    alt["start_jd_utc"] = start
-    alt = _score(alt, altitude_deg, weights)
-    alt["score"] = alt["score"].to_numpy(float) + partner[rep]
-    alt["alternative"] = True
-    return pd.concat([c.assign(alternative=False), alt], ignore_index=True)
 
 
 def _score(c, altitude_deg, weights):

@@ -16,14 +16,13 @@ Method, per night:
    compatible block (Kleinberg & Tardos, *Algorithm Design*, 2006, sec. 6.1). Two blocks are
    compatible when the later one starts at least the setup/slew overhead after the earlier one
    ends; tests/test_schedule.py checks the programme against brute force over all subsets.
-   A movable visit has several candidate starts but may be served once, which the programme
-   cannot express: each night is solved twice, with every visit at its proposed start, and
-   with the fixed blocks alone and then the visits fitted around them (best value first, the
-   first of its starts that fits), and the better total is kept. A request is served at most
+   A movable visit may start anywhere in its range, which the programme cannot express: each
+   night is solved twice, with every visit at its proposed start, and with the fixed blocks
+   alone and then the visits fitted around them (best value first, each at the free start
+   nearest its proposed one), and the better total is kept. A request is served at most
    once across the week (:func:`planner.scheduling.week.choose_fixed`).
-3. Movable visits left out (RV visits and sequence slots whose proposed start clashed) are
-   given a second chance: highest value first, each is moved inside its allowed start range to
-   the free time nearest its proposed start (greedy, not optimal).
+3. Movable visits left out are given a second chance: highest value first, each is moved
+   inside its allowed start range to the free time nearest its proposed start (greedy).
 4. Monitor visits (targets with ``visit_h``) fill the gaps greedily: repeatedly place, among all
    monitor targets that still fit, the visit with the highest score (placement at the lowest mean
    airmass inside its free stretch), with the overhead either side, at most one visit per target
@@ -51,8 +50,8 @@ import pandas as pd
 from ..timescales.clock import hhmm_utc
 from .blocks import (AVAILABILITY_COLUMNS, FLEXIBLE, MIN_PER_DAY, NIGHT_COLUMNS, SCHEDULE_COLUMNS, VISIBLE_COLUMNS,
                      ScheduleOptions, night_index, require_columns)
-from .candidates import candidates_from_requests, fixed_candidates
-from .flexible import fill_flexible, second_chance
+from .candidates import candidates_from_requests, fixed_candidates, with_altitudes
+from .flexible import fill_flexible
 from .intervals import best_intervals
 from .requests import RequestSettings, build_requests, monitor_requests
 from .week import choose_fixed
@@ -139,18 +138,16 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
         requests = build_requests(visible, targets, intervals, altitude_deg,
                                   RequestSettings(min_block_min=options.min_block_min), options.weights)
     order = list(nights["night"].astype(str))
-    cands, alt_fixed = candidates_from_requests(requests, altitude_deg)
-    cands["_alternative"] = requests["alternative"].to_numpy(bool) if "alternative" in requests else False
+    cands = candidates_from_requests(requests)
     # a long window (large timing uncertainty) can have its observable stretch on a night other
     # than the event's: a block belongs to the night that holds its middle, so nights never overlap
     held = night_index(0.5 * (cands["start_jd_utc"] + cands["end_jd_utc"]).to_numpy(float), nights)
     cands["night"] = np.where(held >= 0, np.asarray(order + [""], dtype=object)[held], "")
     in_week = cands["night"].isin(order).to_numpy()
-    cands, alt_fixed = cands[in_week].reset_index(drop=True), alt_fixed[in_week]
+    cands = cands[in_week].reset_index(drop=True)
     mask = choose_fixed(cands, order, options.overhead_min / MIN_PER_DAY, options.repeats)
-    mask = second_chance(cands, mask, alt_fixed, altitude_deg, options)
-    chosen = cands[mask].drop(columns="_alternative").reset_index(drop=True)
-    alts = list(alt_fixed[mask])
+    chosen, alt_fixed = with_altitudes(cands[mask], altitude_deg)
+    alts = list(alt_fixed)
     flex = fill_flexible(monitor_requests(availability, targets), targets, nights, chosen, altitude_deg,
                          moon_sep_deg, options)
     alts += [r.pop("_alt") for r in flex]
