@@ -140,5 +140,5 @@ def test_rv_swing_holds_the_fastest_change_of_the_radvel_curve():
         peak_t = t[np.argmax(rate)]
         assert lo[0] <= peak_t <= hi[0]
         inside = (t >= lo[0]) & (t <= hi[0])
-        # grid of 0.25 deg in true anomaly: the edges sit within a few per cent of the level
+        # grid of 0.5 deg in true anomaly: the edges sit within a few per cent of the level
         assert rate[inside].min() >= 0.45 * rate.max()

@@ -111,14 +111,14 @@ def rv_window_offsets_d(period_d, e, omega_rad, fraction_k, maximum=True):
 #: Part of the largest |dv/dt| that marks the RV swing around periastron (common practice of our
 #: own: the hours where the curve changes fastest; no single source).
 SWING_LEVEL = 0.5
-_SWING_SAMPLES = 1441
+_SWING_SAMPLES = 721
 
 
 def rv_swing_offsets_d(period_d, e, omega_rad, level=SWING_LEVEL):
     """(start, end) in days relative to periastron of the RV swing: where |dv/dt| >= level x max.
 
     |dv/dt| = K |sin(nu + omega)| dnu/dt, dnu/dt = n (1 + e cos nu)^2 / (1 - e^2)^1.5. Evaluated on
-    a grid of true anomaly (0.25 deg steps, which crowds the samples in time near periastron,
+    a grid of true anomaly (0.5 deg steps, which crowds the samples in time near periastron,
     where the swing of an eccentric orbit is); the swing is the run of samples above the level
     that holds the largest rate, its ends turned into times through the mean anomaly. Shapes (n,).
     The edges of a swing are soft by nature; no search refines them.

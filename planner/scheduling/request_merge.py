@@ -20,21 +20,22 @@ import numpy as np
 import pandas as pd
 
 
-def _groups(n_ids, pairs):
-    """Union-find over request ids 0..n_ids-1 joined by ``pairs``: group id (the smallest) of each."""
-    parent = np.arange(n_ids)
+def _groups(ids, pairs):
+    """Group id (the smallest member) of each of ``ids`` when the ``pairs`` of ids are joined."""
+    parent: dict = {}
 
     def find(x):
+        parent.setdefault(x, x)
         while parent[x] != x:
             parent[x] = parent[parent[x]]
             x = parent[x]
         return x
 
     for a, b in pairs:
-        ra, rb = find(a), find(b)
+        ra, rb = find(int(a)), find(int(b))
         if ra != rb:
             parent[max(ra, rb)] = min(ra, rb)
-    return np.array([find(x) for x in range(n_ids)], dtype=np.int64)
+    return np.array([find(int(x)) if x in parent else x for x in ids], dtype=np.int64)
 
 
 def merge_requests(cands: pd.DataFrame) -> pd.DataFrame:
@@ -86,7 +87,6 @@ def merge_requests(cands: pd.DataFrame) -> pd.DataFrame:
     merged["score"] = merged["score"].to_numpy(float) + other["score"].to_numpy(float)
     merged["merged_with"] = other["request_id"].to_numpy(np.int64)
     out = pd.concat([c, merged], ignore_index=True)
-    rid = out["request_id"].to_numpy(int)
-    group = _groups(int(rid.max()) + 1, zip(merged["request_id"].to_numpy(int), merged["merged_with"].to_numpy(int)))
-    out["group"] = group[rid]
+    out["group"] = _groups(out["request_id"].to_numpy(int),
+                           zip(merged["request_id"].to_numpy(int), merged["merged_with"].to_numpy(int)))
     return out
