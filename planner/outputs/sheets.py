@@ -174,7 +174,9 @@ def _block_lines(b, tz):
         sig = b["event_sigma_d"] * MIN_PER_DAY
         unc = f", +- {sig:.1f} min (1 sigma)" if np.isfinite(sig) else ""
         loc = f" ({_clock(b['event_jd_utc'], tz)} local)" if tz else ""
-        detail.append(f"Event at {_clock(b['event_jd_utc'])} UTC{loc}{unc}.")
+        far = abs(b["event_jd_utc"] - 0.5 * (b["start_jd_utc"] + b["end_jd_utc"])) > 0.5
+        day = clock.jd_utc_to_iso_z([b["event_jd_utc"]])[0][:10] + " " if far else ""  # a wide RV window
+        detail.append(f"Event at {day}{_clock(b['event_jd_utc'])} UTC{loc}{unc}.")
     alt_text = []
     if np.isfinite(b.get("alt_low_deg", np.nan)):
         alt_text.append(f"lowest {b['alt_low_deg']:.0f} deg")

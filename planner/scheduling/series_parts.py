@@ -94,6 +94,8 @@ def parts_in_words(covers: str, not_covered: str) -> str:
         return [PART_WORDS.get(n, n) for n in expanded]
 
     got, miss = words(covers), words(not_covered)
+    if covers == "mid" and not not_covered:  # a series whose contacts are not known
+        return "Covers the mid-event (its contacts are not known: no duration or geometry in the catalogue)."
     text = f"Covers {', '.join(got)}" if got else "Covers no contact"
     return text + (f"; not covered: {', '.join(miss)}." if miss else "; nothing of the event is missed.")
 
