@@ -13,6 +13,7 @@ writers (``write_night_sheets``, ``write_schedule_csv``) go through
 
 from __future__ import annotations
 
+import functools
 import html
 import os
 
@@ -50,6 +51,12 @@ def _clock(jd_utc, tz=None) -> str:
     """``HH:MM`` of a Julian date (UTC) in UTC, or in the IANA zone ``tz``; ``--:--`` for NaN."""
     if jd_utc is None or not np.isfinite(jd_utc):
         return "--:--"
+    return _clock_text(float(jd_utc), tz)
+
+
+@functools.lru_cache(maxsize=4096)
+def _clock_text(jd_utc: float, tz) -> str:
+    """``HH:MM`` of a finite Julian date (UTC); cached, as a sheet shows each time in two files."""
     text = clock.jd_utc_to_local_iso([jd_utc], tz)[0] if tz else clock.jd_utc_to_iso_z([jd_utc])[0]
     return text[11:16]
 
