@@ -67,6 +67,13 @@ CATALOGUE_EXPECTED = {
     "eccentricity_one.ecsv": (2, "e", "1.02 is not a bound orbit"),  # the second data row
     "unclosed_quote.csv": (3, None, 'not readable as CSV: a quote (") opened in this row is never closed'),
     "text_after_closing_quote.csv": (2, None, "text follows a closing quote"),
+    "observe_unknown_word.csv": (2, "observe", "unknown observation 'spectroscopy'; expected photometry, rv"),
+    "observe_unknown_in_list.csv": (2, "observe", "unknown observation 'imaging'"),
+    "visit_length_negative.csv": (2, "visit_h", "-0.5 must be positive"),
+    "rv_fraction_above_one.csv": (2, "rv_fraction_k", "1.5 is outside 0 < fraction <= 1"),
+    "rv_fraction_negative.csv": (2, "rv_fraction_k", "-0.1 is outside 0 < fraction <= 1"),
+    "rv_visits_fractional.csv": (2, "rv_visits", "2.5 is not a whole number of visits >= 1"),
+    "full_coverage_not_yes_no.csv": (2, "full_coverage", "'maybe' is not yes or no"),
 }
 
 

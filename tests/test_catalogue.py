@@ -29,7 +29,7 @@ def test_demo_catalogue_loads_with_conventions():
     from conftest import SAMPLE_TARGETS
 
     t = catalogue.read_catalogue(SAMPLE_TARGETS)
-    assert len(t) == 6 and t.name.is_unique
+    assert len(t) == 7 and t.name.is_unique
     row = t.set_index("name")
     # omega_of = companion: the primary's omega is the catalogue's + 180 deg
     assert abs(row.loc["Tessel-3", "omega_deg"] - (70.4 + 180)) <= 1e-12

@@ -133,4 +133,4 @@ def test_magnitude_column_shown_on_the_nightly_sheets(tmp_path):
     paths = sheets.write_night_sheets(tmp_path, schedule, pd.DataFrame([NIGHT]), targets=targets)
     for path in paths:
         text = open(path, encoding="utf-8").read()
-        assert "HAT-P-2 b (vmag 8.7): periastron" in text
+        assert "HAT-P-2 b (vmag 8.7): primary conjunction" in text

@@ -53,7 +53,8 @@ def test_files_written(demo_dir):
 def test_schedule_blocks_do_not_overlap_and_hold_their_events(demo_dir):
     sched = pd.read_csv(demo_dir / "schedule.csv")
     for col in ("night", "start_utc", "end_utc", "start_local", "end_local", "target", "event", "event_utc",
-                "score", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg", "notes"):
+                "score", "request", "covers", "not_covered", "t1_utc", "t4_utc", "alt_low_deg", "alt_event_deg",
+                "airmass", "moon_sep_deg", "notes"):
         assert col in sched.columns
     start = Time(list(sched.start_utc.str.rstrip("Z")), scale="utc").jd
     end = Time(list(sched.end_utc.str.rstrip("Z")), scale="utc").jd
@@ -61,12 +62,15 @@ def test_schedule_blocks_do_not_overlap_and_hold_their_events(demo_dir):
     for night, rows in sched.assign(s=start, e=end).groupby("night"):
         rows = rows.sort_values("s")
         assert np.all(rows.s.to_numpy()[1:] >= rows.e.to_numpy()[:-1] + overhead_d - 1.5 / 86400)
-    fixed = sched[sched.kind == "fixed"]
-    ev = Time(list(fixed.event_utc.str.rstrip("Z")), scale="utc").jd
-    fs, fe = start[fixed.index], end[fixed.index]
-    assert np.all((ev >= fs - 1 / 86400) & (ev <= fe + 1 / 86400))
-    # the altitude limit of the site (30 deg) holds at every block's start, middle and end
-    assert (sched[["alt_start_deg", "alt_mid_deg", "alt_end_deg"]] >= 30 - 0.05).all().all()
+    # a series block that says it covers the mid-event holds the event moment
+    mid = sched[(sched.request == "series") & sched.covers.fillna("").str.contains("mid|T1-T4")]
+    ev = Time(list(mid.event_utc.str.rstrip("Z")), scale="utc").jd
+    assert len(mid) and np.all((ev >= start[mid.index] - 1 / 86400) & (ev <= end[mid.index] + 1 / 86400))
+    # an RV visit is a short block
+    visits = sched[sched.request.isin(["rv_visit", "rv_sequence"])]
+    assert len(visits) and np.all((end - start)[visits.index] * 24 <= 1.0 + 1e-6)
+    # the altitude limit of the site (30 deg) holds through every block
+    assert (sched["alt_low_deg"] >= 30 - 0.05).all()
 
 
 def test_event_times_agree_with_periplan_events(demo_dir, capsys):

@@ -129,9 +129,9 @@ def test_installed_versions_meet_the_declared_floors():
     assert checked >= 15
 
 
-#: The one place a plain ValueError is raised on purpose: the angle parser's, which its one
-#: caller (the catalogue's coordinate check) catches and reports as an InputError with the cell.
-PLAIN_VALUE_ERROR_ALLOWED = {"inputs/catalogue_checks.py"}
+#: The places a plain ValueError is raised on purpose: the angle parser's and the log's time
+#: parser's, which their one caller each catches and reports as an InputError with the cell.
+PLAIN_VALUE_ERROR_ALLOWED = {"inputs/catalogue_checks.py", "inputs/observation_log.py"}
 
 
 def test_the_package_raises_its_own_errors_and_never_swallows_one():

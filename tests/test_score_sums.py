@@ -27,6 +27,9 @@ UNIT = 10.0 ** -explain.POINT_DECIMALS
 
 WHY = re.compile(r"Why: score (\d+\.\d) = priority (\S+) x rarity x(\d+\.\d\d) \(.*?\) x conditions "
                  r"(\d+\.\d) points: (.*)\.$")
+#: A block that serves two requests of one target: its own value (as above) plus the other's.
+WHY_TWO = re.compile(r"Why: score (\d+\.\d) = (\d+\.\d) for the .*? \(priority (\S+) x rarity x(\d+\.\d\d) \(.*?\) "
+                     r"x conditions (\d+\.\d) points: (.*)\) \+ (\d+\.\d) for the .* it serves too\.$")
 ICS = re.compile(r"Score: (\d+\.\d) = priority (\S+) x rarity (\d+\.\d\d) x conditions (\d+\.\d) points "
                  r"\((.*)\)")
 
@@ -60,8 +63,16 @@ def test_sheets_sums_equal_their_parts_flexible_visits_included(plan_dir):
     assert len(whys) == len(schedule)
     flexible_seen = 0
     for line in whys:
-        m = WHY.match(line)
-        assert m, line
+        m, two = WHY.match(line), WHY_TWO.match(line)
+        assert m or two, line
+        if two:  # the two values add up to the score, and the first is this request's own product
+            assert Decimal(two.group(2)) + Decimal(two.group(7)) == Decimal(two.group(1)), line
+            own, prio, rarity, total = (Decimal(two.group(i)) for i in (2, 3, 4, 5))
+            parts = [Decimal(x) for x in re.findall(r"\((\d+\.\d)\)", two.group(6))]
+            assert sum(parts) == total, line
+            assert abs(own - prio * rarity * total) <= prio * (Decimal("0.005") * total + rarity * Decimal("0.05")) \
+                + Decimal("0.1"), line
+            continue
         score, prio, rarity, total = (Decimal(m.group(i)) for i in (1, 2, 3, 4))
         parts = [Decimal(x) for x in re.findall(r"\((\d+\.\d)\)", m.group(5))]
         assert len(parts) == 4, line  # coverage, airmass, Moon and timing: every term is printed

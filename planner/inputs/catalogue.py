@@ -9,7 +9,9 @@ messages) and gives a :class:`pandas.DataFrame` with one row per target and the 
 
 ``name, ra_deg, dec_deg, ephemeris, period_d, period_err_d, e, e_err, omega_deg,
 omega_err_deg, epoch_kind, epoch_bjd_tdb, epoch_err_d, tp_bjd_tdb, time_system, k_ms, gamma_ms,
-priority, events, duration_h, a_rstar, inc_deg, rp_rstar, label, visit_h, visit_gap_h, events_given``
+priority, events, duration_h, a_rstar, inc_deg, rp_rstar, label, visit_h, visit_gap_h, events_given,
+observe, rv_fraction_k, rv_visits, rv_gap_h, full_coverage`` (and the binary columns of
+:mod:`planner.inputs.binary_checks` when given)
 
 then the catalogue's columns that periplan does not read, under their own names (floats when
 every cell is a number, else text), for the writers to show (a magnitude on the nightly sheets).
@@ -53,6 +55,13 @@ Input columns (header names, case-insensitive; order free):
                    parameter at primary conjunction, radius ratio)
 ``label``          the catalogue's own name for the event of a linear ephemeris
 ``visit_h``, ``visit_gap_h``  block length and minimum spacing (hours) of flexible visits
+                   (``visit_h`` is also the length of an RV visit; default 0.5 h)
+``observe``        ``photometry``, ``rv`` or ``photometry;rv``: what the observer does
+``rv_fraction_k``  an RV visit counts while the RV is within this fraction of K of the
+                   extremum (0 < f <= 1, default 0.1)
+``rv_visits``, ``rv_gap_h``  RV visits wanted over a periastron passage (default 3), and their
+                   least spacing (hours, default 1)
+``full_coverage``  ``yes``: a series counts only when it covers T1 to T4 with both baselines
 ``notes``, others  carried unread (free text, magnitudes, anything of the user's)
 =================  ====================================================================
 
@@ -93,16 +102,18 @@ NUMERIC_COLUMNS = (
     "period_d", "period_err_d", "e", "e_err", "omega_deg", "omega_err_deg", "tp", "tc", "t0",
     "tp_err_d", "tc_err_d", "t0_err_d", "time_offset_d", "k_ms", "gamma_ms", "priority",
     "duration_h", "a_rstar", "inc_deg", "b", "rp_rstar", "a_au", "mass1_msun", "mass2_msun",
-    "visit_h", "visit_gap_h",
+    "visit_h", "visit_gap_h", "rv_fraction_k", "rv_visits", "rv_gap_h",
 ) + binary_checks.NUMERIC_COLUMNS
-TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes") + binary_checks.TEXT_COLUMNS
+TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes", "observe",
+                "full_coverage") + binary_checks.TEXT_COLUMNS
 KNOWN_COLUMNS = TEXT_COLUMNS + NUMERIC_COLUMNS
 
 OUTPUT_COLUMNS = (
     "name", "ra_deg", "dec_deg", "ephemeris", "period_d", "period_err_d", "e", "e_err",
     "omega_deg", "omega_err_deg", "epoch_kind", "epoch_bjd_tdb", "epoch_err_d", "tp_bjd_tdb",
     "time_system", "k_ms", "gamma_ms", "priority", "events", "duration_h", "a_rstar", "inc_deg",
-    "rp_rstar", "label", "visit_h", "visit_gap_h", "events_given",
+    "rp_rstar", "label", "visit_h", "visit_gap_h", "events_given", "observe", "rv_fraction_k", "rv_visits",
+    "rv_gap_h", "full_coverage",
 ) + BINARY_COLUMNS
 
 
@@ -365,6 +376,7 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
     eclipse = np.isfinite(duration) | (np.isfinite(a_rstar) & np.isfinite(inc) & np.isfinite(rp))
     events, labels = checks.check_events(cells, linear, e, rv=np.isfinite(observing["k_ms"]) & (observing["k_ms"] > 0),
                                          eclipse=eclipse)
+    requests = checks.check_requests(cells, linear, duration, a_rstar, observing["k_ms"])
 
     tp = np.where(epoch_kind == "tc", np.nan, epoch_bjd)
     orbit_tc = (epoch_kind == "tc") & ~linear & np.isfinite(e) & np.isfinite(omega)
@@ -390,7 +402,7 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
         "epoch_kind": epoch_kind.astype(str), "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
         "tp_bjd_tdb": tp, "time_system": system, "events": events, "duration_h": duration,
         "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing, **binary,
-        "events_given": cells.given("events"),
+        "events_given": cells.given("events"), **requests,
     }, columns=list(OUTPUT_COLUMNS))
     if (kind2 != "").any() and not cells.errors:
         from ..orbits.binary_events import epoch_tension_sigma

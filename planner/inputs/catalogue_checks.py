@@ -401,3 +401,59 @@ def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
             labels[i] = kinds.pop()
         out.append(wanted)
     return out, np.where(labels == "", np.where(linear, "periodic", ""), labels)
+
+
+#: Words of the ``observe`` column: what the observer does for a target.
+OBSERVE_WORDS = ("photometry", "rv")
+#: Request defaults: an RV visit counts near an extremum while the RV is within this fraction of K
+#: of it; a periastron passage asks for this many RV visits at least this many hours apart
+#: [common practice of RV follow-up, our choice; no single source].
+DEFAULT_RV_FRACTION_K = 0.1
+DEFAULT_RV_VISITS = 3
+DEFAULT_RV_GAP_H = 1.0
+_YES, _NO = ("yes", "true", "1", "y"), ("no", "false", "0", "n", "")
+
+
+def check_requests(cells: Cells, linear, duration_h, a_rstar, k_ms) -> dict:
+    """Request columns: ``observe``, ``rv_fraction_k``, ``rv_visits``, ``rv_gap_h``, ``full_coverage``.
+
+    ``observe`` is ``photometry``, ``rv`` or both separated by ``;`` (returned in that order);
+    by default photometry where eclipse geometry, a duration or only a linear ephemeris is given,
+    rv where ``k_ms`` is given, both when both (and when neither). ``rv_fraction_k`` must lie in
+    (0, 1], ``rv_visits`` be a whole number >= 1, ``rv_gap_h`` >= 0, ``full_coverage`` yes/no.
+    """
+    rows = cells.rows
+    photometric = np.asarray(linear, bool) | np.isfinite(duration_h) | np.isfinite(a_rstar)
+    spectroscopic = np.isfinite(k_ms)
+    default = np.where(photometric & ~spectroscopic, "photometry",
+                       np.where(spectroscopic & ~photometric, "rv", "photometry;rv"))
+    observe = []
+    for row, text, d in zip(rows, cells.text("observe"), default):
+        words = [w.strip().lower() for w in text.split(";") if w.strip()]
+        unknown = [w for w in words if w not in OBSERVE_WORDS]
+        if unknown:
+            cells.err(row, "observe", f"unknown observation {unknown[0]!r}; expected photometry, rv or "
+                      "'photometry;rv'", text)
+        observe.append(";".join(w for w in OBSERVE_WORDS if w in words) if words and not unknown else d)
+    fraction = cells.numeric("rv_fraction_k", default=DEFAULT_RV_FRACTION_K)
+    bad_fraction = ~((fraction > 0) & (fraction <= 1))
+    for row, v in zip(rows[bad_fraction], cells.text("rv_fraction_k")[bad_fraction]):
+        cells.err(row, "rv_fraction_k", f"{v} is outside 0 < fraction <= 1 (a fraction of K)", v)
+    visits = cells.numeric("rv_visits", default=float(DEFAULT_RV_VISITS))
+    bad_visits = ~((visits >= 1) & (np.mod(visits, 1.0) == 0))
+    for row, v in zip(rows[bad_visits], cells.text("rv_visits")[bad_visits]):
+        cells.err(row, "rv_visits", f"{v} is not a whole number of visits >= 1", v)
+    gap = cells.numeric("rv_gap_h", default=DEFAULT_RV_GAP_H, nonnegative=True)
+    full = []
+    for row, text in zip(rows, cells.text("full_coverage")):
+        word = text.strip().lower()
+        if word not in _YES + _NO:
+            cells.err(row, "full_coverage", f"{text!r} is not yes or no", text)
+        full.append(word in _YES)
+    return {
+        "observe": np.asarray(observe, dtype=object),
+        "rv_fraction_k": np.where(bad_fraction, DEFAULT_RV_FRACTION_K, fraction),
+        "rv_visits": np.where(bad_visits, DEFAULT_RV_VISITS, visits).astype(np.int64),
+        "rv_gap_h": np.where(np.isnan(gap), DEFAULT_RV_GAP_H, gap),
+        "full_coverage": np.asarray(full, dtype=bool),
+    }

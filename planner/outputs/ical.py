@@ -44,6 +44,14 @@ def _description(b: pd.Series) -> str:
         unc = explain.sigma_text(b["event_sigma_d"])
         unc = f" {unc}" if unc.startswith("+-") else (f" ({unc})" if unc else "")
         lines.append(f"Event: {what} at {when}{unc}")
+        request = b.get("request")
+        if isinstance(request, str) and request:
+            serves = str(b.get("serves", "") or "").replace("_", " ").replace(";", " and ")
+            lines.append(f"Request: {request.replace('_', ' ')} (serves {serves})")
+        covers = b.get("covers")
+        if isinstance(covers, str) and covers:
+            missing = b.get("not_covered")
+            lines.append(f"Covers: {covers}" + (f"; not covered: {missing}" if isinstance(missing, str) and missing else ""))
     parts, total = explain.block_points(b)  # printed parts add up to the printed total
     pts = " + ".join(f"{c[4:]} {v:.1f}" for c, v in parts.items())
     lines.append(f"Score: {b['score']:.1f} = priority {b['x_priority']:g} x rarity {b['x_rarity']:.2f} "

@@ -13,6 +13,7 @@ writers (``write_night_sheets``, ``write_schedule_csv``) go through
 
 from __future__ import annotations
 
+import functools
 import html
 import os
 import re
@@ -21,6 +22,8 @@ import numpy as np
 import pandas as pd
 
 from ..sky.night import darkness_of
+from ..scheduling.blocks import MIN_PER_DAY
+from ..scheduling.series_parts import parts_in_words
 from ..timescales import clock
 from . import explain
 from .atomic import atomic_write
@@ -31,16 +34,11 @@ CAUTION = ("CAUTION: Never point the telescope at or near the Sun: it can blind 
 
 #: What to do for each kind of block (``{label}``: the catalogue's label of a periodic event).
 ACTIONS = {
-    "periastron": "cover the periastron passage: RV spectra spread through the block (the RV changes "
-                  "fastest here)",
-    "apastron": "observe around apastron: RV spectra through the block",
-    "primary_conjunction": "time series through primary conjunction (transit or primary eclipse where the "
-                           "geometry eclipses), with out-of-event baseline before and after",
-    "secondary_conjunction": "time series through secondary conjunction (occultation or secondary eclipse "
-                             "where the geometry eclipses), with baseline before and after",
-    "rv_max": "RV measurements near the RV maximum",
-    "rv_min": "RV measurements near the RV minimum",
-    "periodic": "time series around the predicted {label}",
+    "periastron": "photometric time series around the periastron passage",
+    "apastron": "photometric time series around apastron",
+    "primary_conjunction": "photometric time series of the transit or primary eclipse",
+    "secondary_conjunction": "photometric time series of the occultation or secondary eclipse",
+    "periodic": "photometric time series around the predicted {label}",
     "visit": "one visit (an RV point or a monitoring exposure) at any time inside the block",
 }
 
@@ -57,19 +55,61 @@ def sky_rows(night) -> tuple[tuple[str, str], ...]:
             ("dark_end_jd_utc", f"{name} ends"), ("sunrise_jd_utc", "Sunrise"))
 
 
+#: What to do for the visits of RV requests, by request kind.
+RV_ACTIONS = {
+    "rv_visit": "one RV spectrum of about {minutes:.0f} min near the {what}",
+    "rv_sequence": "RV visit {slot} of {n_slots} over the periastron passage, where the RV swings fastest: "
+                   "one spectrum of about {minutes:.0f} min",
+}
+
+
 def _clock(jd_utc, tz=None) -> str:
     """``HH:MM`` of a Julian date (UTC) in UTC, or in the IANA zone ``tz``; ``--:--`` for NaN."""
     if jd_utc is None or not np.isfinite(jd_utc):
         return "--:--"
+    return _clock_text(float(jd_utc), tz)
+
+
+@functools.lru_cache(maxsize=4096)
+def _clock_text(jd_utc: float, tz) -> str:
+    """``HH:MM`` of a finite Julian date (UTC); cached, as a sheet shows each time in two files."""
     text = clock.jd_utc_to_local_iso([jd_utc], tz)[0] if tz else clock.jd_utc_to_iso_z([jd_utc])[0]
     return text[11:16]
 
 
 def action(block) -> str:
-    """What to do in a block, in words, from its event (see :data:`ACTIONS`)."""
-    template = ACTIONS.get(str(block["event"]), "observe {label}")
+    """What to do in a block, in words, from its request kind and event (see :data:`ACTIONS`)."""
     label = block.get("label") if isinstance(block.get("label"), str) and block.get("label") else block["event"]
-    return template.format(label=label)
+    request = block.get("request", "")
+    if request in RV_ACTIONS:
+        minutes = (block["end_jd_utc"] - block["start_jd_utc"]) * MIN_PER_DAY
+        what = str(block["event"]).replace("rv_max", "RV maximum").replace("rv_min", "RV minimum").replace("_", " ")
+        text = RV_ACTIONS[request].format(minutes=minutes, what=what, slot=int(block.get("slot", 1)),
+                                          n_slots=int(block.get("n_slots", 1)))
+    else:
+        text = ACTIONS.get(str(block["event"]), "observe {label}").format(label=label)
+    serves = str(block.get("serves", "") or "")
+    if ";" in serves:
+        text += " (it serves " + " and ".join(w.replace("_", " ") for w in serves.split(";")) + " at once)"
+    return text
+
+
+def covers_line(block) -> str:
+    """Which parts of the event a series block covers and which it misses, in words ("" for visits)."""
+    if block.get("request") != "series":
+        return ""
+    covers, missing = str(block.get("covers", "") or ""), str(block.get("not_covered", "") or "")
+    if " | " in covers:  # a merged block: one clause per event
+        parts = []
+        for c, m in zip(covers.split(" | "), missing.split(" | ")):
+            event, _, got = c.partition(": ")
+            parts.append(f"{event.replace('_', ' ')}: " + parts_in_words(got, m.partition(": ")[2]))
+        return " ".join(parts)
+    if not np.isfinite(block.get("t1_jd_utc", np.nan)):
+        held = "the mid-event" if "mid" in covers else "no predicted moment"
+        return (f"Covers {held} ({100 * block['observable_fraction']:.0f}% of the window); contacts not known "
+                "(the catalogue gives no duration or eclipse geometry).")
+    return parts_in_words(covers, missing)
 
 
 def reasons(block) -> list[str]:
@@ -85,7 +125,13 @@ def reasons(block) -> list[str]:
     pts, total = explain.block_points(block)
     conditions = []
     frac = block["observable_fraction"]
-    if np.isfinite(frac):
+    science = block.get("science_fraction", np.nan)
+    if block.get("request") == "series" and np.isfinite(science) and np.isfinite(frac):
+        conditions.append(f"{100 * science:.0f}% of the series' science kept, {100 * frac:.0f}% of the window "
+                          f"observable ({pts['pts_coverage']:.1f})")
+    elif block.get("request") in RV_ACTIONS:
+        conditions.append(f"a visit inside its window: full value, whatever its length ({pts['pts_coverage']:.1f})")
+    elif np.isfinite(frac):
         conditions.append(f"{100 * frac:.0f}% of the event window observable ({pts['pts_coverage']:.1f})")
     else:
         conditions.append(f"whole block usable ({pts['pts_coverage']:.1f})")
@@ -98,6 +144,14 @@ def reasons(block) -> list[str]:
                       else f"Moon {lit_text}, separation not computed ({pts['pts_moon']:.1f})")
     conditions.append(explain.timing_phrase(block, pts["pts_timing"]))
     out.append(f"conditions {total:.1f} points: " + ", ".join(conditions))
+    serves = str(block.get("serves", "") or "").split(";")
+    own = block["x_priority"] * block["x_rarity"] * sum(block[c] for c in ("pts_coverage", "pts_airmass", "pts_moon",
+                                                                            "pts_timing"))
+    if len(serves) > 1 and abs(block["score"] - own) > 1e-6:
+        # a block serving two requests: its own value plus the other's, printed so that they add up
+        (mine, other), _ = explain.rounded_parts([own, block["score"] - own])
+        out[0] = f"{mine:.1f} for the {serves[0].replace('_', ' ')} (priority {block['x_priority']:g}"
+        out[-1] = out[-1] + f") + {other:.1f} for the {serves[1].replace('_', ' ')} it serves too"
     return out
 
 
@@ -166,10 +220,19 @@ def _block_lines(b, tz):
         unc = explain.sigma_text(b["event_sigma_d"])
         unc = f", {unc}" if unc else ""
         loc = f" ({_clock(b['event_jd_utc'], tz)} local)" if tz else ""
-        detail.append(f"Event at {_clock(b['event_jd_utc'])} UTC{loc}{unc}.")
-    alts = [b["alt_start_deg"], b["alt_mid_deg"], b["alt_end_deg"]]
-    if all(np.isfinite(alts)):
-        detail.append(f"Altitude {alts[0]:.0f} / {alts[1]:.0f} / {alts[2]:.0f} deg (start / middle / end).")
+        far = abs(b["event_jd_utc"] - 0.5 * (b["start_jd_utc"] + b["end_jd_utc"])) > 0.5
+        day = clock.jd_utc_to_iso_z([b["event_jd_utc"]])[0][:10] + " " if far else ""  # a wide RV window
+        detail.append(f"Event at {day}{_clock(b['event_jd_utc'])} UTC{loc}{unc}.")
+    alt_text = []
+    if np.isfinite(b.get("alt_low_deg", np.nan)):
+        alt_text.append(f"lowest {b['alt_low_deg']:.0f} deg")
+    if np.isfinite(b.get("alt_event_deg", np.nan)):
+        alt_text.append(f"at the event {b['alt_event_deg']:.0f} deg")
+    for c in ("t1", "t2", "t3", "t4"):
+        if np.isfinite(b.get(f"alt_{c}_deg", np.nan)):
+            alt_text.append(f"at {c.upper()} {b[f'alt_{c}_deg']:.0f} deg")
+    if alt_text:
+        detail.append("Altitude: " + ", ".join(alt_text) + ".")
     return head, " ".join(detail)
 
 
@@ -198,6 +261,8 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
             if detail:
                 lines.append(f"   {detail}")
             lines.append(f"   Do: {action(b)}.")
+            if covers_line(b):
+                lines.append(f"   {covers_line(b)}")
             lines.append(f"   Why: score {b['score']:.1f} = " + " x ".join(reasons(b)) + ".")
             if isinstance(b["notes"], str) and b["notes"]:
                 lines.append(f"   Notes: {b['notes']}.")
@@ -248,6 +313,8 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
         if detail:
             out.append(f"<p>{e(detail)}</p>")
         out.append(f"<p><strong>Do:</strong> {e(action(b))}.</p>")
+        if covers_line(b):
+            out.append(f"<p>{e(covers_line(b))}</p>")
         items = "".join(f"<li>{e(r)}</li>" for r in reasons(b))
         out.append(f"<p><strong>Why:</strong> score {b['score']:.1f} = priority x rarity x conditions</p>"
                    f"<ul>{items}</ul>")
@@ -287,7 +354,8 @@ def write_schedule_csv(path, schedule: pd.DataFrame, tz: str | None = None):
 
     frame = display_frame(schedule, tz)
     fmt = {c: ".2f" for c in frame.columns if c.startswith("pts_") or c in ("score", "event_sigma_min")}
-    fmt.update({"alt_start_deg": ".1f", "alt_mid_deg": ".1f", "alt_end_deg": ".1f", "airmass": ".3f",
+    fmt.update({c: ".1f" for c in frame.columns if c.startswith("alt_")})
+    fmt.update({"science_fraction": ".2f", "airmass": ".3f",
                 "moon_sep_deg": ".1f", "moon_illumination": ".2f", "observable_fraction": ".3f"})
     text = render(frame, "csv", fmt)
     with atomic_write(path) as fh:

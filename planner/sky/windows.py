@@ -45,7 +45,8 @@ columns kept) plus:
 ``window_end_jd_utc``
 ``observable_h``               observable time inside the window, hours
 ``observable_fraction``        observable_h / window length, 0..1
-``observable_start_jd_utc``,   longest observable stretch inside the window (NaN when none)
+``observable_start_jd_utc``,   longest observable stretch inside the window (NaN when none);
+                               :func:`window_stretches` gives every stretch
 ``observable_end_jd_utc``
 =============================  ===============================================================
 
@@ -409,16 +410,20 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
     return out
 
 
-def _cover(target_index, w0, w1, intervals):
-    """Observable hours inside each window, and the window's longest observable stretch."""
+def window_stretches(target_index, w0, w1, intervals):
+    """Every observable stretch inside each window: (row, start, end) arrays, one per stretch.
+
+    ``target_index``, ``w0``, ``w1`` (n,) describe n windows (UTC Julian dates); ``intervals``
+    is :func:`observable_intervals`. ``row`` is the window's position (0..n-1); stretches of
+    positive length only, ordered by row, then start.
+    """
+    target_index = np.asarray(target_index, dtype=int)
+    w0, w1 = np.asarray(w0, dtype=float), np.asarray(w1, dtype=float)
     n = target_index.size
-    hours = np.zeros(n)
-    best_start = np.full(n, np.nan)
-    best_end = np.full(n, np.nan)
-    if len(intervals) == 0:
-        return hours, best_start, best_end
+    if len(intervals) == 0 or n == 0:
+        return np.zeros(0, int), np.zeros(0), np.zeros(0)
     iv_t = intervals["target_index"].to_numpy(int)
-    order = np.argsort(iv_t, kind="stable")
+    order = np.lexsort((intervals["start_jd_utc"].to_numpy(float), iv_t))
     iv_t = iv_t[order]
     iv0 = intervals["start_jd_utc"].to_numpy(float)[order]
     iv1 = intervals["end_jd_utc"].to_numpy(float)[order]
@@ -426,18 +431,28 @@ def _cover(target_index, w0, w1, intervals):
     hi = np.searchsorted(iv_t, target_index, side="right")
     counts = hi - lo
     ev = np.repeat(np.arange(n), counts)
-    k = np.concatenate([np.arange(a, b) for a, b in zip(lo, hi)]) if counts.sum() else np.zeros(0, int)
+    k = np.repeat(lo - (np.cumsum(counts) - counts), counts) + np.arange(counts.sum())
     s = np.maximum(iv0[k], w0[ev])
     e = np.minimum(iv1[k], w1[ev])
-    length = np.clip(e - s, 0.0, None)
-    hours = np.bincount(ev, weights=length, minlength=n) * 24.0
-    pos = length > 0
-    if pos.any():
-        ev_p, s_p, e_p, l_p = ev[pos], s[pos], e[pos], length[pos]
-        best = np.lexsort((-l_p, ev_p))
-        first = np.ones(best.size, bool)
-        first[1:] = ev_p[best][1:] != ev_p[best][:-1]
-        pick = best[first]
-        best_start[ev_p[pick]] = s_p[pick]
-        best_end[ev_p[pick]] = e_p[pick]
+    pos = e > s
+    return ev[pos], s[pos], e[pos]
+
+
+def _cover(target_index, w0, w1, intervals):
+    """Observable hours inside each window, and the window's longest observable stretch."""
+    n = target_index.size
+    hours = np.zeros(n)
+    best_start = np.full(n, np.nan)
+    best_end = np.full(n, np.nan)
+    ev_p, s_p, e_p = window_stretches(target_index, w0, w1, intervals)
+    if ev_p.size == 0:
+        return hours, best_start, best_end
+    l_p = e_p - s_p
+    hours = np.bincount(ev_p, weights=l_p, minlength=n) * 24.0
+    best = np.lexsort((-l_p, ev_p))
+    first = np.ones(best.size, bool)
+    first[1:] = ev_p[best][1:] != ev_p[best][:-1]
+    pick = best[first]
+    best_start[ev_p[pick]] = s_p[pick]
+    best_end[ev_p[pick]] = e_p[pick]
     return hours, best_start, best_end
