@@ -61,7 +61,7 @@ NUMERIC_COLUMNS = (
     "period_d", "period_err_d", "e", "e_err", "omega_deg", "omega_err_deg", "tp", "tc", "t0",
     "tp_err_d", "tc_err_d", "t0_err_d", "time_offset_d", "k_ms", "gamma_ms", "priority",
     "duration_h", "a_rstar", "inc_deg", "b", "rp_rstar", "a_au", "mass1_msun", "mass2_msun",
-    "visit_h", "visit_gap_h",
+    "visit_h", "visit_gap_h", "mag",
 )
 TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes")
 KNOWN_COLUMNS = TEXT_COLUMNS + NUMERIC_COLUMNS
@@ -70,7 +70,7 @@ OUTPUT_COLUMNS = (
     "name", "ra_deg", "dec_deg", "ephemeris", "period_d", "period_err_d", "e", "e_err",
     "omega_deg", "omega_err_deg", "epoch_kind", "epoch_bjd_tdb", "epoch_err_d", "tp_bjd_tdb",
     "time_system", "k_ms", "gamma_ms", "priority", "events", "duration_h", "a_rstar", "inc_deg",
-    "rp_rstar", "label", "visit_h", "visit_gap_h",
+    "rp_rstar", "label", "visit_h", "visit_gap_h", "mag",
 )
 
 

@@ -32,8 +32,9 @@ from ..errors import PeriplanError
 
 #: Sample step (days) of the altitude curves in the night charts: 5 minutes.
 CHART_STEP_D = 5.0 / 1440.0
-FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt", "unobservable.csv")
-_PLAN_FILE = re.compile(r"^(night-\d{4}-\d{2}-\d{2}\.(txt|html)|altitude-\d{4}-\d{2}-\d{2}\.png|rv-.+\.png)$")
+FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt", "unobservable.csv", "index.html")
+_PLAN_FILE = re.compile(r"^(night-\d{4}-\d{2}-\d{2}\.(txt|html)|altitude-\d{4}-\d{2}-\d{2}\.png|rv-.+\.png"
+                        r"|target-.+\.html)$")
 
 
 class OutputExists(PeriplanError):
@@ -80,7 +81,7 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
     drawn by up to ``workers`` processes (default: two where the machine has two cores and can
     fork, else one); the plan is the same either way.
     """
-    from . import ical, sheets
+    from . import ical, sheet_pointing, sheets
     from .tables import render
 
     out_dir = os.fspath(out_dir)
@@ -103,7 +104,8 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
         for label in nights["night"].astype(str):
             for ext in ("txt", "html"):
                 path(f"night-{label}.{ext}")
-        jobs.append((sheets.write_night_sheets, (staging, schedule, nights), {"tz": tz, "site_name": plan.site.name}))
+        pointed = sheet_pointing.with_pointing_columns(schedule, plan.targets, plan.site)
+        jobs.append((sheets.write_night_sheets, (staging, pointed, nights), {"tz": tz, "site_name": plan.site.name}))
         jobs.append((ical.write_ics, (path("plan.ics"), schedule), {"site_name": plan.site.name}))
         if len(plan.never_rising):
             text = render(plan.never_rising.drop(columns="target_index"), "csv",
@@ -111,6 +113,7 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
             jobs.append((_write_text, (path("unobservable.csv"), text), {}))
         if summary_text is not None:
             jobs.append((_write_text, (path("summary.txt"), summary_text), {}))
+        jobs += week_page_jobs(plan, path, made)
         _draw(jobs, workers)
         final = []
         for name in made:
@@ -151,6 +154,19 @@ def chart_jobs(plan, path) -> list[tuple]:
         if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
             jobs.append((charts.write_rv_chart, (path(f"rv-{safe_file_name(str(target['name']))}.png"), target,
                                                  schedule[schedule["target_index"] == ti]), {}))
+    return jobs
+
+
+def week_page_jobs(plan, path, made) -> list[tuple]:
+    """``index.html`` and the target pages as text-writing jobs, built here (they link to ``made``)."""
+    from . import week_page
+
+    files = list(made) + week_page.page_files(plan)
+    ids = sorted(set(plan.schedule["target_index"].astype(int))) if len(plan.schedule) else []
+    jobs = [(_write_text, (path("index.html"), week_page.index_html(plan, files)), {})]
+    for i in ids:
+        name = week_page.page_name(plan.targets["name"].iloc[i])
+        jobs.append((_write_text, (path(name), week_page.target_html(plan, i, files)), {}))
     return jobs
 
 
