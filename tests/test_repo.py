@@ -25,3 +25,10 @@ def test_readme_states_the_safety_caution():
     text = (REPO / "README.md").read_text()
     assert "Never point a telescope at or near the Sun" in text
     assert "local regulations" in text
+
+
+def test_ci_installs_the_browser_test_tools_on_a_fresh_machine():
+    # tests/test_browser.py fails (not skips) under CI=true without them, so .ci/run must bring them
+    script = (REPO / ".ci" / "run").read_text()
+    assert "apt-get update" in script and script.index("apt-get update") < script.index("apt-get install")
+    assert re.search(r"apt-get install .*chromium .*poppler-utils", script)

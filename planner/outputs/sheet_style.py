@@ -25,7 +25,7 @@ th, td { border-color: var(--line); }
 a { color: var(--fg); }
 .caution { border-color: var(--warn); }
 .block { border-left-color: var(--accent); }
-.sky th, .sky td:first-child, .sky td:nth-child(2), .sky td:nth-child(3) { white-space: nowrap; }
+.sky th, .sky td:first-child, .sky tr:not(:last-child) td { white-space: nowrap; }
 .pointing { margin: 0.2em 0; }
 .pointing span { white-space: nowrap; margin-right: 1.2em; }
 .view-switch { float: right; font: inherit; background: var(--bg); color: var(--fg);

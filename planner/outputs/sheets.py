@@ -243,7 +243,7 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
             out.append(f"<p>{e(detail)}</p>")
         point = sheet_pointing.pointing_items(b, tz)
         if point:
-            out.append('<p class="pointing">' + "".join(f"<span><strong>{e(k)}</strong> {e(v)}</span>"
+            out.append('<p class="pointing">' + " ".join(f"<span><strong>{e(k)}</strong> {e(v)}</span>"
                                                        for k, v in point) + "</p>")
         out.append(f"<p><strong>Do:</strong> {e(action(b))}.</p>")
         items = "".join(f"<li>{e(r)}</li>" for r in reasons(b))
