@@ -29,6 +29,7 @@ import tempfile
 import numpy as np
 
 from ..errors import PeriplanError
+from ..sky import windows
 
 #: Sample step (days) of the altitude curves in the night charts: 5 minutes.
 CHART_STEP_D = 5.0 / 1440.0
@@ -130,10 +131,12 @@ def chart_jobs(plan, path) -> list[tuple]:
     The astronomy (altitude curves) is done here, so a job only draws.
     """
     from . import charts
+    from .target_style import plan_styles
 
     schedule, nights, tz = plan.schedule, plan.nights, plan.site.timezone
+    styles = plan_styles(schedule["target"].astype(str)) if len(schedule) else {}  # one look in every chart
     jobs = [(charts.write_week_chart, (path("week.png"), schedule, nights),
-             {"tz": tz, "title": f"{plan.site.name}: the week's plan"})]
+             {"tz": tz, "title": f"{plan.site.name}: the week's plan", "styles": styles})]
     for _, night in nights.iterrows():
         blocks = schedule[schedule["night"].astype(str) == str(night["night"])]
         if blocks.empty:
@@ -142,18 +145,23 @@ def chart_jobs(plan, path) -> list[tuple]:
         end = night["sunrise_jd_utc"] if np.isfinite(night["sunrise_jd_utc"]) else night["next_noon_jd_utc"]
         t = np.arange(start - 1.0 / 24, end + 1.0 / 24 + CHART_STEP_D / 2, CHART_STEP_D)
         order = list(dict.fromkeys(blocks["target_index"].astype(int)))
-        alt = plan.altitude_deg(np.array(order)[:, None], t[None, :])
+        pos = windows.target_positions(plan.targets, plan.site, np.array(order)[:, None], t[None, :])
+        alt = pos.alt_deg
         names = [str(plan.targets["name"].iloc[i]) for i in order]
         jobs.append((charts.write_night_chart,
                      (path(f"altitude-{night['night']}.png"), night, t, alt, names, blocks,
                       plan.site.min_altitude_deg),
                      {"tz": tz, "title": f"{plan.site.name}, night of {night['night']}",
-                      "moon_alt_deg": plan.tracks.moon_altaz_deg(t)[0]}))
+                      "moon_alt_deg": plan.tracks.moon_altaz_deg(t)[0], "styles": styles, "az_deg": pos.az_deg,
+                      "ha_h": pos.ha_h, "site": plan.site}))
     for ti in sorted(set(schedule["target_index"].astype(int))) if len(schedule) else []:
         target = plan.targets.iloc[ti]
         if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
+            ev = plan.events[plan.events["target_index"].astype(int) == ti] if len(plan.events) else plan.events
+            sigma = ev.groupby("event")["sigma_d"].median().to_dict() if len(ev) else {}
             jobs.append((charts.write_rv_chart, (path(f"rv-{safe_file_name(str(target['name']))}.png"), target,
-                                                 schedule[schedule["target_index"] == ti]), {}))
+                                                 schedule[schedule["target_index"] == ti]),
+                         {"styles": styles, "event_sigma_d": sigma}))
     return jobs
 
 

@@ -16,7 +16,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 #: Our own palette, ordered so that consecutive colours alternate dark and light.
-COLOURS = ("#1f4e79", "#e08a00", "#2e7d4f", "#c44e8a", "#5b3a99", "#9bbb3b", "#8b2d1f", "#4fa3c7")
+COLOURS = ("#1f4e79", "#e08a00", "#5b3a99", "#9bbb3b", "#2e7d4f", "#4fa3c7", "#8b2d1f", "#c44e8a")
 #: Line styles (matplotlib spellings): solid, dashed, dash-dot, dotted, long dash.
 LINE_STYLES = ("-", "--", "-.", ":", (0, (8, 3)))
 #: Markers (matplotlib spellings): circle, square, triangle, diamond, cross, plus-filled.
