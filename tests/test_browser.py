@@ -59,6 +59,22 @@ def test_five_block_night_prints_on_one_a4_page(tmp_path):
     headless.screenshot(page, headless.artifact("night-five-blocks.png"))
 
 
+def test_a_night_mode_reader_still_prints_black_on_white(tmp_path):
+    from PIL import Image
+
+    page = tmp_path / "night.html"
+    page.write_text(sheets.night_sheet_html(NIGHT, five_blocks(), TZ))
+    pdf = headless.artifact("night-printed-from-dark.pdf")
+    headless.chromium(page.resolve().as_uri(), f"--print-to-pdf={pdf}", "--no-pdf-header-footer",
+                      "--force-dark-mode", "--blink-settings=preferredColorScheme=0")
+    import subprocess
+
+    subprocess.run([headless.need("pdftoppm"), "-r", "30", "-png", "-singlefile", str(pdf),
+                    str(tmp_path / "page")], check=True, timeout=60)
+    grey = np.asarray(Image.open(tmp_path / "page.png").convert("L"), float)
+    assert grey.mean() > 230  # a white page with black text (a night-mode page would be near 0)
+
+
 class _Links(html.parser.HTMLParser):
     def __init__(self):
         super().__init__()

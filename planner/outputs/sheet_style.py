@@ -14,29 +14,33 @@ from __future__ import annotations
 #: localStorage key of the reader's choice ("night" or "day").
 STORAGE_KEY = "periplan-view"
 
-CSS = """
-:root { --bg: #ffffff; --fg: #111111; --line: #999999; --accent: #1f5f8b; --warn: #b00000; }
-html.night { --bg: #000000; --fg: #c80000; --line: #5a0000; --accent: #8a0000; --warn: #ff3030; }
-@media (prefers-color-scheme: dark) {
-  html:not(.day) { --bg: #000000; --fg: #c80000; --line: #5a0000; --accent: #8a0000; --warn: #ff3030; }
-}
-html, body { background: var(--bg); color: var(--fg); }
-th, td { border-color: var(--line); }
-a { color: var(--fg); }
-.caution { border-color: var(--warn); }
-.block { border-left-color: var(--accent); }
+#: Colours of each view: page background, text, table lines, block accent, caution frame.
+DAY = {"bg": "#ffffff", "fg": "#111111", "line": "#999999", "accent": "#1f5f8b", "warn": "#b00000"}
+NIGHT = {"bg": "#000000", "fg": "#c80000", "line": "#5a0000", "accent": "#8a0000", "warn": "#ff3030"}
+PRINT = {"bg": "#ffffff", "fg": "#000000", "line": "#777777", "accent": "#000000", "warn": "#000000"}
+#: Dims the PNG charts to deep red in night mode.
+_RED_IMAGES = "filter: grayscale(1) brightness(0.55) sepia(1) hue-rotate(-45deg) saturate(6);"
+
+
+def colour_rules(scope: str, c: dict) -> str:
+    """CSS giving the elements under ``scope`` (a selector for ``html``) the colours ``c``."""
+    return (f"{scope}, {scope} body {{ background: {c['bg']}; color: {c['fg']}; }}\n"
+            f"{scope} th, {scope} td {{ border-color: {c['line']}; }}\n"
+            f"{scope} a {{ color: {c['fg']}; }}\n"
+            f"{scope} .caution {{ border-color: {c['warn']}; }}\n"
+            f"{scope} .block {{ border-left-color: {c['accent']}; }}\n"
+            f"{scope} .view-switch {{ background: {c['bg']}; color: {c['fg']}; border-color: {c['line']}; }}\n")
+
+
+CSS = (colour_rules("html", DAY) + colour_rules("html.night", NIGHT)
+       + "@media (prefers-color-scheme: dark) {\n" + colour_rules("html:not(.day)", NIGHT)
+       + f"html:not(.day) img {{ {_RED_IMAGES} }}\n}}\n" + f"html.night img {{ {_RED_IMAGES} }}\n" + """
 .sky th, .sky td:first-child, .sky tr:not(:last-child) td { white-space: nowrap; }
 .pointing { margin: 0.2em 0; }
 .pointing span { white-space: nowrap; margin-right: 1.2em; }
-.view-switch { float: right; font: inherit; background: var(--bg); color: var(--fg);
-  border: 1px solid var(--line); padding: 0.2em 0.7em; cursor: pointer; }
-html.night img { filter: grayscale(1) brightness(0.55) sepia(1) hue-rotate(-45deg) saturate(6); }
-@media (prefers-color-scheme: dark) {
-  html:not(.day) img { filter: grayscale(1) brightness(0.55) sepia(1) hue-rotate(-45deg) saturate(6); }
-}
+.view-switch { float: right; font: inherit; border: 1px solid; padding: 0.2em 0.7em; cursor: pointer; }
 @media print {
-  html, html.night, html:not(.day) { --bg: #ffffff; --fg: #000000; --line: #777777;
-    --accent: #000000; --warn: #000000; }
+""" + "".join(colour_rules(scope, PRINT) for scope in ("html", "html.night", "html:not(.day)")) + """
   html.night img, html:not(.day) img { filter: none; }
   .view-switch { display: none; }
   body { font-size: 8.5pt; line-height: 1.25; }
@@ -52,7 +56,7 @@ html.night img { filter: grayscale(1) brightness(0.55) sepia(1) hue-rotate(-45de
   .block li { display: inline; }
   .block li + li::before { content: " \\00b7 "; }
 }
-"""
+""")
 
 #: The switch button; its label says what a press gives.
 SWITCH_HTML = ('<button type="button" id="view-switch" class="view-switch" aria-pressed="false">'

@@ -29,9 +29,9 @@ from .sheets import CAUTION, _what
 PAGE_CSS = """
 body { font-family: "DejaVu Sans", Arial, sans-serif; margin: 1.5em; max-width: 72em; }
 table { border-collapse: collapse; margin: 0.5em 0 1em 0; }
-th, td { border: 1px solid var(--line); padding: 0.2em 0.5em; text-align: left; vertical-align: top; }
+th, td { border: 1px solid; padding: 0.2em 0.5em; text-align: left; vertical-align: top; }
 td.num { text-align: right; }
-.caution { border: 3px solid var(--warn); padding: 0.6em 0.8em; font-weight: bold; }
+.caution { border: 3px solid; padding: 0.6em 0.8em; font-weight: bold; }
 img { max-width: 100%; height: auto; }
 nav a { margin-right: 1em; }
 """
