@@ -106,6 +106,32 @@ def unscheduled_table(plan) -> pd.DataFrame:
                          "observable_fraction": frac, "reason": reason}, columns=cols)
 
 
+def _unscheduled_lines(plan, tz) -> list[str]:
+    """The table of what got no block: one row per target, event and reason.
+
+    Each row counts the windows, names the nights (first to last) and gives the best observable
+    fraction among them, so a catalogue of thousands of targets still gives a page of a length
+    one can read; the targets that never rise come last.
+    """
+    e = html.escape
+    un = unscheduled_table(plan)
+    rows = []
+    if len(un):
+        groups = un.groupby(["target", "event", "reason"], sort=False).agg(
+            windows=("night", "size"), first=("night", "min"), last=("night", "max"),
+            best=("observable_fraction", "max"))
+        g = groups.reset_index()
+        for t, ev, why, k, lo, hi, best in zip(g["target"], g["event"], g["reason"], g["windows"], g["first"],
+                                               g["last"], g["best"]):
+            rows.append([e(str(t)), e(str(ev).replace("_", " ")), f'<td class="num">{k}</td>',
+                         e(lo if lo == hi else f"{lo} to {hi}"), f'<td class="num">{100 * best:.0f}%</td>', e(str(why))])
+    for t, r in zip(plan.never_rising["target"], plan.never_rising["reason"]):
+        rows.append([e(str(t)), "every event", "", "", '<td class="num">0%</td>', e(f"never rises high enough: {r}")])
+    if not rows:
+        return ["<p>Every event window of the nights got a block.</p>"]
+    return _table(["target", "event", "windows", "nights", "best observable", "reason"], rows)
+
+
 def index_html(plan, files) -> str:
     """``index.html`` of a plan; ``files`` are the names of the plan's files (for the links)."""
     e = html.escape
@@ -147,14 +173,7 @@ def index_html(plan, files) -> str:
         rows.append(cells)
     body += _table(header, rows) if rows else ["<p>No block could be scheduled in these nights.</p>"]
     body.append('<h2 id="unscheduled">Not scheduled, and why</h2>')
-    un = unscheduled_table(plan)
-    rows = [[e(str(r["night"])), e(str(r["target"])), e(str(r["event"]).replace("_", " ")),
-             e(_local(r["event_jd_utc"], tz)), f'<td class="num">{100 * r["observable_fraction"]:.0f}%</td>',
-             e(str(r["reason"]))] for _, r in un.iterrows()]
-    for _, r in plan.never_rising.iterrows():
-        rows.append(["", e(str(r["target"])), "every event", "", '<td class="num">0%</td>', e(str(r["reason"]))])
-    body += (_table(["night", "target", "event", "event time (local)", "observable", "reason"], rows) if rows
-             else ["<p>Every event window of the nights got a block.</p>"])
+    body += _unscheduled_lines(plan, tz)
     body.append('<h2 id="targets">Targets with blocks</h2><ul>')
     for nm in sorted(set(sched["target"].astype(str))) if len(sched) else []:
         body.append(f'<li><a href="{e(page_name(nm))}">{e(nm)}</a></li>')
@@ -180,16 +199,29 @@ def target_html(plan, target_index: int, files) -> str:
     sched = plan.schedule[plan.schedule["target_index"].astype(int) == target_index] if len(plan.schedule) \
         else plan.schedule
     body.append('<h2 id="events">Events in these nights</h2>')
+    ev = ev.sort_values("jd_utc")
+    jd = ev["jd_utc"].to_numpy(float)
+    when = clock.jd_utc_to_local_iso(jd, tz) if len(ev) else []
+    s0, s1 = sched["start_jd_utc"].to_numpy(float), sched["end_jd_utc"].to_numpy(float)
+    s_event = sched["event"].astype(str).to_numpy()
+    s_start = clock.jd_utc_to_local_iso(s0, tz) if len(sched) else []
+    s_end = clock.jd_utc_to_local_iso(s1, tz) if len(sched) else []
+    s_night = sched["night"].astype(str).to_numpy()
     rows = []
-    for _, r in ev.sort_values("jd_utc").iterrows():
-        mine = sched[(sched["event"].astype(str) == str(r["event"])) & (sched["start_jd_utc"] <= r["window_end_jd_utc"])
-                     & (sched["end_jd_utc"] >= r["window_start_jd_utc"])] if len(sched) else sched
-        block = (f'<a href="night-{e(str(mine["night"].iloc[0]))}.html">block {e(_local(mine["start_jd_utc"].iloc[0], tz)[11:])}'
-                 f'-{e(_local(mine["end_jd_utc"].iloc[0], tz)[11:])}</a>' if len(mine) else "not scheduled")
-        sig = r["sigma_d"] * MIN_PER_DAY
-        rows.append([e(str(r["night"])), e(str(r["event"]).replace("_", " ")), e(_local(r["jd_utc"], tz)),
+    for night, event, w, sig_d, frac, w0, w1 in zip(ev["night"].astype(str), ev["event"].astype(str), when,
+                                                   ev["sigma_d"].to_numpy(float), ev["observable_fraction"],
+                                                   ev["window_start_jd_utc"].to_numpy(float),
+                                                   ev["window_end_jd_utc"].to_numpy(float)):
+        mine = np.flatnonzero((s_event == event) & (s0 <= w1) & (s1 >= w0))
+        if mine.size:
+            k = mine[0]
+            block = f'<a href="night-{e(s_night[k])}.html">block {e(s_start[k][11:16])}-{e(s_end[k][11:16])}</a>'
+        else:
+            block = "not scheduled"
+        sig = sig_d * MIN_PER_DAY
+        rows.append([e(night), e(event.replace("_", " ")), e(str(w)[:16].replace("T", " ")),
                      f'<td class="num">{sig:.1f}</td>' if np.isfinite(sig) else "",
-                     f'<td class="num">{100 * r["observable_fraction"]:.0f}%</td>', block])
+                     f'<td class="num">{100 * frac:.0f}%</td>', block])
     body += (_table(["night", "event", "time (local)", "1 sigma (min)", "observable", "block"], rows) if rows
              else ["<p>No event of this target falls in these nights.</p>"])
     flex = sched[sched["kind"] == "flexible"] if len(sched) else sched
