@@ -101,6 +101,7 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
     try:
         schedule, nights = plan.schedule, plan.nights
         jobs = chart_jobs(plan, path)  # the slow ones first, so both workers stay busy
+        jobs += week_page_jobs(plan, path, made)
         jobs.append((sheets.write_schedule_csv, (path("schedule.csv"), schedule), {"tz": tz}))
         for label in nights["night"].astype(str):
             for ext in ("txt", "html"):
@@ -114,7 +115,6 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
             jobs.append((_write_text, (path("unobservable.csv"), text), {}))
         if summary_text is not None:
             jobs.append((_write_text, (path("summary.txt"), summary_text), {}))
-        jobs += week_page_jobs(plan, path, made)
         _draw(jobs, workers)
         final = []
         for name in made:
@@ -166,16 +166,24 @@ def chart_jobs(plan, path) -> list[tuple]:
 
 
 def week_page_jobs(plan, path, made) -> list[tuple]:
-    """``index.html`` and the target pages as text-writing jobs, built here (they link to ``made``)."""
+    """``index.html`` and the target pages as one job (they link to the files in ``made``).
+
+    The job gets only the tables the pages read (they pickle quickly), so a worker process
+    builds the pages while the other draws charts.
+    """
+    import types
+
     from . import week_page
 
-    files = list(made) + week_page.page_files(plan)
-    ids = sorted(set(plan.schedule["target_index"].astype(int))) if len(plan.schedule) else []
-    jobs = [(_write_text, (path("index.html"), week_page.index_html(plan, files)), {})]
-    for i in ids:
-        name = week_page.page_name(plan.targets["name"].iloc[i])
-        jobs.append((_write_text, (path(name), week_page.target_html(plan, i, files)), {}))
-    return jobs
+    names = week_page.page_files(plan)
+    staging = os.path.dirname(path(names[0]))
+    for name in names[1:]:
+        path(name)
+    parts = types.SimpleNamespace(site=plan.site, targets=plan.targets, nights=plan.nights, events=plan.events,
+                                  schedule=plan.schedule, never_rising=plan.never_rising,
+                                  **({"unscheduled": plan.unscheduled} if hasattr(plan, "unscheduled") else {}))
+    # ``made`` itself: the files named after this call (sheets, calendar) are in it when the job runs
+    return [(week_page.write_week_pages, (staging, parts, made), {})]
 
 
 def _write_text(path, text):
