@@ -144,3 +144,15 @@ def test_an_index_html_alone_counts_as_a_plan(tmp_path):
     (tmp_path / "index.html").write_text("x")
     (tmp_path / "target-A.html").write_text("x")
     assert plan_folder.existing_plan_files(tmp_path) == ["index.html", "target-A.html"]
+
+
+def test_a_small_observable_fraction_is_never_shown_as_zero():
+    assert week_page._percent(0.0) == "0%" and week_page._percent(0.002) == "<1%" and week_page._percent(0.37) == "37%"
+
+
+def test_week_page_tables_name_events_in_words(week):
+    _, out = week
+    page = (out / "index.html").read_text()
+    cells = re.findall(r"<td>([^<]*)</td>", page)
+    assert not [c for c in cells if "_" in c]  # primary conjunction, never primary_conjunction
+    assert "<1%" not in page  # escaped where shown

@@ -50,7 +50,7 @@ def draw_site_limits(ax, x_h, az_deg, ha_h, alt_deg, site, styles: dict, names) 
             above = np.where(limit > site.min_altitude_deg + 0.05, limit, np.nan)
             if np.isfinite(above).any():
                 ax.plot(x_h, above, color=st.colour, ls=st.linestyle, lw=0.9, alpha=0.75, gid="horizon",
-                        label=None if shown_horizon else "horizon at the target's azimuth")
+                        label=None if shown_horizon else "horizon at its azimuth")
                 shown_horizon = True
         outside = np.zeros(np.shape(ha), bool)
         if site.min_hour_angle_h is not None:
@@ -85,7 +85,7 @@ def draw_event_windows(ax, blocks, ref_jd, lo_h, hi_h, styles: dict) -> None:
             continue
         st = styles.get(b["target"])
         colour = st.colour if st else "#000000"
-        y = 3.0 + 3.5 * (row % 6)
+        y = 6.0 + 3.5 * (row % 6)
         row += 1
         ws = (b["window_start_jd_utc"] - ref_jd) * _HOURS_PER_DAY
         we = (b["window_end_jd_utc"] - ref_jd) * _HOURS_PER_DAY

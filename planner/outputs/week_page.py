@@ -24,7 +24,8 @@ from ..scheduling.blocks import MIN_PER_DAY
 from ..timescales import clock
 from . import sheet_style
 from .atomic import atomic_write
-from .sheets import CAUTION, _what
+from .chart_marks import event_words
+from .sheets import CAUTION
 
 PAGE_CSS = """
 body { font-family: "DejaVu Sans", Arial, sans-serif; margin: 1.5em; max-width: 72em; }
@@ -51,6 +52,11 @@ def _local(jd_utc, tz):
     return text[:16].replace("T", " ")
 
 
+def _percent(fraction) -> str:
+    """A fraction as a whole percentage; a small non-zero one as ``<1%`` (never a false 0%)."""
+    return "<1%" if 0 < fraction < 0.005 else f"{100 * fraction:.0f}%"
+
+
 def _page(title, body_lines):
     e = html.escape
     return "\n".join(["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
@@ -72,7 +78,7 @@ def _table(header, rows):
 def unscheduled_table(plan) -> pd.DataFrame:
     """Event windows of the nights that got no block, with the reason, one row each.
 
-    Columns ``night``, ``target``, ``event``, ``event_jd_utc``, ``observable_fraction``,
+    Columns ``night``, ``target``, ``event``, ``label``, ``event_jd_utc``, ``observable_fraction``,
     ``reason``. A plan that carries its own ``unscheduled`` table (with a ``reason`` column) is
     shown as it is; otherwise an event counts as scheduled when a block of its target and event
     holds its moment, and the reason is "not observable" for a window with no observable part
@@ -83,7 +89,7 @@ def unscheduled_table(plan) -> pd.DataFrame:
     if isinstance(own, pd.DataFrame) and "reason" in own:
         return own
     ev, sched = plan.events, plan.schedule
-    cols = ["night", "target", "event", "event_jd_utc", "observable_fraction", "reason"]
+    cols = ["night", "target", "event", "label", "event_jd_utc", "observable_fraction", "reason"]
     if ev is None or ev.empty:
         return pd.DataFrame(columns=cols)
     done = np.zeros(len(ev), bool)
@@ -102,7 +108,8 @@ def unscheduled_table(plan) -> pd.DataFrame:
                       "the site's limits")
     names = plan.targets["name"].to_numpy(object)[rest["target_index"].to_numpy(int)]
     return pd.DataFrame({"night": rest["night"].astype(str).to_numpy(), "target": names,
-                         "event": rest["event"].astype(str).to_numpy(), "event_jd_utc": rest["jd_utc"].to_numpy(float),
+                         "event": rest["event"].astype(str).to_numpy(), "label": rest["label"].to_numpy(object),
+                         "event_jd_utc": rest["jd_utc"].to_numpy(float),
                          "observable_fraction": frac, "reason": reason}, columns=cols)
 
 
@@ -117,14 +124,15 @@ def _unscheduled_lines(plan, tz) -> list[str]:
     un = unscheduled_table(plan)
     rows = []
     if len(un):
-        groups = un.groupby(["target", "event", "reason"], sort=False).agg(
+        un = un.assign(what=[event_words(ev, lab) for ev, lab in zip(un["event"], un.get("label", un["event"]))])
+        groups = un.groupby(["target", "what", "reason"], sort=True).agg(
             windows=("night", "size"), first=("night", "min"), last=("night", "max"),
             best=("observable_fraction", "max"))
         g = groups.reset_index()
-        for t, ev, why, k, lo, hi, best in zip(g["target"], g["event"], g["reason"], g["windows"], g["first"],
-                                               g["last"], g["best"]):
-            rows.append([e(str(t)), e(str(ev).replace("_", " ")), f'<td class="num">{k}</td>',
-                         e(lo if lo == hi else f"{lo} to {hi}"), f'<td class="num">{100 * best:.0f}%</td>', e(str(why))])
+        for t, what, why, k, lo, hi, best in zip(g["target"], g["what"], g["reason"], g["windows"], g["first"],
+                                                 g["last"], g["best"]):
+            rows.append([e(str(t)), e(what), f'<td class="num">{k}</td>',
+                         e(lo if lo == hi else f"{lo} to {hi}"), f'<td class="num">{e(_percent(best))}</td>', e(str(why))])
     for t, r in zip(plan.never_rising["target"], plan.never_rising["reason"]):
         rows.append([e(str(t)), "every event", "", "", '<td class="num">0%</td>', e(f"never rises high enough: {r}")])
     if not rows:
@@ -166,7 +174,7 @@ def index_html(plan, files) -> str:
     for _, b in sched.iterrows():
         cells = [f'<a href="#night-{e(str(b["night"]))}">{e(str(b["night"]))}</a>', e(_local(b["start_jd_utc"], tz)[11:]),
                  e(_local(b["end_jd_utc"], tz)[11:]), f'<a href="{e(page_name(b["target"]))}">{e(str(b["target"]))}</a>',
-                 e(_what(b))]
+                 e(event_words(b["event"], b["label"]))]
         if has_covers:
             cells.append(e(str(b["covers"])) if isinstance(b["covers"], str) else "")
         cells.append(f'<td class="num">{b["score"]:.1f}</td>')
@@ -208,7 +216,8 @@ def target_html(plan, target_index: int, files) -> str:
     s_end = clock.jd_utc_to_local_iso(s1, tz) if len(sched) else []
     s_night = sched["night"].astype(str).to_numpy()
     rows = []
-    for night, event, w, sig_d, frac, w0, w1 in zip(ev["night"].astype(str), ev["event"].astype(str), when,
+    for night, event, label, w, sig_d, frac, w0, w1 in zip(ev["night"].astype(str), ev["event"].astype(str),
+                                                          ev["label"], when,
                                                    ev["sigma_d"].to_numpy(float), ev["observable_fraction"],
                                                    ev["window_start_jd_utc"].to_numpy(float),
                                                    ev["window_end_jd_utc"].to_numpy(float)):
@@ -219,9 +228,9 @@ def target_html(plan, target_index: int, files) -> str:
         else:
             block = "not scheduled"
         sig = sig_d * MIN_PER_DAY
-        rows.append([e(night), e(event.replace("_", " ")), e(str(w)[:16].replace("T", " ")),
+        rows.append([e(night), e(event_words(event, label)), e(str(w)[:16].replace("T", " ")),
                      f'<td class="num">{sig:.1f}</td>' if np.isfinite(sig) else "",
-                     f'<td class="num">{100 * frac:.0f}%</td>', block])
+                     f'<td class="num">{e(_percent(frac))}</td>', block])
     body += (_table(["night", "event", "time (local)", "1 sigma (min)", "observable", "block"], rows) if rows
              else ["<p>No event of this target falls in these nights.</p>"])
     flex = sched[sched["kind"] == "flexible"] if len(sched) else sched
