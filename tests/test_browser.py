@@ -170,7 +170,34 @@ def test_night_mode_switch_changes_the_computed_colours(tmp_path):
                         "--blink-settings=preferredColorScheme=0")
 
 
+LOOK = """<script>
+document.addEventListener("DOMContentLoaded", function () {
+  document.body.setAttribute("data-now", getComputedStyle(document.body).backgroundColor);
+});
+</script>"""
+
+
+def test_the_night_mode_choice_is_remembered_for_the_next_page(tmp_path):
+    sheet = sheets.night_sheet_html(NIGHT, five_blocks(), TZ)
+    first, later = tmp_path / "night-1.html", tmp_path / "night-2.html"
+    first.write_text(sheet.replace("</body>", PROBE + "</body>"))
+    later.write_text(sheet.replace("</body>", LOOK + "</body>"))
+    profile = tmp_path / "profile"
+    assert _rgb(_parse_body(headless.dump_dom(later, profile=profile))["data-now"])[0] == (255, 255, 255)
+    headless.dump_dom(first, profile=profile)  # the reader presses the switch here
+    assert _rgb(_parse_body(headless.dump_dom(later, profile=profile))["data-now"])[0] == (0, 0, 0)
+
+
 def _parse_body(dom):
     m = re.search(r"<body([^>]*)>", dom)
     assert m, "no body in the dumped DOM"
     return dict(re.findall(r'(data-[a-z]+)="([^"]*)"', m.group(1)))
+
+
+def test_a_missing_browser_fails_under_ci_and_is_skipped_with_its_reason_elsewhere(monkeypatch):
+    monkeypatch.setenv("CI", "true")
+    with pytest.raises(pytest.fail.Exception, match="not installed"):
+        headless.need("periplan-no-such-browser")
+    monkeypatch.setenv("CI", "")
+    with pytest.raises(pytest.skip.Exception, match="not installed"):
+        headless.need("periplan-no-such-browser")
