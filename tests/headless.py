@@ -33,15 +33,11 @@ def need(program: str) -> str:
     pytest.skip(message)
 
 
-def chromium(url: str, *extra: str, profile=None) -> subprocess.CompletedProcess:
-    """Run Chromium once on ``url``; returns the finished process.
-
-    ``profile`` is a user-data folder to keep between runs (what a reader's browser remembers);
-    by default each run gets a new empty one.
-    """
+def chromium(url: str, *extra: str) -> subprocess.CompletedProcess:
+    """Run Chromium once on ``url`` with a new empty profile; returns the finished process."""
     exe = need("chromium")
-    with tempfile.TemporaryDirectory(prefix="periplan-chromium-") as fresh:
-        proc = subprocess.run([exe, *FLAGS, f"--user-data-dir={profile or fresh}", *extra, url],
+    with tempfile.TemporaryDirectory(prefix="periplan-chromium-") as profile:
+        proc = subprocess.run([exe, *FLAGS, f"--user-data-dir={profile}", *extra, url],
                               capture_output=True, text=True, timeout=TIMEOUT_S)
     assert proc.returncode == 0, f"chromium failed ({proc.returncode}): {proc.stderr[-1500:]}"
     return proc
@@ -62,9 +58,9 @@ def screenshot(page: pathlib.Path, png: pathlib.Path, size=(1100, 1500), *extra:
     assert png.is_file() and png.stat().st_size > 0
 
 
-def dump_dom(page: pathlib.Path, *extra: str, profile=None) -> str:
+def dump_dom(page: pathlib.Path, *extra: str) -> str:
     """The page's DOM after its scripts ran (Chromium's --dump-dom)."""
-    return chromium(page.resolve().as_uri(), "--dump-dom", "--virtual-time-budget=2000", *extra, profile=profile).stdout
+    return chromium(page.resolve().as_uri(), "--dump-dom", "--virtual-time-budget=2000", *extra).stdout
 
 
 def pdf_info(pdf: pathlib.Path) -> dict:

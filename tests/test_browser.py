@@ -177,15 +177,16 @@ document.addEventListener("DOMContentLoaded", function () {
 </script>"""
 
 
-def test_the_night_mode_choice_is_remembered_for_the_next_page(tmp_path):
+def test_a_saved_choice_is_taken_up_by_the_next_page(tmp_path):
+    # what the switch saved (test above) is what the next page reads first, before it is drawn; the
+    # saved value is put in place here, since Chromium may stop before writing its storage to disk
     sheet = sheets.night_sheet_html(NIGHT, five_blocks(), TZ)
-    first, later = tmp_path / "night-1.html", tmp_path / "night-2.html"
-    first.write_text(sheet.replace("</body>", PROBE + "</body>"))
-    later.write_text(sheet.replace("</body>", LOOK + "</body>"))
-    profile = tmp_path / "profile"
-    assert _rgb(_parse_body(headless.dump_dom(later, profile=profile))["data-now"])[0] == (255, 255, 255)
-    headless.dump_dom(first, profile=profile)  # the reader presses the switch here
-    assert _rgb(_parse_body(headless.dump_dom(later, profile=profile))["data-now"])[0] == (0, 0, 0)
+    for saved, bg in (("night", (0, 0, 0)), ("day", (255, 255, 255))):
+        page = tmp_path / f"next-{saved}.html"
+        seed = f'<head>\n<script>window.localStorage.setItem("periplan-view", "{saved}");</script>'
+        page.write_text(sheet.replace("<head>", seed, 1).replace("</body>", LOOK + "</body>"))
+        extra = ("--force-dark-mode", "--blink-settings=preferredColorScheme=0") if saved == "day" else ()
+        assert _rgb(_parse_body(headless.dump_dom(page, *extra))["data-now"])[0] == bg
 
 
 def _parse_body(dom):
