@@ -24,7 +24,7 @@ TIMEOUT_S = 120
 
 def need(program: str) -> str:
     """Path of ``program``; fails under CI when it is missing, else skips the test."""
-    path = shutil.which(program) or (f"/usr/bin/{program}" if os.path.exists(f"/usr/bin/{program}") else None)
+    path = shutil.which(program)
     if path:
         return path
     message = f"{program} is not installed (Debian packages chromium and poppler-utils; .ci/run installs them)"
