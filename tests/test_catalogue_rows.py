@@ -12,6 +12,7 @@ Tc = 2454387.49375 BJD; coordinates 16:20:36.36 +41:02:53.1 (from memory).
 import codecs
 import csv
 import io
+import re
 
 import numpy as np
 import pandas as pd
@@ -132,5 +133,5 @@ def test_magnitude_column_shown_on_the_nightly_sheets(tmp_path):
     schedule = pd.DataFrame([block(0.3, 0.4, "HAT-P-2 b")])
     paths = sheets.write_night_sheets(tmp_path, schedule, pd.DataFrame([NIGHT]), targets=targets)
     for path in paths:
-        text = open(path, encoding="utf-8").read()
-        assert "HAT-P-2 b (vmag 8.7): primary conjunction" in text
+        text = re.sub(r"<[^>]+>", "", open(path, encoding="utf-8").read())  # the HTML sheet's words
+        assert "vmag 8.7" in text and "HAT-P-2 b: primary conjunction" in text

@@ -83,7 +83,7 @@ def test_night_without_the_asked_darkness_names_it(alt, name, limit):
     empty = pd.DataFrame(columns=list(schedule.SCHEDULE_COLUMNS))
     text = sheets.night_sheet_text(night, empty, site.timezone)
     assert f"No {name} this night" in text
-    assert f"The Sun stays less than {limit} deg below the horizon." in text
+    assert f"The Sun stays less than {limit} deg below the horizon." in " ".join(text.split())  # lines wrap
     summary = sheets.week_summary_text(empty, pd.DataFrame([night]), site.timezone)
     assert f"no {name}" in summary
     week = charts.week_figure(empty, pd.DataFrame([night]), tz=site.timezone)

@@ -76,7 +76,7 @@ def test_plan_says_no_uncertainty_given_on_every_output_and_notes_it_once(tmp_pa
     assert len(mine) > 0  # the test needs a scheduled block of the target without errors
     assert mine["event_sigma_min"].isna().all()
     assert np.allclose(mine["pts_timing"], 5.0)  # 10 points x the neutral 0.5
-    sheets_text = "".join(p.read_text() for p in sorted(out.glob("night-*.txt")))
+    sheets_text = " ".join(" ".join(p.read_text().split()) for p in sorted(out.glob("night-*.txt")))  # lines wrap
     assert "+- 0.0 min" not in sheets_text
     assert "no uncertainty given" in sheets_text
     assert "timing: no uncertainty given, neutral value 0.5 (5.0)" in sheets_text

@@ -154,3 +154,10 @@ def test_the_package_raises_its_own_errors_and_never_swallows_one():
                 if node.type is None or (broad and silent):
                     found.append(f"{rel}:{node.lineno} silent or bare except")
     assert not found
+
+
+def test_ci_installs_the_browser_test_tools_on_a_fresh_machine():
+    # tests/test_browser.py fails (not skips) under CI=true without them, so .ci/run must bring them
+    script = (REPO / ".ci" / "run").read_text()
+    assert "apt-get update" in script and script.index("apt-get update") < script.index("apt-get install")
+    assert re.search(r"apt-get install .*chromium .*poppler-utils", script)

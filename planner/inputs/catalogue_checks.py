@@ -332,6 +332,7 @@ def check_observing(cells: Cells) -> dict:
         "priority": cells.numeric("priority", default=1.0, positive=True),
         "visit_h": cells.numeric("visit_h", positive=True),
         "visit_gap_h": cells.numeric("visit_gap_h", default=0.0, nonnegative=True),
+        "mag": cells.numeric("mag"),  # brightness for the sheets only, in the observer's band
     }
 
 

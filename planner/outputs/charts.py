@@ -21,6 +21,7 @@ import pandas as pd
 from ..errors import PeriplanError
 from ..sky.night import darkness_of
 from ..timescales import clock
+from . import chart_marks, target_style
 from .atomic import atomic_write
 
 #: Our own palette: distinguishable on screen and in grey print, one colour per target in a chart.
@@ -90,7 +91,8 @@ def _shade_night(ax, night, to_h, lo_h, hi_h, y0=None, y1=None, label=True):
 
 
 def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_alt_deg: float,
-                 tz: str | None = None, title: str | None = None, moon_alt_deg=None):
+                 tz: str | None = None, title: str | None = None, moon_alt_deg=None, styles=None, az_deg=None,
+                 ha_h=None, site=None):
     """Altitude against time for the night's scheduled targets: a matplotlib Figure.
 
     Parameters
@@ -103,6 +105,10 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     min_alt_deg : the site's minimum altitude, drawn as a dashed line
     tz : IANA zone; local clock hours on the top axis
     moon_alt_deg : optional (m,) altitude of the Moon at the same times, drawn grey and dotted
+    styles : ``{name: TargetStyle}`` of the whole plan (default: assigned from ``names``)
+    az_deg, ha_h, site : optional (k, m) azimuth and hour angle of the targets and the
+        :class:`~planner.inputs.site.Site`: then the site's limits are drawn along each track
+        (:func:`planner.outputs.chart_marks.draw_site_limits`)
 
     Drawn: dark time and twilight shaded, one curve per target (thin), the scheduled block on it
     (thick), each fixed block's event window as a bracket with the event time as a diamond, the
@@ -122,9 +128,12 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     ax = fig.add_subplot()
     lo_h, hi_h = (float(x.min()), float(x.max())) if x.size else (12.0, 36.0)
     _shade_night(ax, night, lambda v: (v - ref) * _HOURS_PER_DAY, lo_h, hi_h)
-    colour = {nm: PALETTE[i % len(PALETTE)] for i, nm in enumerate(names)}
+    styles = styles or target_style.plan_styles(names)
+    colour = {nm: styles[nm].colour for nm in names}
     for nm, a in zip(names, alt):
-        ax.plot(x, a, color=colour[nm], lw=1.2, label=str(nm), gid="curve")
+        ax.plot(x, a, lw=1.2, label=str(nm), gid="curve", **styles[nm].line_kwargs())
+    if site is not None and az_deg is not None and ha_h is not None:
+        chart_marks.draw_site_limits(ax, x, np.atleast_2d(az_deg), np.atleast_2d(ha_h), alt, site, styles, names)
     ax.axhline(min_alt_deg, color="#333333", lw=1.0, ls="--", label=f"altitude limit {min_alt_deg:g} deg", gid="limit")
     if moon_alt_deg is not None:
         lit = night["moon_illumination"] if "moon_illumination" in night else np.nan
@@ -138,16 +147,7 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
         row = names.index(b["target"]) if b["target"] in names else None
         if row is not None and inside.any():
             ax.plot(x[inside], alt[row][inside], color=c, lw=4.5, alpha=0.8, solid_capstyle="butt", gid="block")
-        if b["kind"] == "fixed" and np.isfinite(b["window_start_jd_utc"]):
-            y = 3.0 + 3.5 * (j % 6)
-            ws, we = (b["window_start_jd_utc"] - ref) * 24, (b["window_end_jd_utc"] - ref) * 24
-            ax.plot([ws, we], [y, y], color=c, lw=2.0, marker="|", markersize=10, gid="window")
-            if np.isfinite(b["event_jd_utc"]):
-                xe_ = (b["event_jd_utc"] - ref) * 24
-                ax.plot([xe_], [y], marker="D", color=c, markersize=6, ls="none", gid="event")
-            what = b["label"] if isinstance(b["label"], str) and b["label"] else b["event"]
-            ax.annotate(f"{b['target']} {what}", (ws, y), xytext=(0, 3),
-                        textcoords="offset points", fontsize=7, color=c)
+    chart_marks.draw_event_windows(ax, blocks, ref, lo_h, hi_h, styles)
     ax.set_ylim(0, 90)
     ax.set_xlim(lo_h, hi_h)
     ax.set_ylabel("altitude (deg)")
@@ -179,13 +179,14 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
 
 
 def write_night_chart(path, night, times_jd_utc, alt_deg, names, blocks, min_alt_deg, tz=None, title=None,
-                      moon_alt_deg=None):
-    """PNG of :func:`night_figure` at ``path`` (atomic); returns ``path``."""
+                      moon_alt_deg=None, **marks):
+    """PNG of :func:`night_figure` at ``path`` (atomic); returns ``path``. ``marks``: its styles, az_deg, ha_h, site."""
     return save_png(night_figure(night, times_jd_utc, alt_deg, names, blocks, min_alt_deg, tz, title,
-                                 moon_alt_deg), path)
+                                 moon_alt_deg, **marks), path)
 
 
-def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None, title: str | None = None):
+def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None, title: str | None = None,
+                styles=None):
     """Overview of the week's blocks, one row per night: a matplotlib Figure.
 
     x is the clock time of the night (local with ``tz``, else UTC), read from the zone's rules at
@@ -200,7 +201,8 @@ def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = N
     fig = _figure(10.0, 1.0 + 0.55 * max(n, 1), margins_in=(1.05, 0.2, 0.35, 0.5))
     ax = fig.add_subplot()
     targets = sorted(set(schedule["target"].astype(str))) if len(schedule) else []
-    colour = {nm: PALETTE[i % len(PALETTE)] for i, nm in enumerate(targets)}
+    styles = styles or target_style.plan_styles(targets)
+    colour = {nm: styles[nm].colour for nm in targets}
     spans = []
     for i, (_, night) in enumerate(nights.iterrows()):
         def to_h(v, day=str(night["night"])):
@@ -239,12 +241,18 @@ def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = N
     return fig
 
 
-def write_week_chart(path, schedule, nights, tz=None, title=None):
+def write_week_chart(path, schedule, nights, tz=None, title=None, styles=None):
     """PNG of :func:`week_figure` at ``path`` (atomic); returns ``path``."""
-    return save_png(week_figure(schedule, nights, tz, title), path)
+    return save_png(week_figure(schedule, nights, tz, title, styles), path)
 
 
-def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600):
+#: K from which the RV chart is drawn in km/s rather than m/s (common practice: stellar binaries
+#: are quoted in km/s, planets in m/s; no single source).
+KMS_FROM_K_MS = 1000.0
+
+
+def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, styles=None, event_sigma_d=None,
+              logged_jd_utc=None):
     """Radial velocity of the primary over one orbit, with events and planned blocks: a Figure.
 
     ``target`` is one row of the catalogue table (needs ``tp_bjd_tdb``, ``period_d``, ``e``,
@@ -253,6 +261,9 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600):
     Each wanted orbital event is a dotted vertical line; each block a shaded span from its start
     to its end phase (UTC converted to BJD_TDB in the target's direction), labelled with its night,
     with a dot on the curve at the block's middle. Lines: the curve + one per event + one per block.
+    ``styles``: the plan's ``{name: TargetStyle}``; ``event_sigma_d``: ``{event: 1-sigma (days)}``
+    drawn as a band around each event's phase; ``logged_jd_utc``: times (UTC) of observations
+    already made, marked on the curve with crosses. The axis is in km/s when K >= 1 km/s.
     """
     from ..orbits import geometry
     from ..timescales.epochs import to_bjd_tdb
@@ -268,23 +279,29 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600):
     gamma = gamma if np.isfinite(gamma) else 0.0
     w = np.radians(w_deg)
     phase = np.linspace(0.0, 1.0, n_phase)
-    rv = geometry.radial_velocity(tp + phase * p, tp, p, e, w, k if known_k else 1.0, gamma)
+    scale = 1000.0 if known_k and abs(k) >= KMS_FROM_K_MS else 1.0
+    rv = geometry.radial_velocity(tp + phase * p, tp, p, e, w, k if known_k else 1.0, gamma) / scale
     fig = _figure(8.0, 4.2, margins_in=(0.85, 0.2, 0.35, 0.55))
     ax = fig.add_subplot()
-    ax.plot(phase, rv, color=PALETTE[0], lw=1.6, label="RV of the primary", gid="curve")
+    style = (styles or {}).get(str(target["name"])) or target_style.style_for_index(0)
+    ax.plot(phase, rv, lw=1.6, label="RV of the primary", gid="curve", **style.line_kwargs())
     ph_events = geometry.event_phases(e, w)
     wanted = target.get("events", geometry.ORBIT_EVENTS) or geometry.ORBIT_EVENTS
     for i, name in enumerate(geometry.ORBIT_EVENTS):
         if name not in wanted:
             continue
         ax.axvline(ph_events[i], color=PALETTE[1 + i % (len(PALETTE) - 1)], lw=1.0, ls=":", gid=f"event:{name}")
-        ax.annotate(name.replace("_", " "), (ph_events[i], 1.0), xycoords=("data", "axes fraction"),
+        sig_d = (event_sigma_d or {}).get(name, np.nan)
+        sig_text = (f", 1 sigma {sig_d * 1440:.1f} min" if sig_d * 1440 < 120 else f", 1 sigma {sig_d * 24:.1f} h") \
+            if np.isfinite(sig_d) else ""
+        ax.annotate(chart_marks.event_words(name) + sig_text, (ph_events[i], 1.0), xycoords=("data", "axes fraction"),
                     xytext=(2, -4), textcoords="offset points", rotation=90, va="top", fontsize=7)
+        chart_marks.draw_timing_bands(ax, [ph_events[i]], [sig_d / p], [PALETTE[1 + i % (len(PALETTE) - 1)]])
     if len(blocks):
         ra, dec = float(target["ra_deg"]), float(target["dec_deg"])
         s = to_bjd_tdb(blocks["start_jd_utc"].to_numpy(float), "JD_UTC", ra, dec)
         en = to_bjd_tdb(blocks["end_jd_utc"].to_numpy(float), "JD_UTC", ra, dec)
-        for (_, b), s_b, e_b in zip(blocks.iterrows(), s, en):
+        for j, ((_, b), s_b, e_b) in enumerate(zip(blocks.iterrows(), s, en)):
             p0 = np.mod((s_b - tp) / p, 1.0)
             width = min((e_b - s_b) / p, 1.0)
             pieces = [(p0, min(p0 + width, 1.0))] + ([(0.0, p0 + width - 1.0)] if p0 + width > 1.0 else [])
@@ -292,20 +309,29 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600):
                 ax.axvspan(a, max(z, a + 0.002), color="#d08c00", alpha=0.35, lw=0, gid="block")
             mid_bjd = 0.5 * (s_b + e_b)
             mid_ph = np.mod((mid_bjd - tp) / p, 1.0)
-            mid_rv = geometry.radial_velocity(mid_bjd, tp, p, e, w, k if known_k else 1.0, gamma)
-            ax.plot([mid_ph], [mid_rv], marker="o", color="#d08c00", markeredgecolor="black", ls="none",
-                    gid="planned")
+            mid_rv = geometry.radial_velocity(mid_bjd, tp, p, e, w, k if known_k else 1.0, gamma) / scale
+            ax.plot([mid_ph], [mid_rv], marker=style.marker, color="#d08c00", markeredgecolor="black", ls="none",
+                    markersize=7, gid="planned", label="planned (block middle)" if j == 0 else None)
             ax.annotate(str(b["night"]), (p0, 0.02), xycoords=("data", "axes fraction"), fontsize=7,
                         rotation=90, va="bottom")
+    if logged_jd_utc is not None and len(logged_jd_utc):
+        ra, dec = float(target["ra_deg"]), float(target["dec_deg"])
+        t_log = to_bjd_tdb(np.asarray(logged_jd_utc, float), "JD_UTC", ra, dec)
+        rv_log = geometry.radial_velocity(t_log, tp, p, e, w, k if known_k else 1.0, gamma) / scale
+        ax.plot(np.mod((t_log - tp) / p, 1.0), rv_log, marker="x", color="black", ms=7, mew=1.6, ls="none",
+                gid="logged", label="logged")
     ax.set_xlim(0.0, 1.0)
     ax.set_xlabel("orbital phase after periastron (mean anomaly / 2 pi)")
-    ax.set_ylabel("radial velocity (m/s)" if known_k else "radial velocity / K (K not in catalogue)")
+    unit = "km/s" if scale == 1000.0 else "m/s"
+    ax.set_ylabel(f"radial velocity ({unit})" if known_k else "radial velocity / K (K not in catalogue)")
+    if len(blocks) or (logged_jd_utc is not None and len(logged_jd_utc)):
+        ax.legend(loc="lower right", fontsize=7, frameon=False)
     ax.grid(alpha=0.3, lw=0.5)
     ax.set_title(f"{target['name']}: RV over one orbit (P = {p:.4g} d, e = {e:.3g}); shaded = planned blocks",
                  fontsize=10)
     return fig
 
 
-def write_rv_chart(path, target, blocks, n_phase: int = 600):
-    """PNG of :func:`rv_figure` at ``path`` (atomic); returns ``path``."""
-    return save_png(rv_figure(target, blocks, n_phase), path)
+def write_rv_chart(path, target, blocks, n_phase: int = 600, **marks):
+    """PNG of :func:`rv_figure` at ``path`` (atomic); returns ``path``. ``marks``: styles, event_sigma_d, logged_jd_utc."""
+    return save_png(rv_figure(target, blocks, n_phase, **marks), path)

@@ -40,13 +40,15 @@ import tempfile
 import numpy as np
 
 from ..errors import PeriplanError
+from ..sky import windows
 
 #: Sample step (days) of the altitude curves in the night charts: 5 minutes.
 CHART_STEP_D = 5.0 / 1440.0
 #: The manifest: names of the files the plan in the folder wrote, one a line.
 MANIFEST_NAME = "plan-files.txt"
-FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt", "unobservable.csv", MANIFEST_NAME)
-_PLAN_FILE = re.compile(r"^(night-\d{4}-\d{2}-\d{2}\.(txt|html)|altitude-\d{4}-\d{2}-\d{2}\.png|rv-.+\.png)$")
+FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt", "unobservable.csv", "index.html", MANIFEST_NAME)
+_PLAN_FILE = re.compile(r"^(night-\d{4}-\d{2}-\d{2}\.(txt|html)|altitude-\d{4}-\d{2}-\d{2}\.png|rv-.+\.png"
+                        r"|target-.+\.html)$")
 _MANIFEST_HEADER = ("# Files of the periplan plan in this folder. A forced re-run replaces exactly these;\n"
                     "# periplan never deletes a file that is not listed here.\n")
 
@@ -117,7 +119,7 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
     :class:`~planner.errors.PeriplanError` naming it, with ``out_dir`` left as it was. The
     returned paths end with the manifest's.
     """
-    from . import ical, sheets
+    from . import ical, sheet_pointing, sheets
     from .tables import render
 
     out_dir = os.fspath(out_dir)
@@ -146,12 +148,14 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
     try:
         schedule, nights = plan.schedule, plan.nights
         jobs = chart_jobs(plan, path)  # the slow ones first, so both workers stay busy
+        jobs += week_page_jobs(plan, path, made)
         jobs.append((sheets.write_schedule_csv, (path("schedule.csv"), schedule), {"tz": tz}))
         for label in nights["night"].astype(str):
             for ext in ("txt", "html"):
                 path(f"night-{label}.{ext}")
-        jobs.append((sheets.write_night_sheets, (staging, schedule, nights), {"tz": tz, "site_name": plan.site.name,
-                                                                        "targets": plan.targets}))
+        pointed = sheet_pointing.with_pointing_columns(schedule, plan.targets, plan.site)
+        jobs.append((sheets.write_night_sheets, (staging, pointed, nights), {"tz": tz, "site_name": plan.site.name,
+                                                                       "targets": plan.targets}))
         jobs.append((ical.write_ics, (path("plan.ics"), schedule), {"site_name": plan.site.name}))
         if len(plan.never_rising):
             text = render(plan.never_rising.drop(columns="target_index"), "csv",
@@ -237,10 +241,12 @@ def chart_jobs(plan, path) -> list[tuple]:
     """
     from . import charts
     from .file_names import unique_file_parts
+    from .target_style import plan_styles
 
     schedule, nights, tz = plan.schedule, plan.nights, plan.site.timezone
+    styles = plan_styles(schedule["target"].astype(str)) if len(schedule) else {}  # one look in every chart
     jobs = [(charts.write_week_chart, (path("week.png"), schedule, nights),
-             {"tz": tz, "title": f"{plan.site.name}: the week's plan"})]
+             {"tz": tz, "title": f"{plan.site.name}: the week's plan", "styles": styles})]
     for _, night in nights.iterrows():
         blocks = schedule[schedule["night"].astype(str) == str(night["night"])]
         if blocks.empty:
@@ -249,24 +255,48 @@ def chart_jobs(plan, path) -> list[tuple]:
         end = night["sunrise_jd_utc"] if np.isfinite(night["sunrise_jd_utc"]) else night["next_noon_jd_utc"]
         t = np.arange(start - 1.0 / 24, end + 1.0 / 24 + CHART_STEP_D / 2, CHART_STEP_D)
         order = list(dict.fromkeys(blocks["target_index"].astype(int)))
-        alt = plan.altitude_deg(np.array(order)[:, None], t[None, :])
+        pos = windows.target_positions(plan.targets, plan.site, np.array(order)[:, None], t[None, :])
+        alt = pos.alt_deg
         names = [str(plan.targets["name"].iloc[i]) for i in order]
         jobs.append((charts.write_night_chart,
                      (path(f"altitude-{night['night']}.png"), night, t, alt, names, blocks,
                       plan.site.min_altitude_deg),
                      {"tz": tz, "title": f"{plan.site.name}, night of {night['night']}",
-                      "moon_alt_deg": plan.tracks.moon_altaz_deg(t)[0]}))
-    rv_targets = [ti for ti in (sorted(set(schedule["target_index"].astype(int))) if len(schedule) else [])
-                  if plan.targets.iloc[ti]["ephemeris"] == "orbit" and plan.targets.iloc[ti]["e"] > 0
-                  and np.isfinite(plan.targets.iloc[ti]["k_ms"])]
+                      "moon_alt_deg": plan.tracks.moon_altaz_deg(t)[0], "styles": styles, "az_deg": pos.az_deg,
+                      "ha_h": pos.ha_h, "site": plan.site}))
     # file names from the whole catalogue's names, so a target keeps its file name whichever
     # targets are scheduled with it
     parts = unique_file_parts(plan.targets["name"].astype(str))
-    for ti in rv_targets:
+    for ti in sorted(set(schedule["target_index"].astype(int))) if len(schedule) else []:
         target = plan.targets.iloc[ti]
-        jobs.append((charts.write_rv_chart, (path(f"rv-{parts[str(target['name'])]}.png"), target,
-                                             schedule[schedule["target_index"] == ti]), {}))
+        if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
+            ev = plan.events[plan.events["target_index"].astype(int) == ti] if len(plan.events) else plan.events
+            sigma = ev.groupby("event")["sigma_d"].median().to_dict() if len(ev) else {}
+            jobs.append((charts.write_rv_chart, (path(f"rv-{parts[str(target['name'])]}.png"), target,
+                                                 schedule[schedule["target_index"] == ti]),
+                         {"styles": styles, "event_sigma_d": sigma}))
     return jobs
+
+
+def week_page_jobs(plan, path, made) -> list[tuple]:
+    """``index.html`` and the target pages as one job (they link to the files in ``made``).
+
+    The job gets only the tables the pages read (they pickle quickly), so a worker process
+    builds the pages while the other draws charts.
+    """
+    import types
+
+    from . import week_page
+
+    names = week_page.page_files(plan)
+    staging = os.path.dirname(path(names[0]))
+    for name in names[1:]:
+        path(name)
+    parts = types.SimpleNamespace(site=plan.site, targets=plan.targets, nights=plan.nights, events=plan.events,
+                                  schedule=plan.schedule, never_rising=plan.never_rising,
+                                  **({"unscheduled": plan.unscheduled} if hasattr(plan, "unscheduled") else {}))
+    # ``made`` itself: the files named after this call (sheets, calendar) are in it when the job runs
+    return [(week_page.write_week_pages, (staging, parts, made), {})]
 
 
 def _write_text(path, text):

@@ -26,6 +26,7 @@ from ..scheduling.blocks import MIN_PER_DAY
 from ..scheduling.series_parts import parts_in_words
 from ..timescales import clock
 from . import explain
+from . import sheet_pointing, sheet_style
 from .atomic import atomic_write
 from .wording import count
 
@@ -75,6 +76,30 @@ def _clock_text(jd_utc: float, tz) -> str:
     """``HH:MM`` of a finite Julian date (UTC); cached, as a sheet shows each time in two files."""
     text = clock.jd_utc_to_local_iso([jd_utc], tz)[0] if tz else clock.jd_utc_to_iso_z([jd_utc])[0]
     return text[11:16]
+
+
+def _day(jd_utc, tz=None) -> str:
+    """``on YYYY-MM-DD``: the date (local with ``tz``, else UTC) of a Julian date (UTC)."""
+    text = clock.jd_utc_to_local_iso([jd_utc], tz)[0] if tz else clock.jd_utc_to_iso_z([jd_utc])[0]
+    return f"on {text[:10]}"
+
+
+#: Longest line of the text sheet (characters); longer lines wrap under their own indent.
+TEXT_WIDTH = 100
+
+
+def _wrap(lines, width=TEXT_WIDTH):
+    """Each line wrapped to ``width`` characters, continuation lines indented like the first + 3."""
+    import textwrap
+
+    out = []
+    for line in lines:
+        if len(line) <= width:
+            out.append(line)
+            continue
+        lead = " " * (len(line) - len(line.lstrip(" ")))
+        out += textwrap.wrap(line, width, subsequent_indent=lead + "   ", break_on_hyphens=False)
+    return out
 
 
 def action(block) -> str:
@@ -168,10 +193,10 @@ def _moon_text(night, tz=None) -> str:
     lit = night["moon_illumination"]
     parts = [f"{100 * lit:.0f}% illuminated" if np.isfinite(lit) else "illumination not known"]
     zone = " local" if tz else " UTC"
-    for col, word in (("moon_rise_jd_utc", "rises"), ("moon_set_jd_utc", "sets")):
-        v = night.get(col, np.nan)
+    pairs = [(night.get(c, np.nan), w) for c, w in (("moon_rise_jd_utc", "rises"), ("moon_set_jd_utc", "sets"))]
+    for v, word in sorted(pairs, key=lambda p: p[0] if p[0] is not None and np.isfinite(p[0]) else np.inf):
         if v is not None and np.isfinite(v):
-            parts.append(f"{word} {_clock(v, tz)}{zone}")
+            parts.append(f"{word} {_clock(v, tz)}{zone} {_day(v, tz)}")
     up = night.get("moon_up_dark_h", np.nan)
     if up is not None and np.isfinite(up):
         parts.append(f"up for {up:.1f} h of the dark time")
@@ -212,9 +237,7 @@ def _block_lines(b, tz):
     what = _what(b)
     when_utc = f"{_clock(b['start_jd_utc'])}-{_clock(b['end_jd_utc'])} UTC"
     when_local = f"{_clock(b['start_jd_utc'], tz)}-{_clock(b['end_jd_utc'], tz)} local" if tz else ""
-    mag = b.get("magnitude")
-    name = f"{b['target']} ({mag})" if isinstance(mag, str) and mag else f"{b['target']}"
-    head = f"{when_local + '  (' + when_utc + ')' if tz else when_utc}  {name}: {what}"
+    head = f"{when_local + '  (' + when_utc + ')' if tz else when_utc}  {b['target']}: {what}"
     detail = []
     if b["kind"] != "flexible" and np.isfinite(b["event_jd_utc"]):
         unc = explain.sigma_text(b["event_sigma_d"])
@@ -260,6 +283,9 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
             lines.append(f"{i}. {head}")
             if detail:
                 lines.append(f"   {detail}")
+            point = sheet_pointing.pointing_text(b, tz)
+            if point:
+                lines.append(f"   Point: {point}.")
             lines.append(f"   Do: {action(b)}.")
             if covers_line(b):
                 lines.append(f"   {covers_line(b)}")
@@ -267,7 +293,7 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
             if isinstance(b["notes"], str) and b["notes"]:
                 lines.append(f"   Notes: {b['notes']}.")
     lines += ["", CAUTION, ""]
-    return "\n".join(lines)
+    return "\n".join(_wrap(lines))
 
 
 _CSS = """
@@ -295,9 +321,10 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
     e = html.escape
     title = _title(night, site_name)
     out = ["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
-           f"<title>{e(title)}</title>", f"<style>{_CSS}</style>", "</head>", "<body>",
+           f"<title>{e(title)}</title>", f"<style>{_CSS}</style>", sheet_style.head_html(), "</head>",
+           "<body>", sheet_style.SWITCH_HTML,
            f"<h1>{e(title)}</h1>", f'<p class="caution">{e(CAUTION)}</p>',
-           "<table>", f"<tr><th>Sky</th><th>UTC</th>{f'<th>local ({e(tz)})</th>' if tz else ''}</tr>"]
+           '<table class="sky">', f"<tr><th>Sky</th><th>UTC</th>{f'<th>local ({e(tz)})</th>' if tz else ''}</tr>"]
     for col, name in sky_rows(night):
         local = f"<td>{e(_clock(night[col], tz))}</td>" if tz else ""
         out.append(f"<tr><td>{e(name)}</td><td>{e(_clock(night[col]))}</td>{local}</tr>")
@@ -312,6 +339,10 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
         out.append(f"<h2>{i}. {e(head)}</h2>")
         if detail:
             out.append(f"<p>{e(detail)}</p>")
+        point = sheet_pointing.pointing_items(b, tz)
+        if point:
+            out.append('<p class="pointing">' + " ".join(f"<span><strong>{e(k)}</strong> {e(v)}</span>"
+                                                       for k, v in point) + "</p>")
         out.append(f"<p><strong>Do:</strong> {e(action(b))}.</p>")
         if covers_line(b):
             out.append(f"<p>{e(covers_line(b))}</p>")
@@ -330,7 +361,7 @@ def write_night_sheets(out_dir, schedule: pd.DataFrame, nights: pd.DataFrame, tz
     """Write ``night-YYYY-MM-DD.txt`` and ``.html`` for every night into ``out_dir``; returns the paths.
 
     With ``targets`` (the catalogue's target table), a magnitude column of the catalogue is shown
-    beside each target's name (:func:`magnitude_texts`).
+    on each block's pointing line (:func:`magnitude_texts`).
     """
     if targets is not None and len(schedule):
         schedule = schedule.assign(magnitude=magnitude_texts(targets)[schedule["target_index"].to_numpy(int)])

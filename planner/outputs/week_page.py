@@ -1,0 +1,280 @@
+"""The plan folder's web pages: ``index.html`` for the week and one page per scheduled target.
+
+Self-contained and offline: no script, font or style from the network; the charts are the plan's
+own PNG files, linked by relative paths, so the folder can be copied, zipped or opened from a
+file:// URL and every link still works. ``index.html`` holds the Sun caution, the week chart,
+the list of nights (each night's sheet and altitude chart), a table of every block, a table of
+what was not scheduled with its reason, and the list of targets. Each target page
+(``target-NAME.html``) lists the target's events in the week, scheduled or not, and shows its
+charts. Night mode and printing follow :mod:`planner.outputs.sheet_style`.
+
+Builders return strings (:func:`index_html`, :func:`target_html`); :func:`write_week_pages`
+writes them through :func:`planner.outputs.atomic.atomic_write`.
+"""
+
+from __future__ import annotations
+
+import html
+import os
+
+import numpy as np
+import pandas as pd
+
+from ..scheduling.blocks import MIN_PER_DAY
+from ..timescales import clock
+from . import sheet_style
+from .atomic import atomic_write
+from .chart_marks import event_words
+from .sheets import CAUTION
+
+PAGE_CSS = """
+body { font-family: "DejaVu Sans", Arial, sans-serif; margin: 1.5em; max-width: 72em; }
+table { border-collapse: collapse; margin: 0.5em 0 1em 0; }
+th, td { border: 1px solid; padding: 0.2em 0.5em; text-align: left; vertical-align: top; }
+td.num { text-align: right; }
+.caution { border: 3px solid; padding: 0.6em 0.8em; font-weight: bold; }
+img { max-width: 100%; height: auto; }
+nav a { margin-right: 1em; }
+"""
+
+
+_PARTS: dict = {}
+
+
+def file_part(plan, target_name: str) -> str:
+    """The target's part of file names in this plan: unique and readable across the catalogue
+    (:func:`planner.outputs.file_names.unique_file_parts`, computed once per catalogue)."""
+    from .file_names import unique_file_parts
+
+    names = tuple(plan.targets["name"].astype(str))
+    if _PARTS.get("names") != names:
+        _PARTS.clear()
+        _PARTS.update(names=names, parts=unique_file_parts(list(names)))
+    return _PARTS["parts"][str(target_name)]
+
+
+def page_name(plan, target_name: str) -> str:
+    """File name of a target's page."""
+    return f"target-{file_part(plan, target_name)}.html"
+
+
+def _local(jd_utc, tz):
+    if jd_utc is None or not np.isfinite(jd_utc):
+        return ""
+    text = clock.jd_utc_to_local_iso([jd_utc], tz)[0] if tz else clock.jd_utc_to_iso_z([jd_utc])[0]
+    return text[:16].replace("T", " ")
+
+
+def _percent(fraction) -> str:
+    """A fraction as a whole percentage; a small non-zero one as ``<1%`` (never a false 0%)."""
+    return "<1%" if 0 < fraction < 0.005 else f"{100 * fraction:.0f}%"
+
+
+def _page(title, body_lines):
+    e = html.escape
+    return "\n".join(["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
+                      f"<title>{e(title)}</title>", f"<style>{PAGE_CSS}</style>", sheet_style.head_html(),
+                      "</head>", "<body>", sheet_style.SWITCH_HTML, f"<h1>{e(title)}</h1>",
+                      f'<p class="caution">{e(CAUTION)}</p>', *body_lines,
+                      f'<p class="caution">{e(CAUTION)}</p>', "</body>", "</html>", ""])
+
+
+def _table(header, rows):
+    e = html.escape
+    out = ["<table>", "<tr>" + "".join(f"<th>{e(h)}</th>" for h in header) + "</tr>"]
+    for r in rows:
+        out.append("<tr>" + "".join(c if c.startswith("<td") else f"<td>{c}</td>" for c in r) + "</tr>")
+    out.append("</table>")
+    return out
+
+
+def unscheduled_table(plan) -> pd.DataFrame:
+    """Event windows of the nights that got no block, with the reason, one row each.
+
+    Columns ``night``, ``target``, ``event``, ``label``, ``event_jd_utc``, ``observable_fraction``,
+    ``reason``. A plan that carries its own ``unscheduled`` table (with a ``reason`` column) is
+    shown as it is; otherwise an event counts as scheduled when a block of its target and event
+    holds its moment, and the reason is "not observable" for a window with no observable part
+    (darkness, altitude, hour angle, Moon), else "not chosen" (another block of that night scored
+    more, or the week's repeat rule kept another night's).
+    """
+    own = getattr(plan, "unscheduled", None)
+    if isinstance(own, pd.DataFrame) and "reason" in own:
+        return own
+    ev, sched = plan.events, plan.schedule
+    cols = ["night", "target", "event", "label", "event_jd_utc", "observable_fraction", "reason"]
+    if ev is None or ev.empty:
+        return pd.DataFrame(columns=cols)
+    done = np.zeros(len(ev), bool)
+    if len(sched):
+        fixed = sched[sched["kind"] == "fixed"]
+        for ti, event, s, en in zip(fixed["target_index"].astype(int), fixed["event"].astype(str),
+                                    fixed["start_jd_utc"], fixed["end_jd_utc"]):
+            done |= ((ev["target_index"].to_numpy(int) == ti) & (ev["event"].astype(str).to_numpy() == event)
+                     & (ev["jd_utc"].to_numpy(float) >= s - 1.0) & (ev["jd_utc"].to_numpy(float) <= en + 1.0)
+                     & (ev["window_end_jd_utc"].to_numpy(float) >= s)
+                     & (ev["window_start_jd_utc"].to_numpy(float) <= en))
+    rest = ev[~done]
+    frac = rest["observable_fraction"].to_numpy(float)
+    reason = np.where(frac > 0, "not chosen: another block of the night scored more, or the repeat rule "
+                      "kept another night's", "not observable: no part of the window is dark and inside "
+                      "the site's limits")
+    names = plan.targets["name"].to_numpy(object)[rest["target_index"].to_numpy(int)]
+    return pd.DataFrame({"night": rest["night"].astype(str).to_numpy(), "target": names,
+                         "event": rest["event"].astype(str).to_numpy(), "label": rest["label"].to_numpy(object),
+                         "event_jd_utc": rest["jd_utc"].to_numpy(float),
+                         "observable_fraction": frac, "reason": reason}, columns=cols)
+
+
+def _unscheduled_lines(plan, tz) -> list[str]:
+    """The table of what got no block: one row per target, event and reason.
+
+    Each row counts the windows, names the nights (first to last) and gives the best observable
+    fraction among them, so a catalogue of thousands of targets still gives a page of a length
+    one can read; the targets that never rise come last.
+    """
+    e = html.escape
+    un = unscheduled_table(plan)
+    rows = []
+    if len(un):
+        un = un.assign(what=[event_words(ev, lab) for ev, lab in zip(un["event"], un.get("label", un["event"]))])
+        groups = un.groupby(["target", "what", "reason"], sort=True).agg(
+            windows=("night", "size"), first=("night", "min"), last=("night", "max"),
+            best=("observable_fraction", "max"))
+        g = groups.reset_index()
+        for t, what, why, k, lo, hi, best in zip(g["target"], g["what"], g["reason"], g["windows"], g["first"],
+                                                 g["last"], g["best"]):
+            rows.append([e(str(t)), e(what), f'<td class="num">{k}</td>',
+                         e(lo if lo == hi else f"{lo} to {hi}"), f'<td class="num">{e(_percent(best))}</td>', e(str(why))])
+    for t, r in zip(plan.never_rising["target"], plan.never_rising["reason"]):
+        rows.append([e(str(t)), "every event", "", "", '<td class="num">0%</td>', e(f"never rises high enough: {r}")])
+    if not rows:
+        return ["<p>Every event window of the nights got a block.</p>"]
+    return _table(["target", "event", "windows", "nights", "best observable", "reason"], rows)
+
+
+def index_html(plan, files) -> str:
+    """``index.html`` of a plan; ``files`` are the names of the plan's files (for the links)."""
+    e = html.escape
+    tz, site = plan.site.timezone, plan.site.name
+    files = set(files)
+    sched = plan.schedule.sort_values("start_jd_utc", kind="stable") if len(plan.schedule) else plan.schedule
+    labels = list(plan.nights["night"].astype(str))
+    title = f"{site}: plan for the nights {labels[0]} to {labels[-1]}" if labels else f"{site}: plan"
+    body = ['<nav><a href="#week">week chart</a><a href="#nights">nights</a><a href="#blocks">blocks</a>'
+            '<a href="#unscheduled">not scheduled</a><a href="#targets">targets</a></nav>',
+            '<h2 id="week">The week</h2>']
+    if "week.png" in files:
+        body.append('<img src="week.png" alt="the week\'s blocks, one row per night">')
+    body.append('<h2 id="nights">Nights</h2>')
+    rows = []
+    for _, night in plan.nights.iterrows():
+        lab = str(night["night"])
+        n = int((sched["night"].astype(str) == lab).sum()) if len(sched) else 0
+        links = [f'<a href="night-{lab}.html">sheet</a>'] if f"night-{lab}.html" in files else []
+        if f"night-{lab}.txt" in files:
+            links.append(f'<a href="night-{lab}.txt">text</a>')
+        if f"altitude-{lab}.png" in files:
+            links.append(f'<a href="altitude-{lab}.png">altitude chart</a>')
+        dark = (f"{_local(night['dark_start_jd_utc'], tz)[11:]}-{_local(night['dark_end_jd_utc'], tz)[11:]}"
+                if np.isfinite(night["dark_start_jd_utc"]) else "no astronomical darkness")
+        rows.append([f'<td id="night-{e(lab)}">{e(lab)}</td>', e(dark), f'<td class="num">{n}</td>', " ".join(links)])
+    body += _table(["night", "dark (local)", "blocks", "pages"], rows)
+    body.append('<h2 id="blocks">Every block</h2>')
+    has_covers = "covers" in sched.columns
+    header = ["night", "start (local)", "end (local)", "target", "what"] + (["covers"] if has_covers else []) + ["score"]
+    rows = []
+    for _, b in sched.iterrows():
+        cells = [f'<a href="#night-{e(str(b["night"]))}">{e(str(b["night"]))}</a>', e(_local(b["start_jd_utc"], tz)[11:]),
+                 e(_local(b["end_jd_utc"], tz)[11:]), f'<a href="{e(page_name(plan, b["target"]))}">{e(str(b["target"]))}</a>',
+                 e(event_words(b["event"], b["label"]))]
+        if has_covers:
+            cells.append(e(str(b["covers"]).replace("_", " ")) if isinstance(b["covers"], str) else "")
+        cells.append(f'<td class="num">{b["score"]:.1f}</td>')
+        rows.append(cells)
+    body += _table(header, rows) if rows else ["<p>No block could be scheduled in these nights.</p>"]
+    body.append('<h2 id="unscheduled">Not scheduled, and why</h2>')
+    body += _unscheduled_lines(plan, tz)
+    body.append('<h2 id="targets">Targets with blocks</h2><ul>')
+    for nm in sorted(set(sched["target"].astype(str))) if len(sched) else []:
+        body.append(f'<li><a href="{e(page_name(plan, nm))}">{e(nm)}</a></li>')
+    body.append("</ul>")
+    body.append(f"<p>Times are local ({e(tz)}); the sheets give UTC beside them.</p>")
+    return _page(title, body)
+
+
+def target_html(plan, target_index: int, files) -> str:
+    """The page of one target: its place, its events in the nights, its blocks and charts."""
+    from .sheet_pointing import dec_dms, ra_hms
+
+    e = html.escape
+    tz, files = plan.site.timezone, set(files)
+    t = plan.targets.iloc[target_index]
+    name = str(t["name"])
+    body = ['<p><a href="index.html">back to the week</a></p>',
+            f"<p>RA/Dec J2000 {e(ra_hms(t['ra_deg']))} {e(dec_dms(t['dec_deg']))}"
+            + (f", mag {float(t['mag']):.1f}" if "mag" in t and np.isfinite(t["mag"]) else "")
+            + (f", period {t['period_d']:.6g} d" if np.isfinite(t["period_d"]) else "") + "</p>"]
+    ev = plan.events[plan.events["target_index"].astype(int) == target_index] if len(plan.events) else plan.events
+    sched = plan.schedule[plan.schedule["target_index"].astype(int) == target_index] if len(plan.schedule) \
+        else plan.schedule
+    body.append('<h2 id="events">Events in these nights</h2>')
+    ev = ev.sort_values("jd_utc")
+    jd = ev["jd_utc"].to_numpy(float)
+    when = clock.jd_utc_to_local_iso(jd, tz) if len(ev) else []
+    s0, s1 = sched["start_jd_utc"].to_numpy(float), sched["end_jd_utc"].to_numpy(float)
+    s_event = sched["event"].astype(str).to_numpy()
+    s_start = clock.jd_utc_to_local_iso(s0, tz) if len(sched) else []
+    s_end = clock.jd_utc_to_local_iso(s1, tz) if len(sched) else []
+    s_night = sched["night"].astype(str).to_numpy()
+    rows = []
+    for night, event, label, w, sig_d, frac, w0, w1 in zip(ev["night"].astype(str), ev["event"].astype(str),
+                                                          ev["label"], when,
+                                                   ev["sigma_d"].to_numpy(float), ev["observable_fraction"],
+                                                   ev["window_start_jd_utc"].to_numpy(float),
+                                                   ev["window_end_jd_utc"].to_numpy(float)):
+        mine = np.flatnonzero((s_event == event) & (s0 <= w1) & (s1 >= w0))
+        if mine.size:
+            k = mine[0]
+            block = f'<a href="night-{e(s_night[k])}.html">block {e(s_start[k][11:16])}-{e(s_end[k][11:16])}</a>'
+        else:
+            block = "not scheduled"
+        sig = sig_d * MIN_PER_DAY
+        rows.append([e(night), e(event_words(event, label)), e(str(w)[:16].replace("T", " ")),
+                     f'<td class="num">{sig:.1f}</td>' if np.isfinite(sig) else "",
+                     f'<td class="num">{e(_percent(frac))}</td>', block])
+    body += (_table(["night", "event", "time (local)", "1 sigma (min)", "observable", "block"], rows) if rows
+             else ["<p>No event of this target falls in these nights.</p>"])
+    flex = sched[sched["kind"] == "flexible"] if len(sched) else sched
+    if len(flex):
+        body.append("<p>Flexible visits: " + ", ".join(
+            f'<a href="night-{e(str(b["night"]))}.html">{e(str(b["night"]))} {e(_local(b["start_jd_utc"], tz)[11:])}</a>'
+            for _, b in flex.iterrows()) + "</p>")
+    body.append('<h2 id="charts">Charts</h2>')
+    rv = f"rv-{file_part(plan, name)}.png"
+    if rv in files:
+        body.append(f'<p><img src="{e(rv)}" alt="radial velocity of {e(name)} over one orbit"></p>')
+    for lab in sorted(set(sched["night"].astype(str))) if len(sched) else []:
+        if f"altitude-{lab}.png" in files:
+            body.append(f'<p><img src="altitude-{e(lab)}.png" alt="altitude chart of the night of {e(lab)}"></p>')
+    return _page(f"{name}: events and blocks", body)
+
+
+def page_files(plan) -> list[str]:
+    """Names of the pages :func:`write_week_pages` writes: index.html, then one per target with blocks."""
+    ids = sorted(set(plan.schedule["target_index"].astype(int))) if len(plan.schedule) else []
+    return ["index.html"] + [page_name(plan, plan.targets["name"].iloc[i]) for i in ids]
+
+
+def write_week_pages(out_dir, plan, files) -> list[str]:
+    """Write ``index.html`` and the target pages into ``out_dir``; returns their paths."""
+    paths = []
+    ids = sorted(set(plan.schedule["target_index"].astype(int))) if len(plan.schedule) else []
+    pages = [("index.html", index_html(plan, files))]
+    pages += [(page_name(plan, plan.targets["name"].iloc[i]), target_html(plan, i, files)) for i in ids]
+    for name, text in pages:
+        path = os.path.join(os.fspath(out_dir), name)
+        with atomic_write(path) as fh:
+            fh.write(text)
+        paths.append(path)
+    return paths
