@@ -28,7 +28,7 @@ import numpy as np
 import pandas as pd
 
 from ..timescales.epochs import bjd_tdb_to_utc
-from . import geometry
+from . import geometry, timing
 from .geometry import ORBIT_EVENTS, PERIODIC_EVENT
 
 #: Monte Carlo draws per target for the phase-offset spread; the relative error of sigma from
@@ -57,18 +57,25 @@ def _offsets(e, omega_rad, epoch_kind):
 
 
 def offset_variance(e, e_err, omega_rad, omega_err_rad, epoch_kind, names, n_samples=DEFAULT_SAMPLES,
-                    seed=DEFAULT_SEED):
+                    seed=DEFAULT_SEED, method="auto"):
     """Mean square deviation (orbits^2) of the event phase offsets d_k under e and omega errors.
 
     Returns shape (n, 6), columns in :data:`~planner.orbit.ORBIT_EVENTS` order, taken about the
     nominal offsets (so any bias of the draw counts as spread). Targets with e = 0, or with no e
-    and omega errors, get 0. Each target draws from its own generator seeded by ``seed`` and the
-    CRC-32 of its name, so its value is reproducible and does not depend on the other targets.
+    and omega errors, get 0. ``method="auto"`` takes the linearised value of
+    :mod:`planner.orbits.timing` wherever its switch test trusts it and the Monte Carlo elsewhere;
+    ``"monte_carlo"`` draws for every target. Each target draws from its own generator seeded by
+    ``seed`` and the CRC-32 of its name, so its value is reproducible and does not depend on the
+    other targets.
     """
     e = np.asarray(e, float)
     n = e.size
     var = np.zeros((n, len(ORBIT_EVENTS)))
     todo = np.flatnonzero((e > 0) & ((e_err > 0) | (omega_err_rad > 0)))
+    if todo.size and method == "auto":
+        var[todo], needs_mc = timing.delta_offset_variance(e[todo], e_err[todo], omega_rad[todo],
+                                                           omega_err_rad[todo], epoch_kind[todo])
+        todo = todo[needs_mc]
     if todo.size == 0:
         return var
     nominal = _offsets(e[todo], omega_rad[todo], epoch_kind[todo])
