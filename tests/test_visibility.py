@@ -164,3 +164,16 @@ def test_refraction_against_astropy_erfa_model():
 def test_nan_times_give_nan_positions_without_warnings():
     pos = positions.altaz_at([10.0, 20.0], [5.0, 6.0], [2461400.3, np.nan], 37.62, -3.12)
     assert np.isfinite(pos.alt_deg[0]) and np.isnan(pos.alt_deg[1]) and np.isnan(pos.airmass[1])
+
+
+def test_altitude_of_a_time_does_not_depend_on_the_other_times_of_the_call():
+    # One apparent place per day-long block: the blocks sit on a fixed grid of Julian dates, so
+    # adding an earlier time to the call (another target's event, another chunk) changes nothing.
+    # Invariant of the engine's own definition, no outside value needed.
+    from planner.sky import positions
+
+    jd = np.array([2461384.3, 2461386.9])
+    alone = positions.altaz_at(64.0, 21.8, jd, 37.6, -3.1).alt_deg
+    with_earlier = positions.altaz_at(np.array([64.0, 64.0, 10.0]), np.array([21.8, 21.8, -5.0]),
+                                      np.r_[jd, 2461383.75], 37.6, -3.1).alt_deg[:2]
+    assert np.array_equal(alone, with_earlier)
