@@ -103,7 +103,7 @@ def events_table(targets: pd.DataFrame, job: EventsJob) -> pd.DataFrame:
     table = events_frame(events, t_utc, job.tz)
     if job.site is None:
         return table
-    vis = windows.event_visibility(events, targets, job.site, job.nights, baseline_h=job.baseline_h,
+    vis = windows.event_visibility(events, targets, job.site, _nights_needed(events, job), baseline_h=job.baseline_h,
                                    k_sigma=job.k_sigma, tracks=job.tracks,
                                    jd_utc=t_utc.jd if len(events) else None)
     table["night"] = vis["night"].to_numpy(object)
@@ -114,6 +114,29 @@ def events_table(targets: pd.DataFrame, job: EventsJob) -> pd.DataFrame:
     if job.visible is not None:
         table = table[table["observable_fraction"] >= job.visible].reset_index(drop=True)
     return table
+
+
+def _nights_needed(events, job):
+    """The rows of ``job.nights`` that this chunk's event windows can reach.
+
+    The span plus, either side, one night and the chunk's widest half-window (half the duration,
+    or of the default length, plus the baseline and k sigma; rounded up to whole days, at most
+    :data:`NIGHT_PAD_D` - 1). No window reaches a night outside these, so an event's visibility
+    does not depend on the other events of its chunk, while a chunk of short-period, well-known
+    targets does not pay for the intervals of a month of nights.
+    """
+    if len(events):
+        duration_d = events["duration_d"].to_numpy(float)
+        duration_d = np.where(np.isfinite(duration_d), duration_d, windows.DEFAULT_EVENT_LENGTH_H / 24.0)
+        half = duration_d / 2.0 + job.baseline_h / 24.0 + job.k_sigma * events["sigma_d"].to_numpy(float)
+        half_d = float(np.nan_to_num(half.max()))
+    else:
+        half_d = 0.0
+    pad_d = 1 + int(min(np.ceil(half_d), NIGHT_PAD_D - 1))
+    nights = job.nights
+    keep = ((nights["next_noon_jd_utc"].to_numpy(float) >= job.start_utc.jd - pad_d)
+            & (nights["noon_jd_utc"].to_numpy(float) <= job.end_utc.jd + pad_d))
+    return nights[keep].reset_index(drop=True)
 
 
 def chunk_bounds(n_targets: int, chunk_rows: int = DEFAULT_CHUNK_ROWS) -> list[tuple[int, int]]:
