@@ -209,3 +209,18 @@ def test_progress_bar_silent_when_not_a_terminal():
         bar("chunk")
     bar.done()
     assert stream.getvalue() == ""
+
+
+def test_streamed_run_warns_of_targets_that_never_rise_like_the_one_table_run(tmp_path, capsys):
+    # dec -85 deg never climbs above -37 deg at latitude 37.6 N (90 - 37.6 - 85 = -32.6 deg max
+    # altitude): geometry of the meridian, no outside value needed
+    raw = pd.read_csv(SAMPLE_TARGETS, comment="#", dtype=str, keep_default_na=False)
+    raw.loc[0, "dec"] = "-85.0"
+    path = tmp_path / "south.csv"
+    raw.to_csv(path, index=False)
+    common = ["events", path, "--start", "2026-12-07", "--days", "5", "--site", SITE]
+    code, _, err_table = run(common + ["--format", "csv"], capsys)
+    code_s, _, err_stream = run(common + ["--format", "parquet", "--out", tmp_path / "run"], capsys)
+    assert code == code_s == 0
+    warning = [ln for ln in err_table.splitlines() if "never rises" in ln]
+    assert len(warning) == 1 and warning == [ln for ln in err_stream.splitlines() if "never rises" in ln]

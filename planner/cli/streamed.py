@@ -54,6 +54,13 @@ def run_streamed(args, targets, site, tz, start_utc, end_utc, formats) -> int:
     from .progress import ProgressBar
 
     chunk_rows = args.chunk_rows or survey.DEFAULT_CHUNK_ROWS
+    if site is not None:
+        from ..outputs.tables import never_rising_lines
+        from ..sky.windows import never_rising
+
+        for line in never_rising_lines(never_rising(targets, site), site.name):
+            print(f"periplan: warning: {line}; events that cannot be seen are listed with "
+                  "observable_fraction 0", file=sys.stderr)
     job = survey.make_job(start_utc, end_utc, kinds=args.kinds, tz=tz, site=site, baseline_h=args.baseline_h,
                           k_sigma=args.k_sigma, visible=args.visible)
     client = None
