@@ -60,7 +60,7 @@ import pandas as pd
 
 from .. import numerics
 from ..timescales.epochs import utc_to_tdb_jd
-from . import positions
+from . import edges, positions
 from .crossings import find_crossings, positive_intervals
 from .night import night_of
 
@@ -278,7 +278,8 @@ def _interval_chunk(site, tracks, ra, dec, dec_ok, d0, d1, n_steps):
         cs = np.einsum("ik,ik->i", tv, tracks.sun_vector(jd, e))
         return _margin_deg(site, ra_c[j, n], dec_c[j, n], cm, cs, e, tracks.moon_illumination(jd), dec_ok[n])
 
-    rows, jd, rising = find_crossings(func, row_grid, values)
+    rows, jd, rising = edges.edge_crossings(site, tracks, func, row_grid, values, ra_c.reshape(-1),
+                                            dec_c.reshape(-1))
     r, start, end = positive_intervals(rows, jd, rising, values[:, 0] > 0, values[:, -1] > 0,
                                        row_grid[:, 0], row_grid[:, -1])
     j, n = r // n_t, r % n_t

@@ -1,0 +1,75 @@
+"""Closed-form interval edges (planner.sky.edges) against the bisection of the one search routine.
+
+Reference: planner.sky.crossings.find_crossings on the same margin function, which brackets each
+edge to 0.05 s (DEFAULT_TOLERANCE_D); the closed form must give the same intervals with every
+edge within that tolerance. The closed form itself is the hour angle of an altitude on the
+sphere, cos H0 = (sin h0 - sin phi sin delta) / (cos phi cos delta) (e.g. Meeus, *Astronomical
+Algorithms*, 2nd ed. 1998, eq. 15.1), checked here through the margin it must zero.
+"""
+
+import datetime as dt
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from conftest import REPO
+from planner.inputs.site import read_site
+from planner.sky import crossings, edges, windows
+from planner.sky.night import night_table, tracks_for_nights
+
+
+def random_targets(n, seed):
+    rng = np.random.default_rng(seed)
+    return pd.DataFrame({"name": [f"Edge test {i}" for i in range(n)], "ra_deg": rng.uniform(0, 360, n),
+                         "dec_deg": np.degrees(np.arcsin(rng.uniform(-0.7, 1.0, n)))})
+
+
+@pytest.mark.parametrize("first_night", ["2026-12-18", "2027-01-03"])  # Moon waxing gibbous / new
+def test_closed_form_edges_equal_bisection(first_night, monkeypatch):
+    # the demo site has a horizon profile above its minimum altitude towards some azimuths, Moon
+    # and Sun limits: those edges must go through the bisection and still agree
+    site = read_site(REPO / "sample_targets" / "site.toml")
+    first = dt.date.fromisoformat(first_night)
+    tracks = tracks_for_nights(site, first, 5)
+    nights = night_table(site, first, 5, tracks=tracks)
+    targets = random_targets(400, seed=3)
+    fast = windows.observable_intervals(targets, site, nights, tracks=tracks)
+    used_fallback = []
+    real_find = edges.find_crossings
+
+    def counting(func, grid, values=None, tolerance_d=crossings.DEFAULT_TOLERANCE_D):
+        used_fallback.append(len(grid))
+        return real_find(func, grid, values, tolerance_d)
+
+    monkeypatch.setattr(edges, "find_crossings", counting)
+    windows.observable_intervals(targets, site, nights, tracks=tracks)
+    assert sum(used_fallback) > 0  # this case exercises both paths
+
+    def bisection_only(site_, tracks_, func, row_grid, values, ra_c, dec_c):
+        return crossings.find_crossings(func, row_grid, values)
+
+    monkeypatch.setattr(edges, "edge_crossings", bisection_only)
+    slow = windows.observable_intervals(targets, site, nights, tracks=tracks)
+    assert len(fast) == len(slow) > 500
+    assert (fast[["target_index", "night"]].to_numpy() == slow[["target_index", "night"]].to_numpy()).all()
+    tolerance_d = crossings.DEFAULT_TOLERANCE_D
+    assert np.max(np.abs(fast.start_jd_utc - slow.start_jd_utc)) <= tolerance_d
+    assert np.max(np.abs(fast.end_jd_utc - slow.end_jd_utc)) <= tolerance_d
+
+
+def test_closed_form_edge_sits_on_the_altitude_limit():
+    # at a rising edge set by the minimum altitude the airless altitude equals the limit
+    site = read_site(REPO / "sample_targets" / "site.toml")
+    first = dt.date(2027, 1, 3)
+    tracks = tracks_for_nights(site, first, 2)
+    nights = night_table(site, first, 2, tracks=tracks)
+    targets = random_targets(200, seed=4)
+    iv = windows.observable_intervals(targets, site, nights, tracks=tracks)
+    d0 = nights["dark_start_jd_utc"].to_numpy(float)
+    inner = iv[(~np.isin(iv.start_jd_utc, d0)) & (iv.start_jd_utc > d0.min() + 1e-6)]
+    alt = windows.target_positions(targets, site, inner.target_index.to_numpy(), inner.start_jd_utc.to_numpy()).alt_deg
+    on_limit = np.abs(alt - site.min_altitude_deg) < 0.01
+    assert on_limit.sum() > 50
+    # 0.05 s of sidereal motion moves an altitude by at most 0.05 * 15 arcsec = 2e-4 deg
+    assert np.max(np.abs(alt[on_limit] - site.min_altitude_deg)) <= 2.1e-4
