@@ -46,8 +46,9 @@ def test_closed_form_edges_equal_bisection(first_night, monkeypatch):
     windows.observable_intervals(targets, site, nights, tracks=tracks)
     assert sum(used_fallback) > 0  # this case exercises both paths
 
-    def bisection_only(site_, tracks_, func, row_grid, values, ra_c, dec_c):
-        return crossings.find_crossings(func, row_grid, values)
+    def bisection_only(site_, tracks_, func, grid, n_per_grid, above, ra_c, dec_c):
+        row_grid = np.repeat(grid, n_per_grid, axis=0)
+        return crossings.find_crossings(func, row_grid, np.where(above, 1.0, -1.0))
 
     monkeypatch.setattr(edges, "edge_crossings", bisection_only)
     slow = windows.observable_intervals(targets, site, nights, tracks=tracks)

@@ -20,8 +20,11 @@ from .crossings import DEFAULT_TOLERANCE_D, find_crossings
 _ERA_RATE_RAD_PER_D = 2.0 * np.pi * 1.00273781191135448
 
 
-def edge_crossings(site, tracks, func, row_grid, values, ra_c, dec_c):
-    """(rows, jd, rising) of the sign changes of ``values`` (R, T) on ``row_grid``, refined.
+def edge_crossings(site, tracks, func, grid, n_per_grid, above, ra_c, dec_c):
+    """(rows, jd, rising) of the changes of the mask ``above`` (R, T), refined.
+
+    Row r of ``above`` is sampled at the times ``grid[r // n_per_grid]`` (``grid`` (J, T): one
+    row of times per night, shared by the ``n_per_grid`` targets of that night).
 
     Same result as :func:`~planner.sky.crossings.find_crossings` on ``func`` (a bracket of
     :data:`DEFAULT_TOLERANCE_D` or less around each crossing, sorted by row then time), with a
@@ -32,10 +35,9 @@ def edge_crossings(site, tracks, func, row_grid, values, ra_c, dec_c):
     a horizon profile, hour-angle limits) fail that check and go to the bisection.
     ``ra_c``/``dec_c`` (R,) are the CIRS places (rad) of the rows.
     """
-    above = values > 0
     rows, cols = np.nonzero(above[:, 1:] != above[:, :-1])
     rising = ~above[rows, cols]
-    lo, hi = row_grid[rows, cols], row_grid[rows, cols + 1]
+    lo, hi = grid[rows // n_per_grid, cols], grid[rows // n_per_grid, cols + 1]
     jd = np.full(rows.size, np.nan)
     if rows.size:
         lat = np.radians(site.latitude_deg)

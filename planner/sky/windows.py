@@ -263,12 +263,10 @@ def _interval_chunk(site, tracks, ra, dec, dec_ok, d0, d1, n_steps):
     moon_v = tracks.moon_vector(grid, era)  # (J, T, 3)
     sun_v = tracks.sun_vector(grid, era)
     illum = tracks.moon_illumination(grid)
-    values = np.empty((d0.size, n_t, n_steps))
+    above = np.empty((d0.size, n_t, n_steps), bool)
     for j in range(d0.size):
-        m = _fast_mask(site, ra_c[j], dec_c[j], tvec[j], era[j], moon_v[j], sun_v[j], illum[j], dec_ok)
-        values[j] = np.where(m, 1.0, -1.0)
-    values = values.reshape(-1, n_steps)  # row = j * N + n
-    row_grid = np.broadcast_to(grid[:, None, :], (d0.size, n_t, n_steps)).reshape(-1, n_steps)
+        above[j] = _fast_mask(site, ra_c[j], dec_c[j], tvec[j], era[j], moon_v[j], sun_v[j], illum[j], dec_ok)
+    above = above.reshape(-1, n_steps)  # row = j * N + n
 
     def func(jd, rows):
         j, n = rows // n_t, rows % n_t
@@ -278,10 +276,10 @@ def _interval_chunk(site, tracks, ra, dec, dec_ok, d0, d1, n_steps):
         cs = np.einsum("ik,ik->i", tv, tracks.sun_vector(jd, e))
         return _margin_deg(site, ra_c[j, n], dec_c[j, n], cm, cs, e, tracks.moon_illumination(jd), dec_ok[n])
 
-    rows, jd, rising = edges.edge_crossings(site, tracks, func, row_grid, values, ra_c.reshape(-1),
+    rows, jd, rising = edges.edge_crossings(site, tracks, func, grid, n_t, above, ra_c.reshape(-1),
                                             dec_c.reshape(-1))
-    r, start, end = positive_intervals(rows, jd, rising, values[:, 0] > 0, values[:, -1] > 0,
-                                       row_grid[:, 0], row_grid[:, -1])
+    r, start, end = positive_intervals(rows, jd, rising, above[:, 0], above[:, -1], np.repeat(d0, n_t),
+                                       np.repeat(d1, n_t))
     j, n = r // n_t, r % n_t
     max_alt = _max_altitude_deg(ra_c[j, n], dec_c[j, n], tracks.era_rad(start), tracks.era_rad(end),
                                 start, end, site)
