@@ -182,7 +182,11 @@ def _run_on_dask(client, targets, job, bounds, on_chunk, progress):
 
     window = as_completed([submit(item) for item in _take(pending, 2 * n_workers)])
     for future in window:
-        index, table = future.result()
+        try:
+            index, table = future.result()
+        except ModuleNotFoundError as exc:  # a worker without periplan (or one of its packages)
+            raise PeriplanError(f"a Dask worker cannot import {exc.name!r}; install periplan and its "
+                                "dependencies on every worker") from None
         future.release()
         on_chunk(index, table)
         if progress is not None:

@@ -74,3 +74,36 @@ def test_closed_form_edge_sits_on_the_altitude_limit():
     assert on_limit.sum() > 50
     # 0.05 s of sidereal motion moves an altitude by at most 0.05 * 15 arcsec = 2e-4 deg
     assert np.max(np.abs(alt[on_limit] - site.min_altitude_deg)) <= 2.1e-4
+
+
+def test_rows_near_track_never_leaves_out_a_row_that_comes_near():
+    # brute force: the least separation of each vector from every point of the track
+    from planner import numerics
+
+    rng = np.random.default_rng(5)
+    for _ in range(20):
+        ra0, dec0 = rng.uniform(0, 2 * np.pi), rng.uniform(-1.2, 1.2)
+        t = np.linspace(0, 1, 50)
+        track = numerics.unit_vectors(ra0 + rng.uniform(0.05, 0.5) * t, dec0 + rng.uniform(-0.1, 0.1) * t)
+        vectors = numerics.unit_vectors(rng.uniform(0, 2 * np.pi, 3000), np.arcsin(rng.uniform(-1, 1, 3000)))
+        limit_deg = rng.uniform(5, 60)
+        kept = np.zeros(3000, bool)
+        kept[numerics.rows_near_track(vectors, track, limit_deg)] = True
+        least_deg = np.degrees(np.arccos(np.clip((vectors @ track.T).max(axis=1), -1, 1)))
+        assert not np.any(~kept & (least_deg <= limit_deg))
+        assert kept.sum() < 3000  # it does leave rows out
+
+
+def test_mask_with_the_moon_shortcut_equals_the_full_evaluation(monkeypatch):
+    from planner import numerics
+
+    site = read_site(REPO / "sample_targets" / "site.toml")
+    first = dt.date(2026, 12, 18)
+    tracks = tracks_for_nights(site, first, 3)
+    nights = night_table(site, first, 3, tracks=tracks)
+    targets = random_targets(1500, seed=6)
+    jd = np.linspace(nights.noon_jd_utc.min(), nights.next_noon_jd_utc.max(), 900)
+    fast = windows.observable_mask(targets.ra_deg, targets.dec_deg, site, jd, tracks=tracks)
+    monkeypatch.setattr(numerics, "rows_near_track", lambda v, track, limit: np.arange(len(v)))
+    full = windows.observable_mask(targets.ra_deg, targets.dec_deg, site, jd, tracks=tracks)
+    assert fast.any() and np.array_equal(fast, full)

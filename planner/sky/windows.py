@@ -145,10 +145,12 @@ def _fast_mask(site, ra_c, dec_c, tvec, era, moon_v, sun_v, illumination, dec_ok
     m = cos_h > c[:, None]
     m &= np.asarray(dec_ok)[:, None]
     if site.moon_min_sep_deg > 0 or site.moon_sep_growth_deg > 0:
-        need_cos = np.cos(np.radians(site.moon_min_sep_at_deg(illumination)))
-        m &= (tvec @ moon_v.T) < need_cos[None, :]
+        need_deg = np.asarray(site.moon_min_sep_at_deg(illumination), float) * np.ones(len(moon_v))
+        rows = numerics.rows_near_track(tvec, moon_v, float(need_deg.max()))
+        m[rows] &= (tvec[rows] @ moon_v.T) < np.cos(np.radians(need_deg))[None, :]
     if site.sun_min_sep_deg > 0:
-        m &= (tvec @ sun_v.T) < np.cos(np.radians(site.sun_min_sep_deg))
+        rows = numerics.rows_near_track(tvec, sun_v, site.sun_min_sep_deg)
+        m[rows] &= (tvec[rows] @ sun_v.T) < np.cos(np.radians(site.sun_min_sep_deg))
     profile_matters = bool(site.horizon_alt_deg) and max(site.horizon_alt_deg) > h0
     if profile_matters or site.min_hour_angle_h is not None or site.max_hour_angle_h is not None:
         i, t = np.nonzero(m)
