@@ -7,6 +7,7 @@ memory is the largest resident set of the process and its children (ru_maxrss). 
 
 * ``events (one table)``: ``events CAT --site SITE --days D --format csv`` (output discarded);
 * ``events (streamed)``: the same with ``--format parquet --out DIR`` (5,000 targets a chunk);
+* ``events (dask local:N)``: the streamed run on a local Dask cluster (``--dask-workers N``);
 * ``plan``: ``plan CAT --site SITE --nights D --out DIR`` (charts and sheets included).
 
 With ``--baseline-src DIR`` (a checkout of an earlier version, e.g. the main branch) the one-table
@@ -64,6 +65,8 @@ def main(argv=None):
     parser.add_argument("--start", default="2026-12-07")
     parser.add_argument("--baseline-src", default=None, help="source tree of an earlier version to compare")
     parser.add_argument("--skip-plan", action="store_true", help="events runs only")
+    parser.add_argument("--dask-workers", type=int, default=0,
+                        help="also time the streamed run on a local Dask cluster of this many workers")
     parser.add_argument("--repeat", type=int, default=2,
                         help="runs of each (in turn, this and baseline alternating); the best counts")
     args = parser.parse_args(argv)
@@ -89,26 +92,29 @@ def main(argv=None):
             runs = {"events (one table)": events + ["--format", "csv"],
                     "events (streamed)": events + ["--format", "parquet", "--out", os.path.join(tmp, "stream"),
                                                    "--force"]}
+            if args.dask_workers:
+                runs[f"events (dask local:{args.dask_workers})"] = runs["events (streamed)"] + [
+                    "--dask", f"local:{args.dask_workers}"]
             if not args.skip_plan:
                 runs["plan"] = plan
             for name, cmd in runs.items():
                 best = {}
                 for _ in range(args.repeat):
                     for label, src in sources.items():
-                        if name == "events (streamed)" and label == "baseline":
+                        if name.startswith("events (") and name != "events (one table)" and label == "baseline":
                             continue  # the earlier version has no streamed form
                         wall, peak = measured(src, cmd, tmp)
                         old = best.get(label, (np.inf, 0.0))
                         best[label] = (min(old[0], wall), max(old[1], peak))
                 for label, (wall, peak) in best.items():
                     rows.append((n, name, label, wall, peak))
-                    print(f"{n:7d} {name:20s} {label:9s} {wall:8.2f} s {peak:8.0f} MiB", flush=True)
+                    print(f"{n:7d} {name:24s} {label:9s} {wall:8.2f} s {peak:8.0f} MiB", flush=True)
     if args.baseline_src:
         print("ratios (baseline time / this time):")
         for n, name, label, wall, _ in rows:
             if label == "baseline":
                 this = [r for r in rows if r[0] == n and r[1] == name and r[2] == "this"][0]
-                print(f"{n:7d} {name:20s} {wall / this[3]:6.2f}x")
+                print(f"{n:7d} {name:24s} {wall / this[3]:6.2f}x")
 
 
 if __name__ == "__main__":
