@@ -242,7 +242,8 @@ def connect(spec: str):
             n = 0
         if n < 1:
             raise PeriplanError(f"{spec!r}: expected local:N with N a whole number of workers, at least 1")
-        cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=None)
+        cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=None,
+                               scheduler_kwargs={"dashboard": False})
         return Client(cluster)
     try:
         return Client(spec, timeout=f"{CONNECT_TIMEOUT_S}s")

@@ -224,3 +224,13 @@ def test_streamed_run_warns_of_targets_that_never_rise_like_the_one_table_run(tm
     assert code == code_s == 0
     warning = [ln for ln in err_table.splitlines() if "never rises" in ln]
     assert len(warning) == 1 and warning == [ln for ln in err_stream.splitlines() if "never rises" in ln]
+
+
+def test_cli_dask_local_run_prints_what_the_one_table_run_prints(capsys):
+    # the command line path on a local cluster: same CSV, and Dask's own start/stop log stays quiet
+    common = ["events", SAMPLE_TARGETS, "--start", "2026-12-07", "--days", "10", "--format", "csv"]
+    code, out, _ = run(common, capsys)
+    code_d, out_d, err_d = run(common + ["--dask", "local:2", "--chunk-rows", "2"], capsys)
+    assert code == code_d == 0
+    assert out_d == out
+    assert err_d == ""

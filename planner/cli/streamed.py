@@ -65,6 +65,14 @@ def run_streamed(args, targets, site, tz, start_utc, end_utc, formats) -> int:
                           k_sigma=args.k_sigma, visible=args.visible)
     client = None
     if args.dask:
+        import contextlib
+        import logging
+
+        with contextlib.suppress(ImportError):  # survey.connect says what to install
+            import distributed  # noqa: F401  (its import sets its loggers to INFO; lowered below)
+        # Dask's own loggers say INFO about every start and stop; keep them for --verbose
+        for name in ("distributed", "dask"):
+            logging.getLogger(name).setLevel(logging.INFO if getattr(args, "verbose", False) else logging.ERROR)
         try:
             client = survey.connect(args.dask)
         except PeriplanError as exc:
