@@ -234,3 +234,12 @@ def test_cli_dask_local_run_prints_what_the_one_table_run_prints(capsys):
     assert code == code_d == 0
     assert out_d == out
     assert err_d == ""
+
+
+def test_unreadable_parquet_catalogue_is_one_line_and_exit_2(tmp_path, capsys):
+    path = tmp_path / "broken.parquet"
+    path.write_bytes(b"PAR1 this is not really a Parquet file")
+    code, out, err = run(["events", path, "--start", "2026-12-07", "--days", "5"], capsys)
+    assert code == 2 and out == ""
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("periplan: error: broken.parquet: not a readable Parquet file")
