@@ -243,3 +243,11 @@ def test_unreadable_parquet_catalogue_is_one_line_and_exit_2(tmp_path, capsys):
     assert code == 2 and out == ""
     lines = err.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("periplan: error: broken.parquet: not a readable Parquet file")
+
+
+def test_chunked_terminal_table_prints_what_the_one_table_run_prints(capsys):
+    common = ["events", SAMPLE_TARGETS, "--start", "2026-12-07", "--days", "10"]
+    one = run(common, capsys)
+    chunked = run(common + ["--chunk-rows", "2"], capsys)
+    assert one[0] == chunked[0] == 0
+    assert chunked[1] == one[1] and chunked[2] == one[2]

@@ -85,6 +85,10 @@ def run_streamed(args, targets, site, tz, start_utc, end_utc, formats) -> int:
             table = survey.collect(targets, job, chunk_rows, progress=bar, client=client)
             bar.done()
             sys.stdout.write(render(table, args.format, formats))
+            if args.format == "table":  # the one-table run's summary line, after the table
+                sys.stdout.flush()
+                print(f"{len(table)} events of {table['target'].nunique() if len(table) else 0} targets "
+                      f"from {start_utc.isot[:16]}Z to {end_utc.isot[:16]}Z", file=sys.stderr)
             return 0
         try:
             parquet_chunks.prepare_folder(args.out, args.force)
