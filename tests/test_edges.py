@@ -107,3 +107,20 @@ def test_mask_with_the_moon_shortcut_equals_the_full_evaluation(monkeypatch):
     monkeypatch.setattr(numerics, "rows_near_track", lambda v, track, limit: np.arange(len(v)))
     full = windows.observable_mask(targets.ra_deg, targets.dec_deg, site, jd, tracks=tracks)
     assert fast.any() and np.array_equal(fast, full)
+
+
+@pytest.mark.parametrize("span_turns", [0.05, 0.45, 0.97, 1.3])
+def test_rows_that_may_clear_never_leaves_out_a_row_above_the_limit(span_turns):
+    # brute force: cos H > cos H0 at any sample (the grid mask's own test), with the local Earth
+    # rotation angle wrapped into [0, 2 pi) as ERFA returns it
+    rng = np.random.default_rng(int(span_turns * 100))
+    n = 5000
+    ra_c = rng.uniform(0, 2 * np.pi, n)
+    cos_h0 = rng.uniform(-1.3, 1.3, n)
+    theta = np.mod(rng.uniform(0, 2 * np.pi) + np.linspace(0, 2 * np.pi * span_turns, 300), 2 * np.pi)
+    kept = np.zeros(n, bool)
+    kept[edges.rows_that_may_clear(cos_h0, ra_c, theta)] = True
+    above_somewhere = (np.cos(theta[None, :] - ra_c[:, None]) > cos_h0[:, None]).any(axis=1)
+    assert not np.any(above_somewhere & ~kept)
+    if span_turns < 0.5:
+        assert (~kept).sum() > n // 10  # it does skip targets

@@ -1,5 +1,8 @@
 """Edges of observable intervals: the altitude-limit crossing in closed form, bisection otherwise.
 
+Also :func:`rows_that_may_clear`, the targets that can be above the altitude limit at all within
+a stretch of Earth rotation, so the grid mask skips the others.
+
 Used by :func:`planner.sky.windows.observable_intervals`. Most interval edges are the moments a
 target passes the site's altitude limit; with the CIRS place fixed for the night and the Earth
 rotation angle linear in time, that moment follows from the hour angle of the limit altitude,
@@ -65,3 +68,25 @@ def edge_crossings(site, tracks, func, grid, n_per_grid, above, ra_c, dec_c):
                                       np.where(rising[rest, None], [-1.0, 1.0], [1.0, -1.0]))
         jd[rest] = sub_jd
     return rows, jd, rising
+
+
+def rows_that_may_clear(cos_h0, ra_c, theta_rad):
+    """Indices of targets that can be above the altitude limit at some time of ``theta_rad``.
+
+    ``cos_h0`` (N,) is the cosine of the hour angle at which each target crosses the limit (above
+    1: never clears it; below -1: always above), ``ra_c`` (N,) CIRS right ascensions (rad),
+    ``theta_rad`` (T,) the local Earth rotation angle (ERA + longitude) at the sample times, in
+    time order. A target whose hour angle stays outside [-H0, H0] over the whole stretch from the
+    first to the last time cannot be above the limit at any sample in it. A stretch of a full turn
+    or more keeps every target that ever clears the limit.
+    """
+    theta = np.unwrap(np.asarray(theta_rad, float))
+    span = theta[-1] - theta[0] if theta.size else 0.0
+    clears = ~(cos_h0 >= 1.0)  # NaN (a pole) kept
+    if not (0.0 <= span < 2.0 * np.pi - 1e-6) or np.any(np.diff(theta) < 0):
+        return np.flatnonzero(clears)
+    h0 = np.arccos(np.clip(cos_h0, -1.0, 1.0)) + 1e-9
+    # shift so that the visible hour angles are [0, 2 H0]; the stretch starts at `start`
+    start = np.mod(theta[0] - ra_c + h0, 2.0 * np.pi)
+    inside = (start <= 2.0 * h0) | (start + span >= 2.0 * np.pi)
+    return np.flatnonzero(clears & (inside | (cos_h0 <= -1.0)))

@@ -141,9 +141,11 @@ def _fast_mask(site, ra_c, dec_c, tvec, era, moon_v, sun_v, illumination, dec_ok
     with np.errstate(divide="ignore", invalid="ignore"):
         c = (np.sin(np.radians(h0)) - np.sin(lat) * np.sin(dec_c)) / (np.cos(lat) * np.cos(dec_c))
     theta = np.asarray(era) + np.radians(site.longitude_deg)
-    cos_h = np.stack([np.cos(ra_c), np.sin(ra_c)], axis=1) @ np.stack([np.cos(theta), np.sin(theta)])
-    m = cos_h > c[:, None]
-    m &= np.asarray(dec_ok)[:, None]
+    up = edges.rows_that_may_clear(c, ra_c, theta)
+    up = up[np.asarray(dec_ok)[up]]
+    m = np.zeros((ra_c.size, theta.size), bool)
+    m[up] = (np.stack([np.cos(ra_c[up]), np.sin(ra_c[up])], axis=1)
+             @ np.stack([np.cos(theta), np.sin(theta)])) > c[up, None]
     if site.moon_min_sep_deg > 0 or site.moon_sep_growth_deg > 0:
         need_deg = np.asarray(site.moon_min_sep_at_deg(illumination), float) * np.ones(len(moon_v))
         rows = numerics.rows_near_track(tvec, moon_v, float(need_deg.max()))
