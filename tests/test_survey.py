@@ -10,8 +10,7 @@ import io
 import json
 import os
 
-import distributed  # a declared dependency: this file fails, never skips, without it
-import numpy as np
+import distributed  # noqa: F401  (a declared dependency: this file fails, never skips, without it)
 import pandas as pd
 import pytest
 

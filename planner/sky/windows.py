@@ -61,7 +61,7 @@ import pandas as pd
 from .. import numerics
 from ..timescales.epochs import utc_to_tdb_jd
 from . import edges, positions
-from .crossings import find_crossings, positive_intervals
+from .crossings import positive_intervals
 from .night import night_of
 
 #: Out-of-event baseline wanted either side of an event, hours [common practice: ~1 h].
