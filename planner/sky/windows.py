@@ -14,8 +14,9 @@ limit, 15 x hour-angle distance to a limit, separation minus the needed separati
 when observable. Interval edges are the zero crossings of the margin, found by the planner's one
 crossing search (:func:`planner.crossings.find_crossings`): bracketed on a 5-minute grid across
 the dark interval by a fast mask with the same limits and no trigonometry on the grid (see
-:func:`_fast_mask`), then refined by bisection on the margin to 0.05 s; an interval cut by dusk
-or dawn starts or ends there. :func:`observable_mask` gives the mask itself on any time grid.
+:func:`_fast_mask`), then refined to 0.05 s: in closed form where the edge is the altitude
+limit (:mod:`planner.sky.edges`, checked on the margin), by bisection on the margin otherwise; an
+interval cut by dusk or dawn starts or ends there. :func:`observable_mask` gives the mask itself.
 
 Accuracy: masks equal astroplan's AltitudeConstraint / AtNightConstraint /
 MoonSeparationConstraint on 46,680 test samples, and on 2 million benchmark samples except where
