@@ -51,3 +51,22 @@ def value_in(value, unit: str, name: str) -> float:
 
             raise PeriplanError(f"{name}: {value} cannot be converted to {unit}") from None
     return float(value)
+
+
+def rows_near_track(vectors, track, limit_deg: float):
+    """Indices of the unit ``vectors`` (N, 3) that may come within ``limit_deg`` of ``track`` (T, 3).
+
+    The track (unit vectors, e.g. the Moon over a night) lies within r of its mean direction, so
+    a vector farther than limit + r (plus 0.01 deg for rounding) from that direction is clear of
+    the limit at every time and is left out. A track wider than 90 deg keeps every row.
+    """
+    centre = np.asarray(track, float).sum(axis=0)
+    norm = np.linalg.norm(centre)
+    if not norm > 0:
+        return np.arange(len(vectors))
+    centre = centre / norm
+    r_deg = np.degrees(np.arccos(np.clip((track @ centre).min(), -1.0, 1.0)))
+    if r_deg > 90.0:
+        return np.arange(len(vectors))
+    cos_clear = np.cos(np.radians(min(limit_deg + r_deg + 0.01, 180.0)))
+    return np.flatnonzero(vectors @ centre >= cos_clear)

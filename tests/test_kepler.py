@@ -128,6 +128,42 @@ def test_against_radvel_solver():
     assert np.max(np.abs(ours - theirs)) <= 1e-10
 
 
+@pytest.mark.parametrize("e", [0.0, 0.3, 0.7, 0.95, 0.99, 0.9999])
+def test_reduced_residual_promise_over_one_turn(e):
+    # The promise for the fast path: residual <= 1e-14 rad for M in [0, 2 pi), no failure
+    # up to e = 0.9999 (the invariant M = E - e sin E itself is the reference).
+    rng = np.random.default_rng(7)
+    m = np.concatenate([rng.uniform(0, 2 * np.pi, 100_000), np.geomspace(1e-15, 0.1, 2000),
+                        2 * np.pi - np.geomspace(1e-15, 0.1, 2000), [0.0, np.pi, np.nextafter(2 * np.pi, 0)]])
+    ecc = kepler.solve_kepler(m, e)
+    assert np.max(np.abs(ecc - e * np.sin(ecc) - m)) <= kepler.REDUCED_RESIDUAL_TOL_RAD
+
+
+def test_fallback_loop_alone_keeps_the_promise(monkeypatch):
+    # With the angle-addition check disabled every element goes through the fallback loop,
+    # which must reach the same residual on its own (mixed e up to 0.999999).
+    monkeypatch.setattr(kepler, "_TAYLOR_MAX_RAD", -1.0)
+    rng = np.random.default_rng(8)
+    m = rng.uniform(-2 * np.pi, 2 * np.pi, 20_000)
+    e = rng.uniform(0, 0.999999, 20_000)
+    ecc = kepler.solve_kepler(m, e)
+    assert np.max(np.abs(ecc - e * np.sin(ecc) - m)) <= kepler.REDUCED_RESIDUAL_TOL_RAD
+
+
+def test_against_radvel_compiled_solver():
+    # radvel's compiled solver radvel._kepler.kepler_array (Fulton et al. 2018, PASP 130, 044504),
+    # one e per call, converged to 1e-12 rad by its own test: the two must agree to that level
+    # divided by 1 - e (dE/dM = 1/(1 - e cos E)). Kept to e <= 0.95, where radvel's solver runs.
+    from radvel import _kepler
+
+    rng = np.random.default_rng(9)
+    m = rng.uniform(0, 2 * np.pi, 20_000)
+    for e in (0.05, 0.5, 0.9, 0.95):
+        ours = kepler.solve_kepler(m, e)
+        theirs = _kepler.kepler_array(m.copy(), e)
+        assert np.max(np.abs(ours - theirs)) <= 1e-12 / (1 - e)
+
+
 def test_refuses_unbound_orbit():
     with pytest.raises(PeriplanError, match="0 <= e < 1"):
         kepler.solve_kepler([0.1, 0.2], [0.5, 1.0])
@@ -136,6 +172,9 @@ def test_refuses_unbound_orbit():
 
 
 def test_nonconvergence_is_loud(monkeypatch):
+    # an impossible stopping threshold sends every element to the fallback loop, which then
+    # has no passes to make: the solver must raise with the mask, never return unsolved values
+    monkeypatch.setattr(kepler, "_STOP_TOL_RAD", -1.0)
     monkeypatch.setattr(kepler, "MAX_ITERATIONS", 0)
     with pytest.raises(ConvergenceError) as info:
         kepler.solve_kepler([0.5, 1.0], [0.9, 0.9])

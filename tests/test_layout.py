@@ -14,7 +14,7 @@ import pytest
 PACKAGE = pathlib.Path(__file__).resolve().parents[1] / "planner"
 FOUNDATION = {"errors", "numerics"}
 RANK = {"timescales": 0, "orbits": 1, "inputs": 2, "sky": 3, "scheduling": 4, "outputs": 5,
-        "pipeline": 6, "api": 6, "cli": 7, "__init__": 7, "__main__": 7}
+        "pipeline": 6, "api": 6, "survey": 6, "cli": 7, "__init__": 7, "__main__": 7}
 
 
 def module_name(path: pathlib.Path) -> str:

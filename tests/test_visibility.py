@@ -198,3 +198,16 @@ def test_positions_at_times_that_are_not_finite_are_nan():
     assert np.array_equal(grid.az_deg[:, [0, 2]], alone.az_deg)
     era = positions.earth_rotation_angle_rad(jd)
     assert np.isnan(era[1]) and np.array_equal(era[[0, 2]], positions.earth_rotation_angle_rad(jd[[0, 2]]))
+
+
+def test_altitude_of_a_time_does_not_depend_on_the_other_times_of_the_call():
+    # One apparent place per day-long block: the blocks sit on a fixed grid of Julian dates, so
+    # adding an earlier time to the call (another target's event, another chunk) changes nothing.
+    # Invariant of the engine's own definition, no outside value needed.
+    from planner.sky import positions
+
+    jd = np.array([2461384.3, 2461386.9])
+    alone = positions.altaz_at(64.0, 21.8, jd, 37.6, -3.1).alt_deg
+    with_earlier = positions.altaz_at(np.array([64.0, 64.0, 10.0]), np.array([21.8, 21.8, -5.0]),
+                                      np.r_[jd, 2461383.75], 37.6, -3.1).alt_deg[:2]
+    assert np.array_equal(alone, with_earlier)

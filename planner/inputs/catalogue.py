@@ -120,9 +120,9 @@ OUTPUT_COLUMNS = (
 def read_catalogue(catalogue, name: str | None = None) -> pd.DataFrame:
     """Validated target table (see module docstring) from a catalogue in any form.
 
-    ``catalogue`` is a path to a CSV file, or to an ECSV, VOTable or FITS table (chosen by the
-    extension, :data:`planner.inputs.catalogue_tables.TABLE_FORMATS`), a pandas DataFrame or an
-    astropy Table. Every form goes through the same checks and messages; ``name`` is what the
+    ``catalogue`` is a path to a CSV file, or to an ECSV, VOTable, FITS or Parquet table (chosen
+    by the extension, :data:`planner.inputs.catalogue_tables.TABLE_FORMATS`; Parquet by
+    :func:`planner.inputs.parquet_catalogue.is_parquet`), a pandas DataFrame or an astropy Table. Every form goes through the same checks and messages; ``name`` is what the
     messages call a DataFrame or Table (default ``DataFrame`` / ``Table``).
     """
     if isinstance(catalogue, pd.DataFrame):
@@ -136,6 +136,10 @@ def read_catalogue(catalogue, name: str | None = None) -> pd.DataFrame:
     fmt = table_format(catalogue)
     if fmt is not None:
         return read_table_file(catalogue, fmt)
+    from .parquet_catalogue import is_parquet, read_parquet_catalogue
+
+    if is_parquet(catalogue):
+        return read_parquet_catalogue(catalogue)
     raw, source = read_bytes(catalogue, "catalogue")
     return parse_catalogue(raw, source=source)
 

@@ -27,7 +27,7 @@ import pandas as pd
 
 from ..errors import PeriplanError
 from ..timescales.epochs import bjd_tdb_to_utc
-from . import binary_events, element_draws, geometry, light_time
+from . import binary_events, element_draws, geometry, light_time, timing
 from .geometry import ORBIT_EVENTS, PERIODIC_EVENT
 
 #: Monte Carlo draws per target for the phase-offset spread; the relative error of sigma from
@@ -55,13 +55,16 @@ def _offsets(e, omega_rad, epoch_kind):
 
 
 def offset_variance(e, e_err, omega_rad, omega_err_rad, epoch_kind, names, n_samples=DEFAULT_SAMPLES,
-                    seed=DEFAULT_SEED, shape=None):
+                    seed=DEFAULT_SEED, shape=None, method="auto"):
     """Mean square deviation (orbits^2) of the event phase offsets d_k under e and omega errors.
 
     Returns shape (n, 6), columns in :data:`~planner.orbit.ORBIT_EVENTS` order, taken about the
     nominal offsets (so any bias of the draw counts as spread). Targets with e = 0, or with no e
-    and omega errors, get 0. Each target draws from its own generator seeded by ``seed`` and the
-    CRC-32 of its name, so its value is reproducible and does not depend on the other targets.
+    and omega errors, get 0. ``method="auto"`` takes the linearised value of
+    :mod:`planner.orbits.timing` wherever its switch test trusts it and the Monte Carlo elsewhere;
+    ``"monte_carlo"`` draws for every target. Each target draws from its own generator seeded by
+    ``seed`` and the CRC-32 of its name, so its value is reproducible and does not depend on the
+    other targets.
     ``shape`` (optional: kind, x, y, x_err, y_err per target, see
     :func:`planner.orbits.element_draws.shape_draws`) makes rows that give ecosw/esinw or
     secosw/sesinw draw in those parameters instead of e and omega.
@@ -70,10 +73,18 @@ def offset_variance(e, e_err, omega_rad, omega_err_rad, epoch_kind, names, n_sam
     n = e.size
     var = np.zeros((n, len(ORBIT_EVENTS)))
     todo_mask = (e > 0) & ((e_err > 0) | (omega_err_rad > 0))
+    alt = np.zeros(e.shape, bool)
     if shape is not None:
         alt = np.asarray(shape[0]) != ""
         todo_mask = np.where(alt, (shape[3] > 0) | (shape[4] > 0), todo_mask)
     todo = np.flatnonzero(todo_mask)
+    # the linearised variance assumes independent e and omega errors: rows drawn in ecosw/esinw
+    # or secosw/sesinw keep the Monte Carlo in their own parameters
+    linear = todo[~alt[todo]]
+    if linear.size and method == "auto":
+        var[linear], needs_mc = timing.delta_offset_variance(e[linear], e_err[linear], omega_rad[linear],
+                                                             omega_err_rad[linear], epoch_kind[linear])
+        todo = np.sort(np.concatenate([todo[alt[todo]], linear[needs_mc]]))
     if todo.size == 0:
         return var
     nominal = _offsets(e[todo], omega_rad[todo], epoch_kind[todo])

@@ -157,12 +157,16 @@ def horizontal(ra_cirs_rad, dec_cirs_rad, era_rad, latitude_deg: float, longitud
 
 
 def _blocks(jd_utc):
-    """Block number of each time (blocks of PLACE_BLOCK_D from the earliest time) and block midpoints."""
+    """Block number of each time and block midpoints (UTC JD).
+
+    Blocks of PLACE_BLOCK_D on a fixed grid of Julian dates (not from the earliest time given), so
+    a target's apparent place at a time does not depend on which other times share the call: a
+    catalogue cut into chunks gets the same altitudes as the whole.
+    """
     jd = np.asarray(jd_utc, dtype=float)
-    lo = np.nanmin(jd)
-    block = np.floor((jd - lo) / PLACE_BLOCK_D).astype(int)
+    block = np.floor(jd / PLACE_BLOCK_D).astype(np.int64)
     ids = np.unique(block)
-    return block, ids, lo + (ids + 0.5) * PLACE_BLOCK_D
+    return block, ids, (ids + 0.5) * PLACE_BLOCK_D
 
 
 @dataclasses.dataclass(frozen=True)

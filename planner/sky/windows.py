@@ -14,8 +14,9 @@ limit, 15 x hour-angle distance to a limit, separation minus the needed separati
 when observable. Interval edges are the zero crossings of the margin, found by the planner's one
 crossing search (:func:`planner.crossings.find_crossings`): bracketed on a 5-minute grid across
 the dark interval by a fast mask with the same limits and no trigonometry on the grid (see
-:func:`_fast_mask`), then refined by bisection on the margin to 0.05 s; an interval cut by dusk
-or dawn starts or ends there. :func:`observable_mask` gives the mask itself on any time grid.
+:func:`_fast_mask`), then refined to 0.05 s: in closed form where the edge is the altitude
+limit (:mod:`planner.sky.edges`, checked on the margin), by bisection on the margin otherwise; an
+interval cut by dusk or dawn starts or ends there. :func:`observable_mask` gives the mask itself.
 
 Accuracy: masks equal astroplan's AltitudeConstraint / AtNightConstraint /
 MoonSeparationConstraint on 46,680 test samples, and on 2 million benchmark samples except where
@@ -62,8 +63,8 @@ import pandas as pd
 
 from .. import numerics
 from ..timescales.epochs import utc_to_tdb_jd
-from . import positions
-from .crossings import find_crossings, positive_intervals
+from . import edges, positions
+from .crossings import positive_intervals
 from .night import night_of
 from .window_size import DEFAULT_BASELINE_H, DEFAULT_EVENT_LENGTH_H, DEFAULT_K_SIGMA, window_half_width_d
 
@@ -136,14 +137,18 @@ def _fast_mask(site, ra_c, dec_c, tvec, era, moon_v, sun_v, illumination, dec_ok
     with np.errstate(divide="ignore", invalid="ignore"):
         c = (np.sin(np.radians(h0)) - np.sin(lat) * np.sin(dec_c)) / (np.cos(lat) * np.cos(dec_c))
     theta = np.asarray(era) + np.radians(site.longitude_deg)
-    cos_h = np.stack([np.cos(ra_c), np.sin(ra_c)], axis=1) @ np.stack([np.cos(theta), np.sin(theta)])
-    m = cos_h > c[:, None]
-    m &= np.asarray(dec_ok)[:, None]
+    up = edges.rows_that_may_clear(c, ra_c, theta)
+    up = up[np.asarray(dec_ok)[up]]
+    m = np.zeros((ra_c.size, theta.size), bool)
+    m[up] = (np.stack([np.cos(ra_c[up]), np.sin(ra_c[up])], axis=1)
+             @ np.stack([np.cos(theta), np.sin(theta)])) > c[up, None]
     if site.moon_min_sep_deg > 0 or site.moon_sep_growth_deg > 0:
-        need_cos = np.cos(np.radians(site.moon_min_sep_at_deg(illumination)))
-        m &= (tvec @ moon_v.T) < need_cos[None, :]
+        need_deg = np.asarray(site.moon_min_sep_at_deg(illumination), float) * np.ones(len(moon_v))
+        rows = numerics.rows_near_track(tvec, moon_v, float(need_deg.max()))
+        m[rows] &= (tvec[rows] @ moon_v.T) < np.cos(np.radians(need_deg))[None, :]
     if site.sun_min_sep_deg > 0:
-        m &= (tvec @ sun_v.T) < np.cos(np.radians(site.sun_min_sep_deg))
+        rows = numerics.rows_near_track(tvec, sun_v, site.sun_min_sep_deg)
+        m[rows] &= (tvec[rows] @ sun_v.T) < np.cos(np.radians(site.sun_min_sep_deg))
     profile_matters = bool(site.horizon_alt_deg) and max(site.horizon_alt_deg) > h0
     if profile_matters or site.min_hour_angle_h is not None or site.max_hour_angle_h is not None:
         i, t = np.nonzero(m)
@@ -258,12 +263,10 @@ def _interval_chunk(site, tracks, ra, dec, dec_ok, d0, d1, n_steps):
     moon_v = tracks.moon_vector(grid, era)  # (J, T, 3)
     sun_v = tracks.sun_vector(grid, era)
     illum = tracks.moon_illumination(grid)
-    values = np.empty((d0.size, n_t, n_steps))
+    above = np.empty((d0.size, n_t, n_steps), bool)
     for j in range(d0.size):
-        m = _fast_mask(site, ra_c[j], dec_c[j], tvec[j], era[j], moon_v[j], sun_v[j], illum[j], dec_ok)
-        values[j] = np.where(m, 1.0, -1.0)
-    values = values.reshape(-1, n_steps)  # row = j * N + n
-    row_grid = np.broadcast_to(grid[:, None, :], (d0.size, n_t, n_steps)).reshape(-1, n_steps)
+        above[j] = _fast_mask(site, ra_c[j], dec_c[j], tvec[j], era[j], moon_v[j], sun_v[j], illum[j], dec_ok)
+    above = above.reshape(-1, n_steps)  # row = j * N + n
 
     def func(jd, rows):
         j, n = rows // n_t, rows % n_t
@@ -273,9 +276,10 @@ def _interval_chunk(site, tracks, ra, dec, dec_ok, d0, d1, n_steps):
         cs = np.einsum("ik,ik->i", tv, tracks.sun_vector(jd, e))
         return _margin_deg(site, ra_c[j, n], dec_c[j, n], cm, cs, e, tracks.moon_illumination(jd), dec_ok[n])
 
-    rows, jd, rising = find_crossings(func, row_grid, values)
-    r, start, end = positive_intervals(rows, jd, rising, values[:, 0] > 0, values[:, -1] > 0,
-                                       row_grid[:, 0], row_grid[:, -1])
+    rows, jd, rising = edges.edge_crossings(site, tracks, func, grid, n_t, above, ra_c.reshape(-1),
+                                            dec_c.reshape(-1))
+    r, start, end = positive_intervals(rows, jd, rising, above[:, 0], above[:, -1], np.repeat(d0, n_t),
+                                       np.repeat(d1, n_t))
     j, n = r // n_t, r % n_t
     max_alt = _max_altitude_deg(ra_c[j, n], dec_c[j, n], tracks.era_rad(start), tracks.era_rad(end),
                                 start, end, site)

@@ -12,6 +12,7 @@ from ...errors import PeriplanError
 from . import require_nonnegative
 from ...outputs.tables import FORMATS, render
 from ...outputs.wording import count
+from .. import streamed
 
 #: Most days of nights added either side of the span for windows widened by large timing
 #: uncertainties; beyond it the coverage of a window is counted only where nights are known.
@@ -23,6 +24,7 @@ examples:
   periplan events targets.csv --start 2026-12-07 --days 7 --kinds periastron primary_conjunction
   periplan events targets.csv --start 2026-12-07 --days 30 --tz Europe/Madrid --format csv > events.csv
   periplan events sample_targets/targets.csv --start 2026-12-07 --days 14 --site sample_targets/site.toml --visible 0.8
+  periplan events survey.parquet --start 2026-12-07 --days 30 --format parquet --out survey-dec --dask local:2
 """
 
 
@@ -33,7 +35,7 @@ def register(sub):
                     "time, in BJD_TDB, UTC and (with --tz) local time, with the 1-sigma timing uncertainty.",
         epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("catalog", metavar="CATALOG",
-                   help="catalogue of targets and elements: CSV, or an ECSV, VOTable or FITS table "
+                   help="catalogue of targets and elements: CSV, or an ECSV, VOTable, FITS or Parquet table "
                         "(by extension)")
     p.add_argument("--start", required=True, metavar="YYYY-MM-DD",
                    help="first day of the span (00:00 UTC, or local midnight with --tz)")
@@ -54,7 +56,9 @@ def register(sub):
     p.add_argument("--k-sigma", type=float, default=None, metavar="K",
                    help="with --site: widen each window by K times the 1-sigma timing uncertainty "
                         "either side (default 2)")
-    p.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
+    p.add_argument("--format", choices=FORMATS + (streamed.STREAM_FORMAT,), default="table",
+                   help="output format (default table); parquet writes chunk files into --out DIR")
+    streamed.add_options(p)
     p.set_defaults(run=run)
     return p
 
@@ -69,7 +73,7 @@ def _event_word(text: str) -> str:
 
 def run(args) -> int:
     from .. import spans
-    from ...inputs import catalogue
+    from ...inputs.parquet_catalogue import read_catalogue_file
     from ...orbits.events import predict_events
     from ...orbits.events import seen_in_span
     from ...outputs.explain import no_uncertainty_note
@@ -85,6 +89,7 @@ def run(args) -> int:
     if args.visible is not None and not 0.0 <= args.visible <= 1.0:
         raise PeriplanError(f"--visible must be a fraction between 0 and 1; got {args.visible:g}")
     require_nonnegative(args, "baseline_h", "k_sigma")
+    streamed.check_options(args)
     site = None
     if args.site:
         from ...inputs.site import read_site
@@ -92,12 +97,16 @@ def run(args) -> int:
         site = read_site(args.site)
     tz = args.tz or (site.timezone if site else None)
     start_utc, end_utc = spans.span_utc(args.start, args.days, tz)
-    targets = catalogue.read_catalogue(args.catalog)
+    targets = read_catalogue_file(args.catalog)
+    formats = {"bjd_tdb": ".6f", "sigma_min": ".2f", "duration_h": ".2f"}
+    if streamed.wanted(args):
+        if site is not None:
+            formats.update({"alt_deg": ".1f", "moon_sep_deg": ".1f", "observable_fraction": ".2f"})
+        return streamed.run_streamed(args, targets, site, tz, start_utc, end_utc, formats)
     events = predict_events(targets, *spans.bjd_bounds(start_utc, end_utc), kinds=args.kinds)
     events, t_utc = seen_in_span(events, targets, start_utc, end_utc)
     table = events_frame(events, t_utc, tz)
     _note_corrections(table, events, targets)
-    formats = {"bjd_tdb": ".6f", "sigma_min": ".2f", "duration_h": ".2f"}
     if site is not None:
         table = _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args)
         formats.update({"alt_deg": ".1f", "moon_sep_deg": ".1f", "observable_fraction": ".2f"})
