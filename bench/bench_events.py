@@ -21,13 +21,16 @@ def random_catalogue(n, seed=0):
     rng = np.random.default_rng(seed)
     period = 10 ** rng.uniform(np.log10(0.5), np.log10(500), n)
     e = np.where(rng.uniform(size=n) < 0.3, 0.0, rng.uniform(0, 0.95, n))
-    lines = ["name,ra,dec,period_d,period_err_d,e,e_err,omega_deg,omega_err_deg,tc,tc_err_d,time_system"]
+    # events named in full: the same workload as before the defaults began to follow the target
+    every = "periastron;apastron;primary_conjunction;secondary_conjunction;rv_max;rv_min"
+    circular = "primary_conjunction;secondary_conjunction;rv_max;rv_min"
+    lines = ["name,ra,dec,period_d,period_err_d,e,e_err,omega_deg,omega_err_deg,tc,tc_err_d,time_system,events"]
     for i in range(n):
         system = "HJD_UTC" if i % 3 == 0 else "BJD_TDB"
         lines.append(f"T{i},{rng.uniform(0, 360):.5f},{rng.uniform(-60, 80):.5f},{period[i]:.7f},"
                      f"{period[i] * 1e-6:.2e},{e[i]:.4f},{0.01 if e[i] else ''},"
                      f"{rng.uniform(0, 360) if e[i] else '':}{'' if e[i] else ''},{2.0 if e[i] else ''},"
-                     f"{2460000 + rng.uniform(0, 500):.5f},0.0005,{system}")
+                     f"{2460000 + rng.uniform(0, 500):.5f},0.0005,{system},{every if e[i] else circular}")
     return "\n".join(lines) + "\n"
 
 

@@ -3,7 +3,9 @@
 Every problem with the user's input is a :class:`InputError` (a ``ValueError``) that carries
 where it was found (file, row, column or key) and the offending value, so a caller can point the
 user at the exact cell. :class:`InputErrors` bundles all the problems found in one pass over a
-file, so a single run reports every bad row.
+file, so a single run reports every bad row. :class:`TimeScaleError`, :class:`SkyTrackError` and
+:class:`CrossingSearchError` are what the time-scale and sky stages raise for values they cannot
+use; every one is a :class:`PeriplanError`, so the command line reports it in one line.
 """
 
 from __future__ import annotations
@@ -53,9 +55,28 @@ class InputErrors(PeriplanError):
         return "\n".join(str(e) for e in self.errors)
 
 
+class PeriplanWarning(UserWarning):
+    """Input that is accepted but looks wrong (the command line prints it as one line)."""
+
+
 class ConvergenceError(PeriplanError):
     """An iterative solver did not converge; ``mask`` marks the elements that failed."""
 
     def __init__(self, message: str, mask=None):
         self.mask = mask
         super().__init__(message)
+
+
+class TimeScaleError(PeriplanError):
+    """A date, instant, time zone or time system that cannot be converted (timescales stage).
+
+    The message names the value and what is accepted, e.g. an IANA zone name or ``YYYY-MM-DD``.
+    """
+
+
+class SkyTrackError(PeriplanError):
+    """Sun and Moon tracks asked for times outside the span they cover, or for a span that is none."""
+
+
+class CrossingSearchError(PeriplanError):
+    """The zero-crossing search found rises and sets that do not alternate: its grid is too coarse."""

@@ -1,7 +1,7 @@
 """The whole pipeline in one call: target table + site + nights -> :class:`Plan`.
 
 :func:`make_plan` runs the stages in order (nights, events, observable intervals, event
-visibility, schedule) and returns every intermediate table, so the command line, the notebook
+visibility, observing requests, schedule) and returns every intermediate table, so the command line, the notebook
 and the tests see the same thing. It reads and writes no files; :mod:`planner.plan_files` writes
 a plan out. Times are UTC Julian dates (``*_jd_utc``) except the events' ``bjd_tdb``.
 """
@@ -17,6 +17,7 @@ import pandas as pd
 
 from . import numerics
 from .orbits.events import predict_events
+from .scheduling.requests import RequestSettings, build_requests
 from .scheduling.schedule import ScheduleOptions, plan_week
 from .sky import night as night_mod
 from .sky import positions, windows
@@ -25,7 +26,7 @@ from .timescales.epochs import utc_to_tdb_jd
 log = logging.getLogger(__name__)
 
 #: Stages reported to a progress callback, in order.
-STAGES = ("nights", "events", "intervals", "visibility", "schedule")
+STAGES = ("nights", "events", "intervals", "visibility", "requests", "schedule")
 #: Events are predicted this many days beyond the nights' edges, so that a window reaching into
 #: the week from an event just outside it (a long transit, a wide timing uncertainty) is seen.
 EVENT_MARGIN_D = 1.0
@@ -54,6 +55,7 @@ class Plan:
     nights: pd.DataFrame
     events: pd.DataFrame        # planner.windows.event_visibility output, events in the nights only
     intervals: pd.DataFrame     # planner.windows.observable_intervals
+    requests: pd.DataFrame      # planner.scheduling.requests.build_requests
     schedule: pd.DataFrame      # planner.schedule.plan_week
     never_rising: pd.DataFrame  # planner.windows.never_rising
     tracks: object              # planner.visibility.SkyTracks of the Sun and Moon
@@ -85,19 +87,28 @@ def moon_separation_deg(targets, tracks, target_index, jd_utc):
     return positions.separation_deg(vec, tracks.moon_vector(jd))
 
 
-def first_night_for(start, timezone: str, now: dt.datetime | None = None) -> dt.date:
-    """The first night's label: ``start`` as a date, or the night now under way or coming.
+def first_night_for(start, site, now: dt.datetime | None = None) -> dt.date:
+    """The first night's label: ``start`` as a date, or by default the night still to observe.
 
-    Nights are labelled by the local date of their evening and run from noon to noon, so before
-    local noon (at 2 a.m., say) the current night is the one labelled with yesterday's date.
-    ``now`` (an aware datetime) is for tests; it defaults to the present moment.
+    Nights are labelled by the local date of their evening and run from noon to noon. Without
+    ``start`` the first night is the night under way (at 2 a.m., the one labelled with
+    yesterday's date) until the end of its darkness (the site's darkness; sunrise on a night
+    without darkness), and from then on the coming night: run at 05:50, after dawn, a plan
+    starts with the evening ahead, not with a night that is over. ``site`` is a
+    :class:`~planner.inputs.site.Site`; ``now`` (an aware datetime) is for tests and defaults
+    to the present moment.
     """
     if start is not None:
         return start if isinstance(start, dt.date) else dt.date.fromisoformat(str(start))
-    from .timescales.clock import zone
+    from .timescales.clock import datetime_to_jd_utc, zone
 
-    local = (now or dt.datetime.now(dt.timezone.utc)).astimezone(zone(timezone))
-    return (local - dt.timedelta(hours=12)).date()
+    now = now or dt.datetime.now(dt.timezone.utc)
+    under_way = (now.astimezone(zone(site.timezone)) - dt.timedelta(hours=12)).date()
+    night = night_mod.night_table(site, under_way, 1).iloc[0]
+    ends = [night[c] for c in ("dark_end_jd_utc", "sunrise_jd_utc") if np.isfinite(night[c])]
+    if ends and datetime_to_jd_utc(now) >= ends[0]:
+        return under_way + dt.timedelta(days=1)
+    return under_way
 
 
 def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
@@ -134,10 +145,15 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
                                        k_sigma=settings.k_sigma, tracks=tracks, intervals=intervals)
     visible = visible[visible["night"].notna()].reset_index(drop=True)
 
-    stage("schedule")
     plan = Plan(site=site, targets=targets, nights=nights, events=visible, intervals=intervals,
-                schedule=pd.DataFrame(), never_rising=windows.never_rising(targets, site), tracks=tracks,
-                settings=settings)
+                requests=pd.DataFrame(), schedule=pd.DataFrame(), never_rising=windows.never_rising(targets, site),
+                tracks=tracks, settings=settings)
+    stage("requests")
+    plan.requests = build_requests(visible, targets, intervals, plan.altitude_deg,
+                                   RequestSettings(settings.baseline_h, settings.k_sigma, settings.schedule.min_block_min),
+                                   settings.schedule.weights)
+
+    stage("schedule")
     plan.schedule = plan_week(visible, intervals, targets, nights, altitude_deg=plan.altitude_deg,
-                              moon_sep_deg=plan.moon_sep_deg, options=settings.schedule)
+                              moon_sep_deg=plan.moon_sep_deg, options=settings.schedule, requests=plan.requests)
     return plan

@@ -42,8 +42,15 @@ CATALOGUE_EXPECTED = {
     "duplicate_names.csv": (3, "name", "duplicate target name 'Good-1' (first at row 2)"),
     "missing_omega.csv": (2, "omega_deg", "required when e > 0"),
     "missing_epoch_value.csv": (2, "tc", "missing epoch"),
-    "two_epochs.csv": (2, "tc", "give exactly one"),
-    "unknown_event.csv": (2, "events", "unknown event 'transit'"),
+    # tp with tc is allowed since issue 14 (two epochs), but only with both 1-sigma errors
+    "two_epochs.csv": (2, "tp_err_d", "two epochs need both 1-sigma errors"),
+    "epochs_inconsistent.csv": (2, "tp", "combined sigma (over 10)"),
+    "omega_dot_no_unit.csv": (1, "omega_dot", "omega_dot has no unit"),
+    "period_kind_unknown.csv": (2, "period_kind", "expected 'sidereal' or 'anomalistic'"),
+    "shape_both_parametrisations.csv": (2, "ecosw", "both e/omega_deg and ecosw/esinw are given"),
+    "ecosw_without_esinw.csv": (2, "esinw", "come as a pair"),
+    "third_body_e3_one.csv": (2, "e3", "1 is not a bound orbit"),
+    "unknown_event.csv": (2, "events", "unknown event 'ingress'"),
     "too_many_fields.csv": (2, None, "8 fields but the header has 7"),
     "negative_uncertainty.csv": (2, "period_err_d", "must not be negative"),
     "omega_of_unknown.csv": (2, "omega_of", "expected 'primary' or 'companion'"),
@@ -52,6 +59,21 @@ CATALOGUE_EXPECTED = {
     "inclination_and_impact.csv": (2, "b", "give either inc_deg or b, not both"),
     "empty_name.csv": (2, "name", "empty target name"),
     "tp_on_linear_ephemeris.csv": (2, "tp", "needs e and omega_deg"),
+    "decimal_comma.csv": (2, "period_d", "'3,25' is not a number (a decimal comma?"),
+    "period_without_unit.csv": (1, "period", "needs its unit: did you mean 'period_d'?"),
+    "reserved_column_name.csv": (1, "ra_deg", "is a name periplan gives to a column it computes"),
+    "quoted_note_then_bad_row.csv": (3, "e", "1.5 is not a bound orbit"),  # the note is one row
+    "period_unit_of_length.ecsv": (None, None, "column 'period' has unit 'm' (length); period_d needs time"),
+    "eccentricity_one.ecsv": (2, "e", "1.02 is not a bound orbit"),  # the second data row
+    "unclosed_quote.csv": (3, None, 'not readable as CSV: a quote (") opened in this row is never closed'),
+    "text_after_closing_quote.csv": (2, None, "text follows a closing quote"),
+    "observe_unknown_word.csv": (2, "observe", "unknown observation 'spectroscopy'; expected photometry, rv"),
+    "observe_unknown_in_list.csv": (2, "observe", "unknown observation 'imaging'"),
+    "visit_length_negative.csv": (2, "visit_h", "-0.5 must be positive"),
+    "rv_fraction_above_one.csv": (2, "rv_fraction_k", "1.5 is outside 0 < fraction <= 1"),
+    "rv_fraction_negative.csv": (2, "rv_fraction_k", "-0.1 is outside 0 < fraction <= 1"),
+    "rv_visits_fractional.csv": (2, "rv_visits", "2.5 is not a whole number of visits >= 1"),
+    "full_coverage_not_yes_no.csv": (2, "full_coverage", "'maybe' is not yes or no"),
 }
 
 
@@ -132,3 +154,18 @@ def test_bad_catalogue_stops_plan_before_anything_is_written(tmp_path, capsys):
         _, err = capsys.readouterr()
         assert code == 2 and err.startswith(f"periplan: error: {name}"), (name, err)
         assert not out.exists(), name
+
+
+def test_linear_row_with_tp_and_tc_gets_only_the_epoch_messages():
+    # a linear ephemeris (no e, omega) cannot hold two epochs; the refusal names the epochs and
+    # does not also ask for errors that are there
+    from planner.errors import InputErrors
+    from planner.inputs import catalogue
+
+    with pytest.raises(InputErrors) as err:
+        catalogue.parse_catalogue("name,ra,dec,period_d,tc,tc_err_d,tp,tp_err_d\n"
+                                  "X,10,20,3.1,2455000.5,0.01,2455000.1,0.02\n", source="lin.csv")
+    text = str(err.value)
+    assert "lin.csv, row 2, column tc: more than one epoch given" in text
+    assert "lin.csv, row 2, column tp: tp (periastron) needs e and omega_deg" in text
+    assert "1-sigma errors" not in text

@@ -29,7 +29,7 @@ def test_demo_catalogue_loads_with_conventions():
     from conftest import SAMPLE_TARGETS
 
     t = catalogue.read_catalogue(SAMPLE_TARGETS)
-    assert len(t) == 6 and t.name.is_unique
+    assert len(t) == 7 and t.name.is_unique
     row = t.set_index("name")
     # omega_of = companion: the primary's omega is the catalogue's + 180 deg
     assert abs(row.loc["Tessel-3", "omega_deg"] - (70.4 + 180)) <= 1e-12
@@ -97,8 +97,8 @@ def test_duplicate_names_and_omega_rules():
 
 
 def test_events_column_validated():
-    text = "name,ra,dec,period_d,e,omega_deg,tc,events\nA,1,2,3,0.1,10,2460000,periastron;transit\n"
-    assert "unknown event 'transit'" in errors_of(text)[0]
+    text = "name,ra,dec,period_d,e,omega_deg,tc,events\nA,1,2,3,0.1,10,2460000,periastron;ingress\n"
+    assert "unknown event 'ingress'" in errors_of(text)[0]
     t = catalogue.parse_catalogue("name,ra,dec,period_d,e,omega_deg,tc,events\n"
                                   "A,1,2,3,0.1,10,2460000, RV_MAX ; periastron\n", source="c")
     assert t.events[0] == ("rv_max", "periastron")

@@ -12,6 +12,7 @@ import struct
 import numpy as np
 import pandas as pd
 import pytest
+import radvel.kepler as radvel_kepler
 
 from planner.outputs import charts
 from planner.scheduling import schedule
@@ -20,7 +21,8 @@ from planner.inputs.catalogue import parse_catalogue
 J0 = 2461382.0  # 2026-12-07 12:00 UTC
 
 NIGHT = pd.Series({"night": "2026-12-07", "sunset_jd_utc": J0 + 0.20, "dark_start_jd_utc": J0 + 0.26,
-                   "dark_end_jd_utc": J0 + 0.74, "sunrise_jd_utc": J0 + 0.80, "moon_illumination": 0.4})
+                   "dark_end_jd_utc": J0 + 0.74, "sunrise_jd_utc": J0 + 0.80, "moon_illumination": 0.4,
+                   "darkness_sun_alt_deg": -18.0})
 
 
 def block(night, s, e, target, ti, event="periastron", kind="fixed", ev=np.nan, ws=np.nan, we=np.nan):
@@ -121,7 +123,6 @@ Ecc,63.14,21.78,111.4367,0.928,301.2,2461300.25,468.0,-3120.0,periastron;primary
 
 
 def test_rv_chart_curve_matches_radvel_and_marks_events_and_blocks(tmp_path):
-    radvel_kepler = pytest.importorskip("radvel.kepler")
     target = parse_catalogue(CATALOGUE).iloc[0]
     p, tp, e, w, k, gamma = 111.4367, 2461300.25, 0.928, np.radians(301.2), 468.0, -3120.0
     blocks = pd.DataFrame([block("2026-12-07", J0 + 0.30, J0 + 0.42, "Ecc", 0)])

@@ -29,7 +29,9 @@ def test_csv_columns_sorted_and_times_consistent(capsys):
         assert col in table.columns
     assert table.utc.str.endswith("Z").all()
     t = Time(list(table.utc.str.rstrip("Z")), format="isot", scale="utc")
-    assert np.all(np.diff(t.jd) >= -1 / 86400)  # sorted (BJD order may differ by light time)
+    # sorted by BJD_TDB: in UTC two targets' light times (each within +-499 s, Eastman et al. 2010)
+    # can reorder events closer than 998 s
+    assert np.all(np.diff(t.jd) >= -998 / 86400)
     # local midnight start: 2026-12-07 00:00 CET = 2026-12-06 23:00 UTC; 30 days later
     assert t.min() >= Time("2026-12-06T23:00:00", scale="utc")
     assert t.max() < Time("2027-01-05T23:00:00", scale="utc")
@@ -79,3 +81,45 @@ def test_bad_catalogue_reports_every_row_without_traceback(tmp_path):
 def test_missing_file(capsys):
     code, _, err = run(["events", "no-such.csv", "--start", "2026-12-07"], capsys)
     assert code == 2 and "no-such.csv: no such catalogue file" in err
+
+
+def _one_target_catalogue(tmp_path, dec=None):
+    """The demo catalogue's first target alone (declination replaced when ``dec`` is given)."""
+    lines = SAMPLE_TARGETS.read_text(encoding="utf-8").splitlines()
+    header = next(i for i, ln in enumerate(lines) if ln.startswith("name,"))
+    row = lines[header + 1].split(",")
+    if dec is not None:
+        row[2] = dec
+    path = tmp_path / "one.csv"
+    path.write_text("\n".join([lines[header], ",".join(row)]) + "\n", encoding="utf-8")
+    return path
+
+
+def test_summary_line_counts_with_plurals_and_the_catalogue(tmp_path, capsys):
+    one = _one_target_catalogue(tmp_path)
+    # one day holds no event of a 111-day orbit here: "0 events of 1 target", not "of 0 targets"
+    code, out, err = run(["events", str(one), "--start", "2026-12-07", "--days", "1"], capsys)
+    assert code == 0 and "0 events of 1 target from" in err
+    code, out, err = run(["events", str(one), "--start", "2026-12-07", "--days", "400"], capsys)
+    assert code == 0 and " events of 1 target from" in err and "targets" not in err
+    code, out, err = run(["events", str(SAMPLE_TARGETS), "--start", "2026-12-07", "--days", "1",
+                          "--kinds", "periastron", "--format", "csv"], capsys)
+    shown = pd.read_csv(io.StringIO(out))
+    assert code == 0 and len(shown) == 1  # the one line below is printed with the table format only
+    code, out, err = run(["events", str(SAMPLE_TARGETS), "--start", "2026-12-07", "--days", "1",
+                          "--kinds", "periastron"], capsys)
+    assert code == 0 and "1 event of 1 of 7 targets from" in err
+
+
+def test_visible_filter_does_not_claim_hidden_events_are_listed(tmp_path, capsys):
+    # -70 deg never rises above 30 deg at latitude 37.6 N (culmination 90 - 37.6 - 70 < 0)
+    south = _one_target_catalogue(tmp_path, dec="-70:00:00")
+    site = str(REPO / "sample_targets" / "site.toml")
+    code, out, err = run(["events", str(south), "--start", "2026-12-07", "--days", "400", "--site", site,
+                          "--visible", "0.5"], capsys)
+    assert code == 0
+    warning = [ln for ln in err.splitlines() if "never rises" in ln]
+    assert len(warning) == 1 and "left out by --visible 0.5" in warning[0]
+    assert "listed with observable_fraction 0" not in err
+    code, out, err = run(["events", str(south), "--start", "2026-12-07", "--days", "400", "--site", site], capsys)
+    assert code == 0 and "listed with observable_fraction 0" in err

@@ -53,7 +53,8 @@ def test_files_written(demo_dir):
 def test_schedule_blocks_do_not_overlap_and_hold_their_events(demo_dir):
     sched = pd.read_csv(demo_dir / "schedule.csv")
     for col in ("night", "start_utc", "end_utc", "start_local", "end_local", "target", "event", "event_utc",
-                "score", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg", "notes"):
+                "score", "request", "covers", "not_covered", "t1_utc", "t4_utc", "alt_low_deg", "alt_event_deg",
+                "airmass", "moon_sep_deg", "notes"):
         assert col in sched.columns
     start = Time(list(sched.start_utc.str.rstrip("Z")), scale="utc").jd
     end = Time(list(sched.end_utc.str.rstrip("Z")), scale="utc").jd
@@ -61,12 +62,15 @@ def test_schedule_blocks_do_not_overlap_and_hold_their_events(demo_dir):
     for night, rows in sched.assign(s=start, e=end).groupby("night"):
         rows = rows.sort_values("s")
         assert np.all(rows.s.to_numpy()[1:] >= rows.e.to_numpy()[:-1] + overhead_d - 1.5 / 86400)
-    fixed = sched[sched.kind == "fixed"]
-    ev = Time(list(fixed.event_utc.str.rstrip("Z")), scale="utc").jd
-    fs, fe = start[fixed.index], end[fixed.index]
-    assert np.all((ev >= fs - 1 / 86400) & (ev <= fe + 1 / 86400))
-    # the altitude limit of the site (30 deg) holds at every block's start, middle and end
-    assert (sched[["alt_start_deg", "alt_mid_deg", "alt_end_deg"]] >= 30 - 0.05).all().all()
+    # a series block that says it covers the mid-event holds the event moment
+    mid = sched[(sched.request == "series") & sched.covers.fillna("").str.contains("mid|T1-T4")]
+    ev = Time(list(mid.event_utc.str.rstrip("Z")), scale="utc").jd
+    assert len(mid) and np.all((ev >= start[mid.index] - 1 / 86400) & (ev <= end[mid.index] + 1 / 86400))
+    # an RV visit is a short block
+    visits = sched[sched.request.isin(["rv_visit", "rv_sequence"])]
+    assert len(visits) and np.all((end - start)[visits.index] * 24 <= 1.0 + 1e-6)
+    # the altitude limit of the site (30 deg) holds through every block
+    assert (sched["alt_low_deg"] >= 30 - 0.05).all()
 
 
 def test_event_times_agree_with_periplan_events(demo_dir, capsys):
@@ -141,8 +145,9 @@ def test_week_without_darkness_says_so(tmp_path, capsys):
     code, stdout, _ = run(["plan", str(SAMPLE_TARGETS), "--site", str(site), "--start", "2027-06-15",
                            "--nights", "3", "--out", str(out)], capsys)
     assert code == 0
-    assert "Nothing can be scheduled" in stdout
-    assert stdout.count("no darkness") == 3
+    # said once for the plan (and once per night with its darkness), not twice
+    assert sum("othing could be scheduled" in ln or "othing can be scheduled" in ln for ln in stdout.splitlines()) == 1
+    assert stdout.count("no astronomical darkness") == 3
     assert len(pd.read_csv(out / "schedule.csv")) == 0
 
 
@@ -172,13 +177,69 @@ def test_charts_drawn_in_parallel_equal_sequential(tmp_path):
             assert filecmp.cmp(pa, pb, shallow=False), pa
 
 
-def test_default_first_night_is_the_night_under_way():
-    # At 02:00 local the current night began the evening before; at 20:00 it is today's.
+def _dawn(site, evening_utc, which):
+    """astroplan's end of the site's darkness after ``evening_utc`` (an aware UTC datetime)."""
     import datetime as dt
 
+    from astroplan import Observer
+
+    observer = Observer(location=site.earth_location(), pressure=0)  # pressure 0: airless geometry
+    find = {-18.0: observer.twilight_morning_astronomical, -12.0: observer.twilight_morning_nautical}[which]
+    return find(Time(evening_utc), which="next").to_datetime(timezone=dt.timezone.utc)
+
+
+#: Distance of the test moments from the reference dawn: well beyond the 30 s by which our night
+#: times and astroplan's may differ (tests/test_night.py).
+DAWN_MARGIN_MIN = 3
+
+
+@pytest.mark.parametrize("darkness, sun_alt_deg", [("astronomical", -18.0), ("nautical", -12.0)])
+def test_default_first_night_moves_on_at_the_end_of_darkness(darkness, sun_alt_deg):
+    import datetime as dt
+
+    from planner.inputs.site import parse_site
     from planner.pipeline import first_night_for
 
+    text = SITE.read_text().replace('darkness = "astronomical"', f'darkness = "{darkness}"')
+    site = parse_site(text, "site.toml")
+    assert site.darkness_sun_alt_deg == sun_alt_deg
+    # reference: astroplan's morning twilight of the night of 2026-12-07 at the demo site
+    dawn = _dawn(site, dt.datetime(2026, 12, 7, 20, 0, tzinfo=dt.timezone.utc), sun_alt_deg)
+    margin = dt.timedelta(minutes=DAWN_MARGIN_MIN)
+    assert first_night_for(None, site, dawn - margin) == dt.date(2026, 12, 7)
+    assert first_night_for(None, site, dawn + margin) == dt.date(2026, 12, 8)
+    # Europe/Madrid is UTC+01:00 in December (IANA tz database): 02:00 local is still the night
+    # of the 7th, 20:00 local the night of the 8th
     madrid = dt.timezone(dt.timedelta(hours=1))
-    assert first_night_for(None, "Europe/Madrid", dt.datetime(2026, 12, 8, 2, 0, tzinfo=madrid)) == dt.date(2026, 12, 7)
-    assert first_night_for(None, "Europe/Madrid", dt.datetime(2026, 12, 8, 20, 0, tzinfo=madrid)) == dt.date(2026, 12, 8)
-    assert first_night_for("2026-12-01", "Europe/Madrid") == dt.date(2026, 12, 1)
+    assert first_night_for(None, site, dt.datetime(2026, 12, 8, 2, 0, tzinfo=madrid)) == dt.date(2026, 12, 7)
+    assert first_night_for(None, site, dt.datetime(2026, 12, 8, 20, 0, tzinfo=madrid)) == dt.date(2026, 12, 8)
+    assert first_night_for("2026-12-01", site) == dt.date(2026, 12, 1)
+
+
+def test_night_under_way_says_how_many_blocks_are_past(tmp_path, monkeypatch, capsys):
+    import datetime as dt
+
+    from planner.cli.commands import plan as plan_command
+
+    now = dt.datetime(2026, 12, 8, 1, 0, tzinfo=dt.timezone.utc)  # 02:00 in Madrid (UTC+01:00)
+    monkeypatch.setattr(plan_command, "_now", lambda: now)
+    out = tmp_path / "tonight"
+    code, _, err = run(["plan", str(SAMPLE_TARGETS), "--site", str(SITE), "--nights", "1", "--out", str(out)],
+                       capsys)
+    assert code == 0, err
+    sched = pd.read_csv(out / "schedule.csv")
+    assert set(sched.night) == {"2026-12-07"}
+    began = Time(list(sched.start_utc.str.rstrip("Z")), scale="utc") < Time(now)
+    assert 0 < began.sum() < len(sched)  # some blocks of this plan lie before 02:00, some after
+    block = "block" if began.sum() == 1 else "blocks"
+    assert (f"periplan: note: the night of 2026-12-07 is under way: {began.sum()} {block} of its {len(sched)} "
+            "began before now (02:00 local time)") in err
+
+
+def test_one_night_plan_counts_in_the_singular(tmp_path, capsys):
+    code, out, err = run(["plan", str(SAMPLE_TARGETS), "--site", str(SITE), "--start", START, "--nights", "1",
+                          "--out", str(tmp_path / "one")], capsys)
+    assert code == 0, err
+    assert "1 nights" not in out and "on 1 night at" in out
+    last = [ln for ln in out.splitlines() if " at Altozano Ridge Observatory; " in ln]
+    assert len(last) == 1 and " files in " in last[0]

@@ -42,8 +42,9 @@ def test_circular_orbit_events_are_quarter_periods_apart():
 def test_e_0999_events_cluster_at_periastron():
     # At e = 0.999 everything but apastron happens within a tiny fraction of the orbit around
     # periastron (the mean anomaly from periastron to nu = 90 deg is of order (1 - e)^1.5).
-    t = load("name,ra,dec,period_d,e,e_err,omega_deg,omega_err_deg,tp,tp_err_d\n"
-             "X,10,10,1000.0,0.999,0.0002,60,1,2460000.0,0.01\n")
+    t = load("name,ra,dec,period_d,e,e_err,omega_deg,omega_err_deg,tp,tp_err_d,events\n"
+             "X,10,10,1000.0,0.999,0.0002,60,1,2460000.0,0.01,"
+             "periastron;apastron;primary_conjunction;secondary_conjunction;rv_max;rv_min\n")
     ev = predict_events(t, 2460000.0 - 1, 2461000.0 - 1)
     assert len(ev) == 6
     near = ev[ev.event != "apastron"]
@@ -112,7 +113,7 @@ def test_empty_catalogue_gives_an_empty_plan(tmp_path, capsys):
     code = cli.main(["plan", str(cat), "--site", str(REPO / "sample_targets" / "site.toml"),
                      "--start", "2026-12-07", "--nights", "2", "--out", str(tmp_path / "p")])
     out, _ = capsys.readouterr()
-    assert code == 0 and "Nothing can be scheduled" in out
+    assert code == 0 and "Nothing could be scheduled" in out
     assert len(pd.read_csv(tmp_path / "p" / "schedule.csv")) == 0
 
 

@@ -118,5 +118,7 @@ def test_failure_leaves_the_previous_file_untouched(tmp_path):
 
 
 def test_naive_dtstamp_is_refused():
-    with pytest.raises(ValueError, match="timezone-aware"):
+    from planner.errors import TimeScaleError
+
+    with pytest.raises(TimeScaleError, match="2026-12-06T18:00:00 has no time zone; give an aware datetime"):
         ical.plan_calendar(make_schedule(), dt.datetime(2026, 12, 6, 18, 0))

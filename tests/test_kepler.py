@@ -2,6 +2,7 @@
 
 import numpy as np
 import pytest
+import radvel.kepler as radvel_kepler
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
@@ -119,7 +120,6 @@ def test_identities_e_zero_and_apsides():
 def test_against_radvel_solver():
     # radvel (Fulton et al. 2018, PASP 130, 044504) radvel.kepler.kepler: same equation, its own
     # iteration; both must agree to the convergence level.
-    radvel_kepler = pytest.importorskip("radvel.kepler")
     rng = np.random.default_rng(1)
     m = rng.uniform(0, 2 * np.pi, 5000)
     e = rng.uniform(0, 0.99, 5000)

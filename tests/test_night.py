@@ -11,14 +11,20 @@ from planner.sky.night import SUNRISE_ALT_DEG, night_table, solar_noons_jd_utc
 from planner.inputs.site import Site
 
 #: Night times against astroplan: both search the same geometric -0.8333 / -6 / -12 / -18 deg
-#: crossings of astropy's Sun, so they agree to about a second; the issue asks for 1 minute, and
-#: 30 s leaves room for astroplan's own grid interpolation at grazing high-latitude crossings.
-ASTROPLAN_TOLERANCE_S = 30.0
+#: crossings of astropy's Sun, so they agree to well under a second, the README's promise.
+#: astroplan interpolates linearly between its grid points; with 300 points over the day its
+#: own error reached 0.93 s at a grazing crossing (60.2 N in June), so the reference runs on
+#: ASTROPLAN_GRID_POINTS (1.4 min apart). Measured worst difference over CASES: 0.15 s
+#: (Moon rise: 0.06 s); what is left is the bisection (0.05 s) and astroplan's interpolation.
+ASTROPLAN_TOLERANCE_S = 1.0
+ASTROPLAN_GRID_POINTS = 1000
 #: Against the skyfield documentation (DE421 ephemeris, not astropy's built-in VSOP87/ELP):
-#: the reference notes expect a few seconds with the same definitions; 15 s.
-SKYFIELD_TOLERANCE_S = 15.0
+#: the published times are rounded to the whole second (0.5 s) and the two ephemerides move
+#: the Sun's crossings by a few tenths of a second; measured worst difference 0.75 s; 2 s.
+SKYFIELD_TOLERANCE_S = 2.0
 #: Moon's illuminated fraction against astroplan.moon_illumination (same formula, same
-#: ephemeris; only our hourly interpolation differs): 0.001 of the disc.
+#: ephemeris; only our linear interpolation on the 6-hour grid differs, measured 1.3e-4):
+#: 0.001 of the disc.
 ILLUMINATION_TOLERANCE = 1e-3
 
 SECONDS_PER_DAY = 86400.0
@@ -45,10 +51,10 @@ def astroplan_times(s, noon_jd):
     hd = s.darkness_sun_alt_deg * u.deg
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        found = [obs.sun_set_time(t, which="next", horizon=h0, n_grid_points=300),
-                 obs.sun_set_time(t, which="next", horizon=hd, n_grid_points=300),
-                 obs.sun_rise_time(t, which="next", horizon=hd, n_grid_points=300),
-                 obs.sun_rise_time(t, which="next", horizon=h0, n_grid_points=300)]
+        found = [obs.sun_set_time(t, which="next", horizon=h0, n_grid_points=ASTROPLAN_GRID_POINTS),
+                 obs.sun_set_time(t, which="next", horizon=hd, n_grid_points=ASTROPLAN_GRID_POINTS),
+                 obs.sun_rise_time(t, which="next", horizon=hd, n_grid_points=ASTROPLAN_GRID_POINTS),
+                 obs.sun_rise_time(t, which="next", horizon=h0, n_grid_points=ASTROPLAN_GRID_POINTS)]
     out = []
     for x in found:
         v = np.ma.filled(np.ma.asarray(x.jd, dtype=float), np.nan)
@@ -218,7 +224,7 @@ def test_moon_illumination_and_moonrise_match_astroplan():
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
             rise = obs.moon_rise_time(Time(row.noon_jd_utc, format="jd"), which="next",
-                                      horizon=-0.8333 * u.deg, n_grid_points=300).jd
+                                      horizon=-0.8333 * u.deg, n_grid_points=ASTROPLAN_GRID_POINTS).jd
         if rise < row.next_noon_jd_utc:
             assert abs(row.moon_rise_jd_utc - rise) * SECONDS_PER_DAY < ASTROPLAN_TOLERANCE_S
         else:
@@ -267,3 +273,15 @@ def test_shared_crossing_search_on_a_known_function():
     assert list(r) == [0, 0, 0, 1, 1]
     want = [(0.03, 0.5), (1.0, 1.5), (2.0, 2.03), (0.1, 0.6), (1.1, 1.6)]
     assert np.max(np.abs(np.c_[start, end] - np.array(want))) <= DEFAULT_TOLERANCE_D
+
+
+def test_crossings_that_do_not_alternate_are_a_crossing_search_error():
+    # a series said to be above zero at both ends with one rising crossing between: two starts
+    # and one end; the message says what to change
+    from planner.errors import CrossingSearchError, PeriplanError
+    from planner.sky.crossings import positive_intervals
+
+    with pytest.raises(CrossingSearchError, match="sample the function on a finer grid") as info:
+        positive_intervals(np.array([0]), np.array([0.5]), np.array([True]), np.array([True]),
+                           np.array([True]), np.array([0.0]), np.array([1.0]))
+    assert isinstance(info.value, PeriplanError)

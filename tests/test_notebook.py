@@ -1,6 +1,7 @@
 """The worked notebook runs from top to bottom (so it cannot rot)."""
 
-import pytest
+import nbclient
+import nbformat
 
 from conftest import REPO
 
@@ -8,8 +9,6 @@ NOTEBOOK = REPO / "notebooks" / "plan_a_week.ipynb"
 
 
 def test_notebook_executes():
-    nbformat = pytest.importorskip("nbformat")
-    nbclient = pytest.importorskip("nbclient")
     nb = nbformat.read(NOTEBOOK, as_version=4)
     client = nbclient.NotebookClient(nb, timeout=300, kernel_name="python3",
                                      resources={"metadata": {"path": str(REPO / "notebooks")}})

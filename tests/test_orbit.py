@@ -2,12 +2,12 @@
 
 import numpy as np
 import pytest
+import radvel.kepler as radvel_kepler
+import radvel.orbit as radvel_orbit
+from PyAstronomy import pyasl
 
 from planner.orbits import kepler
 from planner.orbits import geometry
-
-radvel_orbit = pytest.importorskip("radvel.orbit")
-radvel_kepler = pytest.importorskip("radvel.kepler")
 
 # HAT-P-2 b elements: Pal et al. 2010, MNRAS 401, 2665 (abstract): Tc = 2454387.49375 BJD,
 # P = 5.6334729 d, e = 0.5171, omega = 185.22 deg (the star's, RV convention).
@@ -115,7 +115,6 @@ def test_circular_transit_duration_matches_pyastronomy():
     # PyAstronomy pyasl.transitDuration (exact=True) evaluates (P/pi) arcsin(sqrt((R*+Rp)^2-b^2)/(a sin i)).
     # The ratios use PyAstronomy's own constants (its solar radius, 695508 km, differs from
     # astropy's nominal 695700 km), so both sides see the same geometry.
-    pyasl = pytest.importorskip("PyAstronomy.pyasl")
     from PyAstronomy import constants
 
     const = constants.PyAConstants()

@@ -30,12 +30,15 @@ TIME_TOL_D = 1e-3 / 86400.0
 J0 = 2461382.0  # 2026-12-07 12:00 UTC (JD); noon before the first night
 NIGHT_LABELS = ("2026-12-07", "2026-12-08", "2026-12-09")
 
+# observe = photometry: the events below are photometric series whose contacts are not known
+# (no duration or geometry), so each stretch must hold the event moment (tests/test_requests.py
+# covers the other request kinds)
 CATALOGUE = """\
-name,ra,dec,period_d,e,omega_deg,tp,priority,visit_h,visit_gap_h
-Alpha,10,20,111.4,0.5,30,2461000.5,5,,
-Beta,40,20,3.0,0.0,90,2461000.5,2,,
-Gamma,60,30,38.9,0.2,200,2461000.5,2,1.0,20
-Delta,80,10,9.0,0.3,100,2461000.5,1,0.5,
+name,ra,dec,period_d,e,omega_deg,tp,priority,visit_h,visit_gap_h,observe
+Alpha,10,20,111.4,0.5,30,2461000.5,5,,,photometry
+Beta,40,20,3.0,0.0,90,2461000.5,2,,,photometry
+Gamma,60,30,38.9,0.2,200,2461000.5,2,1.0,20,photometry
+Delta,80,10,9.0,0.3,100,2461000.5,1,0.5,,photometry
 """
 
 
@@ -51,6 +54,7 @@ def nights_table(labels=NIGHT_LABELS, dark=True):
         "night": list(labels), "sunset_jd_utc": J0 + k + 0.20,
         "dark_start_jd_utc": J0 + k + 0.26 if dark else nan, "dark_end_jd_utc": J0 + k + 0.74 if dark else nan,
         "sunrise_jd_utc": J0 + k + 0.80, "moon_illumination": np.full(len(labels), 0.4),
+        "darkness_sun_alt_deg": np.full(len(labels), -18.0),
     })
 
 
@@ -138,7 +142,7 @@ def _random_week(rng, targets, n_per_night=6):
             ti = int(rng.integers(0, 2))  # the fixed-event targets Alpha and Beta
             s = rng.uniform(0.26, 0.65)
             rows.append(visible_row(names[ti], ti, k, s, s + rng.uniform(0.02, 0.12),
-                                    event=str(rng.choice(["periastron", "rv_max", "rv_min"])),
+                                    event=str(rng.choice(["periastron", "primary_conjunction", "secondary_conjunction"])),
                                     fraction=float(rng.uniform(0.3, 1.0)), sep=float(rng.uniform(5, 120))))
     return pd.DataFrame(rows)
 
@@ -190,7 +194,7 @@ def test_same_input_same_plan_whatever_the_row_order(targets):
 
 def test_identical_blocks_tie_break_is_stable(targets):
     # Two equal-score candidates on the same stretch: the same one wins in any row order.
-    rows = [visible_row("Beta", 1, 0, 0.3, 0.4, event="rv_max"), visible_row("Beta", 1, 0, 0.3, 0.4, event="rv_min")]
+    rows = [visible_row("Beta", 1, 0, 0.3, 0.4, event="primary_conjunction"), visible_row("Beta", 1, 0, 0.3, 0.4, event="secondary_conjunction")]
     a = schedule.plan_week(pd.DataFrame(rows), None, targets, nights_table(), altitude)
     b = schedule.plan_week(pd.DataFrame(rows[::-1]), None, targets, nights_table(), altitude)
     assert len(a) == 1 and list(a["event"]) == list(b["event"])
@@ -215,7 +219,7 @@ def test_repeat_rules(targets):
 def _alpha_three_nights_with_beta_clash(clash_night):
     """Alpha's periastron on three nights; a better Beta block clashes with it on ``clash_night``."""
     rows = [visible_row("Alpha", 0, k, 0.35, 0.45, sep=(10.0, 100.0, 60.0)[k]) for k in range(3)]
-    rows.append(visible_row("Beta", 1, clash_night, 0.30, 0.50, event="rv_max"))
+    rows.append(visible_row("Beta", 1, clash_night, 0.30, 0.50, event="primary_conjunction"))
     visible = pd.DataFrame(rows)
     # Alpha's instance on the clash night is poorly covered and next to a full Moon, so Beta wins
     visible.loc[clash_night, ["observable_fraction", "moon_sep_deg", "moon_illumination"]] = [0.01, 0.0, 1.0]
@@ -292,7 +296,7 @@ def test_flexible_visits_respect_gap_one_per_night_and_fixed_blocks(targets):
 
 
 def test_flexible_visit_not_added_for_a_target_with_a_fixed_block_that_night(targets):
-    visible = pd.DataFrame([visible_row("Gamma", 2, 0, 0.30, 0.40, event="rv_max")])
+    visible = pd.DataFrame([visible_row("Gamma", 2, 0, 0.30, 0.40, event="primary_conjunction")])
     plan = schedule.plan_week(visible, availability_rows(2, "Gamma", nights=(0,)), targets,
                               nights_table(), altitude)
     assert list(plan["kind"]) == ["fixed"]
@@ -317,8 +321,8 @@ def test_nothing_visible_gives_an_empty_plan_with_the_columns(targets):
 
 def test_notes_partial_meridian_twilight_and_sun(targets):
     rows = [visible_row("Alpha", 0, 0, 0.45, 0.55, fraction=0.6),   # partial, crosses the peak at 0.5
-            visible_row("Beta", 1, 1, 0.24, 0.30, event="rv_max"),  # starts in twilight
-            visible_row("Alpha", 0, 2, 0.15, 0.25, event="rv_min")]  # starts before sunset
+            visible_row("Beta", 1, 1, 0.24, 0.30, event="primary_conjunction"),  # starts in twilight
+            visible_row("Alpha", 0, 2, 0.15, 0.25, event="secondary_conjunction")]  # starts before sunset
     plan = schedule.plan_week(pd.DataFrame(rows), None, targets, nights_table(), altitude)
     notes = dict(zip(plan["night"], plan["notes"]))
     assert "partial: 60% of the event window" in notes[NIGHT_LABELS[0]]
@@ -357,8 +361,10 @@ def test_display_frame_times_match_astropy(targets):
     plan = schedule.plan_week(pd.DataFrame([visible_row("Alpha", 0, 0, 0.3, 0.5)]), None, targets, nights_table())
     shown = tables.display_frame(plan, "Europe/Madrid")
     for col in ("night", "start_utc", "end_utc", "start_local", "end_local", "target", "event", "event_utc",
-                "score", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg", "notes"):
+                "score", "request", "covers", "alt_low_deg", "alt_event_deg", "alt_t1_deg", "airmass",
+                "moon_sep_deg", "notes"):
         assert col in shown.columns
+    assert "alt_start_deg" not in shown.columns
     expect = Time(plan["start_jd_utc"].iloc[0], format="jd", scale="utc").isot[:19] + "Z"
     assert shown["start_utc"].iloc[0] == expect
     # Madrid is UTC+1 in December (IANA tz database, zone Europe/Madrid, CET)
@@ -366,15 +372,15 @@ def test_display_frame_times_match_astropy(targets):
     assert shown["start_local"].iloc[0][11:13] == f"{(int(expect[11:13]) + 1) % 24:02d}"
 
 
-def test_blocks_without_the_event_moment_are_dropped_unless_asked(targets):
-    # the observable stretch ends 1 h before the event: only the baseline would be observed
+def test_series_without_contacts_needs_the_event_moment(targets):
+    # No duration or geometry: the parts of the event are unknown, so a stretch that ends 1 h
+    # before the event (only baseline) is worth nothing; one that holds the event is kept.
     row = visible_row("Alpha", 0, 0, 0.30, 0.40)
     row["bjd_tdb"] = row["jd_utc"] = J0 + 0.45
-    visible = pd.DataFrame([row])
-    assert schedule.plan_week(visible, None, targets, nights_table(), altitude).empty
-    kept = schedule.plan_week(visible, None, targets, nights_table(), altitude,
-                              options=schedule.ScheduleOptions(event_inside_only=False))
-    assert len(kept) == 1 and "the event time itself lies outside the block" in kept["notes"].iloc[0]
+    assert schedule.plan_week(pd.DataFrame([row]), None, targets, nights_table(), altitude).empty
+    row["bjd_tdb"] = row["jd_utc"] = J0 + 0.39
+    kept = schedule.plan_week(pd.DataFrame([row]), None, targets, nights_table(), altitude)
+    assert len(kept) == 1 and kept["covers"].iloc[0] == "mid" and kept["request"].iloc[0] == "series"
 
 
 def test_block_belongs_to_the_night_that_holds_it(targets):
@@ -382,7 +388,7 @@ def test_block_belongs_to_the_night_that_holds_it(targets):
     # night 0: the block goes to night 0 and competes there, so nights never overlap.
     wide = visible_row("Alpha", 0, 0, 0.30, 0.45)
     wide["night"] = NIGHT_LABELS[1]
-    other = visible_row("Beta", 1, 0, 0.40, 0.50, event="rv_max")
+    other = visible_row("Beta", 1, 0, 0.40, 0.50, event="primary_conjunction")
     plan = schedule.plan_week(pd.DataFrame([wide, other]), None, targets, nights_table(), altitude)
     assert set(plan["night"]) == {NIGHT_LABELS[0]}
     assert len(plan) == 1  # the two overlap, only one fits

@@ -70,14 +70,17 @@ def test_moon_term_limits_and_formula():
 
 def test_timing_term_limits_and_formula():
     w = 4.0 / 24.0
-    assert float(score.timing_term(0.0, w, 3.0)) == 1.0
+    # sigma exactly 0 means the catalogue gave no uncertainty (issue 9, item 8): the stated
+    # neutral value, not the full quality of a perfectly known time
+    assert float(score.timing_term(0.0, w, 3.0)) == score.NEUTRAL_TIMING_QUALITY == 0.5
+    assert abs(float(score.timing_term(1e-9, w, 3.0)) - 1.0) <= 1e-6  # a tiny given sigma: full
     # +-3 sigma band exactly as wide as the window: 0
     assert abs(float(score.timing_term(w / 6.0, w, 3.0))) <= TERM_TOL
     sigma = 5.0 / 1440.0
     assert abs(float(score.timing_term(sigma, w, 3.0)) - (1.0 - 6.0 * sigma / w)) <= TERM_TOL
     assert float(score.timing_term(np.nan, np.nan)) == 1.0  # flexible visit: no event time
     assert float(score.timing_term(0.01, 0.0)) == 0.0
-    assert np.all(np.diff(score.timing_term(np.linspace(0, 0.05, 11), w)) <= 0)
+    assert np.all(np.diff(score.timing_term(np.linspace(1e-6, 0.05, 11), w)) <= 0)
 
 
 def test_score_is_importance_times_conditions_and_weights_scale_their_column():

@@ -21,13 +21,20 @@ from planner.outputs import sheets
 J0 = 2461382.0  # 2026-12-07 12:00 UTC
 TZ = "Europe/Madrid"
 NIGHT = pd.Series({"night": "2026-12-07", "sunset_jd_utc": J0 + 0.2013, "dark_start_jd_utc": J0 + 0.2637,
-                   "dark_end_jd_utc": J0 + 0.7391, "sunrise_jd_utc": J0 + 0.8012, "moon_illumination": 0.43})
+                   "dark_end_jd_utc": J0 + 0.7391, "sunrise_jd_utc": J0 + 0.8012, "moon_illumination": 0.43,
+                   "darkness_sun_alt_deg": -18.0})
 NO_DARK = pd.Series({"night": "2026-12-08", "sunset_jd_utc": J0 + 1.2, "dark_start_jd_utc": np.nan,
-                     "dark_end_jd_utc": np.nan, "sunrise_jd_utc": J0 + 1.8, "moon_illumination": 0.5})
+                     "dark_end_jd_utc": np.nan, "sunrise_jd_utc": J0 + 1.8, "moon_illumination": 0.5,
+                     "darkness_sun_alt_deg": -18.0})
 
 
-def block(s, e, target, event="periastron", kind="fixed", night="2026-12-07", **extra):
+def block(s, e, target, event="primary_conjunction", kind="fixed", night="2026-12-07", **extra):
     row = {c: np.nan for c in schedule.SCHEDULE_COLUMNS}
+    request = {"primary_conjunction": "series", "rv_max": "rv_visit"}.get(event, "monitor")
+    row.update(request=request, serves=event, slot=0, n_slots=1, science_fraction=0.8 if request == "series" else 1.0,
+               covers="pre;T1;mid" if request == "series" else "", not_covered="T4;post" if request == "series" else "",
+               t1_jd_utc=J0 + s + 0.04 if request == "series" else np.nan,
+               earliest_start_jd_utc=J0 + s, latest_start_jd_utc=J0 + s)
     row.update(night=night, start_jd_utc=J0 + s, end_jd_utc=J0 + e, target=target, target_index=0,
                event=event, label=event if kind == "fixed" else "flexible visit", kind=kind,
                event_jd_utc=J0 + 0.5 * (s + e) if kind == "fixed" else np.nan,
@@ -35,8 +42,8 @@ def block(s, e, target, event="periastron", kind="fixed", night="2026-12-07", **
                window_start_jd_utc=J0 + s - 0.01 if kind == "fixed" else np.nan,
                window_end_jd_utc=J0 + e + 0.01 if kind == "fixed" else np.nan,
                observable_fraction=0.9 if kind == "fixed" else np.nan, priority=5.0,
-               period_d=111.4 if kind == "fixed" else np.nan, alt_start_deg=40.0, alt_mid_deg=55.0,
-               alt_end_deg=48.0, airmass=1.3, moon_sep_deg=70.0, moon_illumination=0.43,
+               period_d=111.4 if kind == "fixed" else np.nan, alt_low_deg=40.0, alt_event_deg=55.0,
+               alt_t1_deg=48.0, airmass=1.3, moon_sep_deg=70.0, moon_illumination=0.43,
                x_priority=5.0, x_rarity=3.76, pts_coverage=18.0, pts_airmass=8.5, pts_moon=10.0,
                pts_timing=9.0, score=855.4, notes="partial: 90% of the event window is observable")
     row.update(extra)
@@ -67,7 +74,7 @@ def test_caution_on_every_list_including_empty_ones():
 
 def test_sky_times_in_utc_and_local():
     text = sheets.night_sheet_text(NIGHT, blocks_shuffled(), TZ)
-    for col, name in sheets.SKY_ROWS:
+    for col, name in sheets.sky_rows(NIGHT):
         utc = utc_clock(NIGHT[col])
         local = utc.astimezone(ZoneInfo(TZ))
         line = next(ln for ln in text.splitlines() if ln.startswith(name))
@@ -90,10 +97,13 @@ def test_blocks_are_listed_in_time_order_with_what_and_why():
     assert starts == expect
     local0 = utc_clock(J0 + 0.30).astimezone(ZoneInfo(TZ)).strftime("%H:%M")
     assert heads[0].startswith(f"1. {local0}-")
-    assert "Do: cover the periastron passage" in text
+    assert "Do: photometric time series of the transit or primary eclipse." in text
+    assert ("Covers pre-baseline, ingress (T1), mid-event; not covered: egress (T4), post-baseline.") in text
+    assert "Altitude: lowest 40 deg, at the event 55 deg, at T1 48 deg." in text
     assert ("Why: score 855.4 = priority 5 x rarity x3.76 (event recurs every 111.4 d) x conditions 45.5 points: "
-            "90% of the event window observable (18.0), mean airmass 1.30 (8.5)") in text
-    assert "timing +-3.0 min (1 sigma)" in text
+            "80% of the series' science kept, 90% of the window observable (18.0), mean airmass 1.30 (8.5)") in text
+    assert "Do: one RV spectrum of about 72 min near the RV maximum." in text
+    assert "timing +- 3.0 min (1 sigma) in a 2.9 h window (9.0)" in text
     assert "Notes: partial: 90% of the event window is observable." in text
     assert "one visit" in text  # the flexible block's action
 
@@ -115,7 +125,7 @@ def test_empty_nights_say_why():
     assert "Nothing scheduled" in sheets.night_sheet_html(NIGHT, none, TZ)
     nights = pd.DataFrame([NIGHT, NO_DARK])
     summary = sheets.week_summary_text(none, nights, TZ)
-    assert "2026-12-08  no darkness  nothing scheduled" in summary
+    assert "2026-12-08  no astronomical darkness  nothing scheduled" in summary
     assert "Nothing could be scheduled this week" in summary
 
 
@@ -128,7 +138,8 @@ def test_writers_produce_one_text_and_one_html_per_night_and_the_csv(tmp_path):
     csv_path = sheets.write_schedule_csv(tmp_path / "schedule.csv", plan, TZ)
     back = pd.read_csv(csv_path, keep_default_na=False)
     for col in ("night", "start_utc", "end_utc", "start_local", "end_local", "target", "event", "event_utc",
-                "score", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg", "notes"):
+                "score", "request", "covers", "not_covered", "t1_utc", "alt_low_deg", "alt_event_deg", "alt_t1_deg",
+                "airmass", "moon_sep_deg", "notes"):
         assert col in back.columns
     assert len(back) == 3
     first = back.iloc[0]

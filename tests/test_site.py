@@ -119,3 +119,58 @@ def test_not_toml_is_one_line():
     with pytest.raises(InputErrors) as info:
         parse_site("name = \n", "bad.toml")
     assert str(info.value).startswith("bad.toml: not valid TOML") and "\n" not in str(info.value)
+
+
+def _site_at(longitude_deg, tz):
+    return MINIMAL.replace("-83.8917", repr(longitude_deg)).replace("America/New_York", tz)
+
+
+def test_longitude_of_the_wrong_sign_for_the_zone_gives_one_warning():
+    import warnings
+
+    from planner.errors import PeriplanWarning
+    from planner.inputs.site import zone_longitude_gap_h
+
+    # America/New_York keeps Eastern Standard Time, UTC-05:00 (IANA tz database, zone
+    # America/New_York). 83.02 deg taken as east gives local mean time UTC+05:32, 10.5 h away;
+    # the same longitude as west (-83.02) is 0.5 h away.
+    assert abs(zone_longitude_gap_h("America/New_York", 83.02, 2026) - (83.02 / 15 + 5)) < 1e-9
+    assert abs(zone_longitude_gap_h("America/New_York", -83.02, 2026) - (83.02 / 15 - 5)) < 1e-9
+    with pytest.warns(PeriplanWarning) as caught:
+        parse_site(_site_at(83.02, "America/New_York"), "backyard.toml")
+    assert len(caught) == 1
+    message = str(caught[0].message)
+    assert "\n" not in message and "backyard.toml" in message and "longitude_deg" in message
+    assert "UTC-05:00" in message and "10.5 h" in message
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        parse_site(_site_at(-83.02, "America/New_York"), "backyard.toml")
+
+
+@pytest.mark.parametrize("longitude_deg, tz", [
+    # Pacific/Kiritimati keeps UTC+14:00 (IANA tz database) at about 157.4 W (from memory): 0.5 h
+    # round the clock, not 24.5 h
+    (-157.4, "Pacific/Kiritimati"),
+    # Asia/Shanghai (UTC+08:00) is used across China, to about 76 E in the west (from memory): 2.9 h
+    (76.0, "Asia/Shanghai"),
+    # the demo observatory: Europe/Madrid (UTC+01:00) at 3.12 W, 1.2 h
+    (-3.12, "Europe/Madrid"),
+])
+def test_zones_far_from_their_meridian_but_right_give_no_warning(longitude_deg, tz):
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        parse_site(_site_at(longitude_deg, tz), "site.toml")
+
+
+def test_cli_prints_the_zone_warning_as_one_line_and_carries_on(tmp_path, capsys):
+    from planner import cli
+
+    site = tmp_path / "backyard.toml"
+    site.write_text(_site_at(83.02, "America/New_York"))
+    code = cli.main(["nights", "--site", str(site), "--start", "2026-12-07", "--days", "1", "--format", "csv"])
+    out, err = capsys.readouterr()
+    assert code == 0 and out.startswith("night,")
+    warned = [ln for ln in err.splitlines() if "longitude_deg" in ln]
+    assert len(warned) == 1 and warned[0].startswith("periplan: warning: ")

@@ -129,6 +129,82 @@ def test_bundled_iers_table_equals_astropys_reading():
     assert abs(t.get_delta_ut1_utc() - ours.ut1_utc(t)) == 0
 
 
+#: Budget for Earth orientation against astropy's default table: a tenth of the 1-arcsec
+#: position promise (README). UT1 - UTC turns the Earth by 15.04 arcsec per second of time.
+EOP_BUDGET_ARCSEC = 0.1
+UT1_BUDGET_S = EOP_BUDGET_ARCSEC / 15.041
+POLAR_MOTION_BUDGET_ARCSEC = EOP_BUDGET_ARCSEC
+
+
+def test_bundled_table_against_what_astropy_uses_by_default():
+    # astropy's default Earth-orientation table offline is IERS_Auto: the bundled finals2000A
+    # file with its Bulletin B columns replaced by the bundled IERS-B (EOP C04) series. Ours
+    # keeps the file's own B columns. Reference: IERS_Auto.open() with downloads off.
+    from astropy.utils import iers
+
+    from planner.timescales import earth_orientation
+
+    earth_orientation.configure()  # downloads off (as in every run)
+    ours = earth_orientation.bundled_iers_a()
+    default = iers.IERS_Auto.open()
+    last_b_mjd = iers.IERS_B.open()["MJD"][-1].to_value(u.d)
+    mjd = ours["MJD"].to_value(u.d)
+    assert np.array_equal(mjd, default["MJD"].to_value(u.d))
+    after_b = mjd > last_b_mjd
+    assert after_b.sum() > 300  # the recent weeks and a year of predictions
+    for col, unit, budget in (("UT1_UTC", u.s, UT1_BUDGET_S), ("PM_x", u.arcsec, POLAR_MOTION_BUDGET_ARCSEC),
+                              ("PM_y", u.arcsec, POLAR_MOTION_BUDGET_ARCSEC)):
+        a, b = ours[col].to_value(unit), default[col].to_value(unit)
+        # where the planner works (after the IERS-B series ends): the same Bulletin A values
+        assert np.array_equal(a[after_b], b[after_b]), col
+        # before it, the two B series differ (measured: 4.9 ms of UT1 in 1980, 0.48 ms after
+        # 1995; 45 mas of polar motion in 1976), within the budget over the whole table
+        assert np.max(np.abs(a - b)) <= budget, col
+    # through astropy's interpolation, at dates the tests and a planner use (2018 to 2027)
+    t = Time(np.arange(58119.0, mjd[-1], 0.37), format="mjd", scale="utc")
+    d_ut1 = t.get_delta_ut1_utc(iers_table=ours) - t.get_delta_ut1_utc(iers_table=default)
+    assert np.max(np.abs(d_ut1.to_value(u.s))) <= UT1_BUDGET_S
+    d_pm = [(a - b).to_value(u.arcsec) for a, b in zip(ours.pm_xy(t), default.pm_xy(t))]
+    assert np.max(np.abs(d_pm)) <= POLAR_MOTION_BUDGET_ARCSEC
+
+
+def test_configure_installs_the_bundled_table():
+    from astropy.utils import iers
+    from astropy_iers_data import IERS_A_FILE
+
+    from planner.timescales import earth_orientation
+
+    earth_orientation.configure()
+    table = iers.earth_orientation_table.get()
+    assert isinstance(table, iers.IERS_A) and not isinstance(table, iers.IERS_Auto)
+    assert table.meta["data_path"] == str(IERS_A_FILE)
+    assert "predictive_mjd" in table.meta
+    assert len(table) == len(earth_orientation.bundled_iers_a())
+
+
+def test_a_bundled_table_that_cannot_be_read_is_logged(monkeypatch, caplog):
+    import logging
+
+    from astropy.utils import iers
+
+    from planner.timescales import earth_orientation
+
+    before = iers.earth_orientation_table.get()
+
+    def unreadable(path=None):
+        raise OSError("finals2000A.all: permission denied")
+
+    monkeypatch.setattr(earth_orientation, "_configured", False)
+    monkeypatch.setattr(earth_orientation, "bundled_iers_a", unreadable)
+    with caplog.at_level(logging.WARNING, logger=earth_orientation.__name__):
+        earth_orientation.configure()
+    assert len(caplog.records) == 1
+    message = caplog.records[0].getMessage()
+    assert "bundled Earth-orientation table" in message and "permission denied" in message
+    assert iers.conf.auto_download is False  # still offline
+    assert iers.earth_orientation_table.get() is before
+
+
 @pytest.mark.parametrize("tz", ["America/St_Johns", "Asia/Kolkata", "Pacific/Chatham", "Europe/Madrid", "UTC"])
 def test_local_strings_equal_python_zoneinfo(tz):
     # Python's datetime with zoneinfo (the tz database) as the reference, for zones with
@@ -145,3 +221,41 @@ def test_local_strings_equal_python_zoneinfo(tz):
     assert list(ours) == ref
     assert list(clock.utc_to_iso_z(t)) == [
         dt.datetime.fromtimestamp(int(u), tz=dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ") for u in unix]
+
+
+@pytest.mark.parametrize("call, message", [
+    (lambda: clock.zone("Mars/Olympus"), "unknown time zone 'Mars/Olympus'; expected an IANA name"),
+    (lambda: clock.calendar_date("2026-13-01"), "'2026-13-01' is not a date; expected YYYY-MM-DD"),
+    (lambda: clock.datetime_to_jd_utc(__import__("datetime").datetime(2026, 12, 7, 22)),
+     "naive datetime 2026-12-07T22:00:00 has no time zone; give one"),
+    (lambda: clock.jd_utc_to_datetime(float("nan")), "nan is not a finite Julian date"),
+    (lambda: epochs.to_bjd_tdb(2460000.0, "HJD_TT", 10.0, 20.0),
+     "unknown time system 'HJD_TT'; expected one of BJD_TDB, HJD_UTC, JD_UTC"),
+    (lambda: epochs.utc_to_tdb_jd(1e12), "cannot be converted from UTC to TDB"),
+    (lambda: epochs.bjd_tdb_to_utc(np.array([2461381.5, np.nan]), 10.0, 20.0),
+     "1 of 2 times are not finite numbers"),
+], ids=["zone", "date", "naive datetime", "nan datetime", "time system", "erfa range", "nan to utc"])
+def test_time_scale_errors_name_the_value_and_what_is_accepted(call, message):
+    import re
+
+    from planner.errors import PeriplanError, TimeScaleError
+
+    with pytest.raises(TimeScaleError, match=re.escape(message)) as info:
+        call()
+    assert isinstance(info.value, PeriplanError)
+
+
+@pytest.mark.parametrize("n", [10, 3000])  # astropy one by one below 1000 times, a grid above
+def test_times_that_are_not_finite_stay_nan_on_both_conversion_paths(n):
+    # reference: astropy's UTC -> TDB for the finite times
+    jd = 2461381.5 + np.linspace(0.0, 30.0, n)
+    jd[3] = np.nan
+    got = epochs.utc_to_tdb_jd(jd)
+    ok = np.isfinite(jd)
+    ref = Time(jd[ok], format="jd", scale="utc").tdb
+    assert np.isnan(got[3]) and np.all(np.isfinite(got[ok]))
+    assert np.max(np.abs(got[ok] - (ref.jd1 + ref.jd2))) * 86400 < 1e-6
+    # an epoch or time that is NaN alone gives NaN, as it does beside finite ones
+    assert np.isnan(epochs.to_bjd_tdb(np.nan, "JD_UTC", 10.0, 20.0))
+    assert np.isnan(epochs.light_travel_time_d(np.nan, 10.0, 20.0))
+    assert np.isnan(epochs.to_bjd_tdb(np.array([2461381.5, np.nan]), "HJD_UTC", 10.0, 20.0)[1])

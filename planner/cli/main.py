@@ -18,7 +18,7 @@ from ..timescales import earth_orientation
 from ..errors import PeriplanError
 
 #: Command modules in the order they appear in ``periplan --help``.
-COMMAND_MODULES = ("events", "nights", "plan", "demo")
+COMMAND_MODULES = ("events", "nights", "plan", "coverage", "demo")
 
 EXIT_USAGE = 2
 

@@ -1,18 +1,33 @@
-"""Catalogue loader: a CSV file of published elements -> a validated table of targets.
+"""Catalogue loader: a catalogue of published elements -> a validated table of targets.
 
-This is the only module that reads catalogue files. :func:`read_catalogue` takes a path,
-:func:`parse_catalogue` the text; both return a :class:`pandas.DataFrame` with one row per target
-and the engine's columns (units in the names, every epoch in BJD_TDB, omega of the primary):
+This is the only module that reads catalogue files. :func:`read_catalogue` takes a path (a CSV
+file, or an ECSV, VOTable or FITS table read by :mod:`planner.inputs.catalogue_tables`), a pandas
+DataFrame or an astropy Table; :func:`parse_catalogue` CSV text. Every form goes through
+:func:`load_columns` (one header check, the validators of :mod:`catalogue_checks`, the same
+messages) and gives a :class:`pandas.DataFrame` with one row per target and the engine's columns
+(units in the names, every epoch in BJD_TDB, omega of the primary):
 
 ``name, ra_deg, dec_deg, ephemeris, period_d, period_err_d, e, e_err, omega_deg,
 omega_err_deg, epoch_kind, epoch_bjd_tdb, epoch_err_d, tp_bjd_tdb, time_system, k_ms, gamma_ms,
-priority, events, duration_h, a_rstar, inc_deg, rp_rstar, label, visit_h, visit_gap_h``
+priority, events, duration_h, a_rstar, inc_deg, rp_rstar, label, visit_h, visit_gap_h, events_given,
+observe, rv_fraction_k, rv_visits, rv_gap_h, full_coverage`` (and the binary columns of
+:mod:`planner.inputs.binary_checks` when given)
+
+then the catalogue's columns that periplan does not read, under their own names (floats when
+every cell is a number, else text), for the writers to show (a magnitude on the nightly sheets).
 
 ``ephemeris`` is ``"orbit"`` (Keplerian elements) or ``"linear"`` (only T0 and P: the target's
 event is ``periodic``). ``epoch_kind`` is ``tp``, ``tc`` or ``t0``. ``events`` is a tuple of event
-names. Every problem found in the file is collected and raised together as
-:class:`~planner.errors.InputErrors`, each naming file, row (the header is row 1), column, value
-and what was expected.
+names: the ``events`` column's (aliases resolved), or the target's defaults
+(:func:`~planner.inputs.catalogue_checks.default_events`) where ``events_given`` is False.
+Every problem found is collected and raised together as :class:`~planner.errors.InputErrors`,
+each naming file, row, column, value and what was expected. Rows of a CSV file are counted as a
+spreadsheet shows them (the header is row 1, a quoted cell with line breaks is one row, comment
+and blank lines count); rows of tables as :mod:`catalogue_tables` says.
+
+A header name one edit away from a column periplan reads (``perod_d``) is refused with "did you
+mean"; a name without its unit (``period``) is refused unless a table gives its unit; other
+names are carried unread.
 
 Input columns (header names, case-insensitive; order free):
 
@@ -31,14 +46,32 @@ Input columns (header names, case-insensitive; order free):
 ``omega_of``       ``primary`` (default) or ``companion`` (then omega + 180 deg is used)
 ``k_ms``, ``gamma_ms``  RV semi-amplitude and systemic velocity, m/s
 ``priority``       positive number, larger is more important (default 1)
-``events``         semicolon list of wanted events (default: all that the elements define)
+``events``         semicolon list of wanted events; the usual words are aliases (``transit``,
+                   ``primary_eclipse``, ``occultation``, ``secondary_eclipse``), and a linear
+                   ephemeris may say ``maximum`` or ``minimum`` (default: what the columns
+                   make worth observing, :func:`~planner.inputs.catalogue_checks.default_events`)
 ``duration_h``     event duration in hours (transit/eclipse), used when no geometry is given
 ``a_rstar``, ``inc_deg`` or ``b``, ``rp_rstar``  eclipse geometry (a/R*, inclination or impact
                    parameter at primary conjunction, radius ratio)
 ``label``          the catalogue's own name for the event of a linear ephemeris
 ``visit_h``, ``visit_gap_h``  block length and minimum spacing (hours) of flexible visits
-``notes``, ``x_*`` ignored (free text for the user)
+                   (``visit_h`` is also the length of an RV visit; default 0.5 h)
+``observe``        ``photometry``, ``rv`` or ``photometry;rv``: what the observer does
+``rv_fraction_k``  an RV visit counts while the RV is within this fraction of K of the
+                   extremum (0 < f <= 1, default 0.1)
+``rv_visits``, ``rv_gap_h``  RV visits wanted over a periastron passage (default 3), and their
+                   least spacing (hours, default 1)
+``full_coverage``  ``yes``: a series counts only when it covers T1 to T4 with both baselines
+``notes``, others  carried unread (free text, magnitudes, anything of the user's)
 =================  ====================================================================
+
+Eccentric binaries (validated in :mod:`planner.inputs.binary_checks`): ``omega_dot_deg_cycle``
+or ``omega_dot_deg_yr`` (with ``omega_dot_err_*``) and ``period_kind`` (``sidereal``/``anomalistic``);
+a second epoch (``tp`` beside ``tc``, or ``tsec``/``tsec_err_d``, a secondary conjunction);
+``ecosw``/``esinw`` or ``secosw``/``sesinw`` with ``_err`` instead of e/omega_deg; a third body
+``p3_d``, ``t3``, ``e3``, ``omega3_deg`` and ``ltte_amp_d`` or ``a12sini_au``. They become the
+engine columns :data:`BINARY_COLUMNS` (rates in deg/day, epochs in BJD_TDB, NaN or ``""`` when
+absent; ``epoch_tension_sigma`` is the disagreement of two epochs in combined sigma).
 """
 
 from __future__ import annotations
@@ -46,102 +79,281 @@ from __future__ import annotations
 import csv
 import difflib
 import io
+import warnings
 
 import numpy as np
 import pandas as pd
 
 from ..errors import InputError, InputErrors
+from . import binary_checks
 from . import catalogue_checks as checks
 from .catalogue_checks import EPOCH_COLUMNS, parse_angle
 from .textfile import decode_text, read_bytes
 
-__all__ = ["KNOWN_COLUMNS", "OUTPUT_COLUMNS", "parse_angle", "parse_catalogue", "read_catalogue"]
+__all__ = ["KNOWN_COLUMNS", "OUTPUT_COLUMNS", "load_columns", "parse_angle", "parse_catalogue", "read_catalogue"]
 
+#: Engine columns of eccentric binaries (see the "Eccentric binaries" table above).
+BINARY_COLUMNS = (
+    "shape_kind", "shape_x", "shape_y", "shape_x_err", "shape_y_err", "omega_dot_deg_d",
+    "omega_dot_err_deg_d", "period_kind", "epoch2_kind", "epoch2_bjd_tdb", "epoch2_err_d",
+    "epoch_tension_sigma", "p3_d", "t3_bjd_tdb", "e3", "omega3_deg", "ltte_amp_d",
+)
 NUMERIC_COLUMNS = (
     "period_d", "period_err_d", "e", "e_err", "omega_deg", "omega_err_deg", "tp", "tc", "t0",
     "tp_err_d", "tc_err_d", "t0_err_d", "time_offset_d", "k_ms", "gamma_ms", "priority",
     "duration_h", "a_rstar", "inc_deg", "b", "rp_rstar", "a_au", "mass1_msun", "mass2_msun",
-    "visit_h", "visit_gap_h",
-)
-TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes")
+    "visit_h", "visit_gap_h", "rv_fraction_k", "rv_visits", "rv_gap_h",
+) + binary_checks.NUMERIC_COLUMNS
+TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes", "observe",
+                "full_coverage") + binary_checks.TEXT_COLUMNS
 KNOWN_COLUMNS = TEXT_COLUMNS + NUMERIC_COLUMNS
 
 OUTPUT_COLUMNS = (
     "name", "ra_deg", "dec_deg", "ephemeris", "period_d", "period_err_d", "e", "e_err",
     "omega_deg", "omega_err_deg", "epoch_kind", "epoch_bjd_tdb", "epoch_err_d", "tp_bjd_tdb",
     "time_system", "k_ms", "gamma_ms", "priority", "events", "duration_h", "a_rstar", "inc_deg",
-    "rp_rstar", "label", "visit_h", "visit_gap_h",
-)
+    "rp_rstar", "label", "visit_h", "visit_gap_h", "events_given", "observe", "rv_fraction_k", "rv_visits",
+    "rv_gap_h", "full_coverage",
+) + BINARY_COLUMNS
 
 
-def read_catalogue(path) -> pd.DataFrame:
-    """Validated target table (see module docstring) from the CSV file at ``path``."""
-    raw, source = read_bytes(path, "catalogue")
+def read_catalogue(catalogue, name: str | None = None) -> pd.DataFrame:
+    """Validated target table (see module docstring) from a catalogue in any form.
+
+    ``catalogue`` is a path to a CSV file, or to an ECSV, VOTable or FITS table (chosen by the
+    extension, :data:`planner.inputs.catalogue_tables.TABLE_FORMATS`), a pandas DataFrame or an
+    astropy Table. Every form goes through the same checks and messages; ``name`` is what the
+    messages call a DataFrame or Table (default ``DataFrame`` / ``Table``).
+    """
+    if isinstance(catalogue, pd.DataFrame):
+        from .catalogue_tables import load_frame
+
+        return load_frame(catalogue, name or "DataFrame")
+    from .catalogue_tables import is_table, load_table, read_table_file, table_format
+
+    if is_table(catalogue):
+        return load_table(catalogue, name or "Table", first_row=0)
+    fmt = table_format(catalogue)
+    if fmt is not None:
+        return read_table_file(catalogue, fmt)
+    raw, source = read_bytes(catalogue, "catalogue")
     return parse_catalogue(raw, source=source)
 
 
 def parse_catalogue(data, source: str = "<catalogue>") -> pd.DataFrame:
-    """Validated target table from CSV text or bytes; ``source`` names the file in messages."""
+    """Validated target table from CSV text or bytes; ``source`` names the file in messages.
+
+    The delimiter is the one of ``,``, ``;`` or tab that the header row uses most. Rows are
+    numbered as a spreadsheet shows them: the header is row 1, every record is one row (a quoted
+    cell with line breaks inside is still one row), comment and blank lines count as rows.
+    """
     if isinstance(data, bytes):
         data = decode_text(data, source, "a CSV catalogue with a header row")
-    header, rows, line_numbers = _split_rows(data, source)
-    columns = _check_header(header, source)
-    table = {c: [] for c in columns}
+    header, rows, row_numbers, delimiter, header_row = _split_rows(data, source)
     errors: list[InputError] = []
-    for line, row in zip(line_numbers, rows):
-        if len(row) > len(columns):
+    width = len(header)
+    for row_number, row in zip(row_numbers, rows):
+        if len(row) > width:
+            sep = {",": "comma", ";": "semicolon", "\t": "tab"}[delimiter]
             errors.append(InputError(
-                f"{len(row)} fields but the header has {len(columns)}; check for an unquoted comma",
-                file=source, row=line))
-        row = row + [""] * (len(columns) - len(row))
-        for c, v in zip(columns, row):
-            table[c].append(v.strip())
-    frame = pd.DataFrame(table, dtype=object)
-    frame.index = pd.Index(line_numbers, name="row")
-    result = _validate(checks.Cells(frame, source, errors))
-    if errors:
-        errors.sort(key=lambda err: (err.row or 0, columns.index(err.column) if err.column in columns else -1))
-        raise InputErrors(errors)
-    return result
+                f"{len(row)} fields but the header has {width}; check for an unquoted {sep}",
+                file=source, row=row_number))
+    padded = [row[:width] + [""] * (width - len(row)) for row in rows]
+    values = [np.array([r[i].strip() for r in padded], dtype=object) for i in range(width)]
+    return load_columns(header, values, np.array(row_numbers, dtype=np.int64), source,
+                        header_row=header_row, errors=errors)
 
 
 def _split_rows(text: str, source: str):
-    lines = text.splitlines()
-    numbered = [(i + 1, ln) for i, ln in enumerate(lines) if ln.strip() and not ln.lstrip().startswith("#")]
-    if not numbered:
+    """(header, records, row numbers, delimiter, header row) of CSV text; comment and blank rows dropped.
+
+    The text is parsed whole by the csv reader, so a quoted cell may hold line breaks. A line
+    that starts with ``#`` where a record would begin is a comment and is dropped before the
+    reader sees it (a quote inside a comment cannot swallow the lines after it); a ``#`` inside a
+    quoted cell is text.
+    """
+    state = {"row": 0, "at_start": True}
+
+    def lines():
+        for line in io.StringIO(text, newline=""):
+            if state["at_start"] and line.lstrip().startswith("#"):
+                state["row"] += 1
+                continue
+            state["at_start"] = False
+            yield line
+
+    delimiter = _delimiter(text)
+    records, numbers = [], []
+    try:
+        for record in csv.reader(lines(), delimiter=delimiter, strict=True):
+            state["row"] += 1
+            state["at_start"] = True
+            if "".join(record).strip():
+                records.append(record)
+                numbers.append(state["row"])
+    except csv.Error as exc:
+        reason = str(exc)
+        if "unexpected end of data" in reason:
+            reason = 'a quote (") opened in this row is never closed; the rest of the file would be one cell'
+        elif "expected after" in reason:
+            reason = ('text follows a closing quote ("); inside a quoted cell write a quote twice (""), '
+                      "or do not quote the cell")
+        raise InputErrors([InputError(f"not readable as CSV: {reason}", file=source, row=state["row"] + 1)]) from None
+    if not records:
         raise InputErrors([InputError(
             "empty catalogue; expected a header row such as 'name,ra,dec,period_d,e,omega_deg,tp' "
             "and one row per target", file=source)])
-    parsed = list(csv.reader(io.StringIO("\n".join(ln for _, ln in numbered))))
-    header = [h.strip().lower() for h in parsed[0]]
-    return header, parsed[1:], [n for n, _ in numbered[1:]]
+    header = [h.strip() for h in records[0]]
+    return header, records[1:], numbers[1:], delimiter, numbers[0]
 
 
-def _check_header(header, source):
+def _delimiter(text: str) -> str:
+    """``,``, ``;`` or tab: the one the first non-comment line holds most often (``,`` on a tie)."""
+    for line in io.StringIO(text, newline=""):
+        if line.strip() and not line.lstrip().startswith("#"):
+            counts = {d: line.count(d) for d in (",", ";", "\t")}
+            best = max(counts, key=lambda d: (counts[d], d == ","))
+            return best if counts[best] else ","
+    return ","
+
+
+def load_columns(header, values, rows, source, header_row=None, units=None, errors=None) -> pd.DataFrame:
+    """Validated target table from a catalogue's columns as read (the one path of every format).
+
+    ``header``: the column names as given; ``values``: one array per column (text cells, ``""``
+    when empty, or floats with NaN for empty cells); ``rows``: the row number of each record, as
+    messages show it; ``header_row``: the row of the header (1 in a CSV file, None for a table
+    whose header is not a row); ``units``: per column an astropy unit or None (tables with unit
+    metadata), converted to the unit of the engine column. Columns periplan does not use are
+    carried after :data:`OUTPUT_COLUMNS` under their own names (text, or floats when every cell
+    is a number).
+    """
+    errors = [] if errors is None else errors
+    units = list(units) if units is not None else [None] * len(header)
+    engine = _check_header(header, source, header_row, [u is not None for u in units])
+    frame_cols, names, notes, extras = {}, {}, {}, {}
+    for h, eng, v, unit in zip(header, engine, values, units):
+        if eng is None:
+            extras[h] = v
+            continue
+        if unit is not None:
+            from .catalogue_tables import to_engine_unit
+
+            v, notes[eng] = to_engine_unit(v, unit, eng, h, source, errors)
+        frame_cols[eng] = v
+        names[eng] = h
+    frame = pd.DataFrame(frame_cols, index=pd.Index(rows, name="row"))
+    result = _validate(checks.Cells(frame, source, errors, names=names, notes={k: v for k, v in notes.items() if v}))
+    if errors:
+        order = {h: i for i, h in enumerate(header)}
+        errors.sort(key=lambda err: (err.row or 0, order.get(err.column, -1)))
+        raise InputErrors(errors)
+    for h, v in extras.items():
+        result[h] = _extra_column(v)
+    none = [int(r) for r, evs in zip(rows, result["events"]) if not evs]
+    if none:
+        shown = ", ".join(map(str, none[:5])) + (f" and {len(none) - 5} more" if len(none) > 5 else "")
+        warnings.warn(f"{source}: row{'s' if len(none) > 1 else ''} {shown}: no event to predict (a circular "
+                      "orbit without k_ms, eclipse geometry or duration_h); name the wanted events in column events",
+                      stacklevel=2)
+    return result
+
+
+def _extra_column(values: np.ndarray) -> np.ndarray:
+    """A column periplan does not use, as carried on the target table: floats when every cell is a number."""
+    if values.dtype.kind == "f":
+        return values
+    text = pd.Series(values, dtype=object).astype(str)
+    numbers = pd.to_numeric(text.where(text != "", None), errors="coerce")
+    if ((text == "") | numbers.notna()).all() and (text != "").any():
+        return numbers.to_numpy(float)
+    return text.to_numpy(object)
+
+
+#: Columns named for their unit (``period_d``) by the name without it (``period``): a table
+#: may use the short name with a unit in its metadata; without a unit the name is refused.
+UNIT_SUFFIXES = ("_d", "_deg", "_h", "_ms", "_au", "_msun")
+SHORT_NAMES = {c[: c.rindex("_")]: c for c in NUMERIC_COLUMNS if c.endswith(UNIT_SUFFIXES)}
+#: Engine columns of the target table that are not input columns (an input column of that name
+#: would be overwritten).
+RESERVED = tuple(c for c in OUTPUT_COLUMNS if c not in KNOWN_COLUMNS)
+#: Input columns that periplan reads for nothing (kept and carried like any unknown column).
+CARRIED = ("notes",)
+
+
+def _one_edit_away(a: str, b: str) -> bool:
+    """True when ``a`` and ``b`` differ by exactly one inserted, deleted or replaced character."""
+    if a == b or abs(len(a) - len(b)) > 1:
+        return False
+    if len(a) > len(b):
+        a, b = b, a
+    i = 0
+    while i < len(a) and a[i] == b[i]:
+        i += 1
+    return a[i + (len(a) == len(b)):] == b[i + 1:]
+
+
+def _check_header(header, source, header_row=1, has_unit=None):
+    """Engine column name of each header name, None for a column that is carried unread.
+
+    Raises :class:`InputErrors` for a name given twice, a name one edit away from a column periplan
+    reads (``perod_d``: "did you mean"), a short name without its unit, a reserved name, and for
+    missing required columns.
+    """
+    has_unit = has_unit or [False] * len(header)
     errors = []
-    seen = set()
-    for h in header:
-        if h in seen:
-            errors.append(InputError(f"column {h!r} appears twice in the header", file=source, row=1, column=h))
-        seen.add(h)
-        if h not in KNOWN_COLUMNS and not h.startswith("x_"):
-            hint = difflib.get_close_matches(h, KNOWN_COLUMNS, n=1)
-            fix = f"did you mean {hint[0]!r}? " if hint else ""
-            errors.append(InputError(
-                f"unknown column {h!r}; {fix}columns periplan ignores must be named 'notes' or start with 'x_'",
-                file=source, row=1, column=h or "(empty)"))
+
+    def problem(message, column):
+        errors.append(InputError(message, file=source, row=header_row, column=column if header_row else None))
+
+    engine, seen, extras = [], {}, []
+    for h, unit in zip(header, has_unit):
+        key = h.strip().lower()
+        name = None
+        if key in KNOWN_COLUMNS and key not in CARRIED:
+            name = key
+        elif key in SHORT_NAMES and unit:
+            name = SHORT_NAMES[key]
+        elif key in SHORT_NAMES:
+            problem(f"column {h!r} needs its unit: did you mean {SHORT_NAMES[key]!r}? (units in column names: "
+                    "_d days, _deg degrees, _h hours, _ms m/s, _au au, _msun solar masses)", h)
+        elif key in RESERVED:
+            problem(f"column {h!r} is a name periplan gives to a column it computes; rename it (for example "
+                    f"'x_{key}')", h)
+        elif not key:
+            problem("a column has no name; name it or delete it", "(empty)")
+        else:
+            near = [c for c in KNOWN_COLUMNS if c not in CARRIED and len(key) >= 3 and _one_edit_away(key, c)]
+            if near:
+                problem(f"unknown column {h!r}; did you mean {near[0]!r}? (columns periplan does not read are "
+                        "kept; rename this one if it is not a typing error)", h)
+            else:
+                extras.append(key)
+        what = name or (key if key in extras else None)
+        if what is not None:
+            if what in seen:
+                problem(f"column {h!r} appears twice in the header" if seen[what].strip().lower() == key
+                        else f"columns {seen[what]!r} and {h!r} both give {what}", h)
+            seen.setdefault(what, h)
+        engine.append(name)
+    given = {n for n in engine if n}
+
+    def hint(wanted):
+        close = difflib.get_close_matches(wanted, extras, n=1, cutoff=0.6)
+        return f" (is {close[0]!r} meant to be it?)" if close else ""
+
     for required in ("name", "ra", "dec"):
-        if required not in seen:
-            errors.append(InputError(f"missing required column {required!r}", file=source, row=1, column=required))
-    if "period_d" not in seen and "a_au" not in seen:
-        errors.append(InputError("missing column 'period_d' (or 'a_au' with 'mass1_msun' for Kepler's third law)",
-                                 file=source, row=1, column="period_d"))
-    if not seen.intersection(EPOCH_COLUMNS):
-        errors.append(InputError("missing epoch column: one of 'tp' (periastron), 'tc' (primary conjunction) "
-                                 "or 't0' (linear ephemeris)", file=source, row=1, column="tp"))
+        if required not in given:
+            problem(f"missing required column {required!r}{hint(required)}", required)
+    if "period_d" not in given and "a_au" not in given:
+        problem(f"missing column 'period_d' (or 'a_au' with 'mass1_msun' for Kepler's third law){hint('period_d')}",
+                "period_d")
+    if not given.intersection(EPOCH_COLUMNS):
+        problem("missing epoch column: one of 'tp' (periastron), 'tc' (primary conjunction) or 't0' (linear "
+                f"ephemeris){hint('epoch')}", "tp")
     if errors:
         raise InputErrors(errors)
-    return header
+    return engine
 
 
 def _validate(cells: checks.Cells) -> pd.DataFrame:
@@ -150,11 +362,21 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
     ra, dec = checks.check_coordinates(cells)
     period, period_err = checks.check_period(cells)
     e, e_err, omega, omega_err, linear = checks.check_shape(cells)
+    shape = binary_checks.check_shape_alternatives(cells, cells.given("e"), cells.given("omega_deg"))
+    alt = shape[0] != ""
+    e, omega, linear = np.where(alt, shape[5], e), np.where(alt, shape[6], omega), linear & ~alt
     epoch_kind, full_jd, epoch_err = checks.check_epoch(cells, linear)
     system, epoch_bjd = checks.check_time_system(cells, full_jd, ra, dec)
+    omega_dot, omega_dot_err, period_kind = binary_checks.check_apsidal(cells, period, linear, e)
+    kind2, epoch2, epoch2_err = binary_checks.check_second_epoch(cells, epoch_kind, epoch_err, linear, ra, dec,
+                                                                 system)
+    third = binary_checks.check_third_body(cells, ra, dec, system)
     observing = checks.check_observing(cells)
     duration, a_rstar, inc, rp = checks.check_geometry(cells, e, omega)
-    events, labels = checks.check_events(cells, linear, e)
+    eclipse = np.isfinite(duration) | (np.isfinite(a_rstar) & np.isfinite(inc) & np.isfinite(rp))
+    events, labels = checks.check_events(cells, linear, e, rv=np.isfinite(observing["k_ms"]) & (observing["k_ms"] > 0),
+                                         eclipse=eclipse)
+    requests = checks.check_requests(cells, linear, duration, a_rstar, observing["k_ms"])
 
     tp = np.where(epoch_kind == "tc", np.nan, epoch_bjd)
     orbit_tc = (epoch_kind == "tc") & ~linear & np.isfinite(e) & np.isfinite(omega)
@@ -164,7 +386,14 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
         tp[orbit_tc] = tp_from_tc(epoch_bjd[orbit_tc], period[orbit_tc], e[orbit_tc], np.radians(omega[orbit_tc]))
     tp[linear] = np.nan
 
-    return pd.DataFrame({
+    binary = {
+        "shape_kind": shape[0].astype(str), "shape_x": shape[1], "shape_y": shape[2], "shape_x_err": shape[3],
+        "shape_y_err": shape[4], "omega_dot_deg_d": omega_dot, "omega_dot_err_deg_d": omega_dot_err,
+        "period_kind": period_kind, "epoch2_kind": kind2, "epoch2_bjd_tdb": epoch2, "epoch2_err_d": epoch2_err,
+        "epoch_tension_sigma": np.full(len(names), np.nan),
+        **dict(zip(("p3_d", "t3_bjd_tdb", "e3", "omega3_deg", "ltte_amp_d"), third)),
+    }
+    table = pd.DataFrame({
         "name": names, "ra_deg": ra, "dec_deg": dec,
         "ephemeris": np.where(linear, "linear", "orbit"),
         "period_d": period, "period_err_d": period_err,
@@ -172,5 +401,12 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
         "omega_deg": np.where(linear, np.nan, omega), "omega_err_deg": omega_err,
         "epoch_kind": epoch_kind.astype(str), "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
         "tp_bjd_tdb": tp, "time_system": system, "events": events, "duration_h": duration,
-        "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing,
+        "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing, **binary,
+        "events_given": cells.given("events"), **requests,
     }, columns=list(OUTPUT_COLUMNS))
+    if (kind2 != "").any() and not cells.errors:
+        from ..orbits.binary_events import epoch_tension_sigma
+
+        table["epoch_tension_sigma"] = epoch_tension_sigma(table)
+        binary_checks.check_epoch_agreement(cells, table["epoch_tension_sigma"].to_numpy(float), kind2)
+    return table

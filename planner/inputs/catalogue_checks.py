@@ -18,7 +18,8 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError
-from ..orbits.geometry import ALL_EVENTS, ORBIT_EVENTS, PERIODIC_EVENT
+from ..orbits.geometry import (EVENT_WORDS, ORBIT_EVENTS, PERIODIC_EVENT, PERIODIC_KINDS, canonical_event,
+                               periodic_kind)
 from ..timescales import epochs
 
 EPOCH_COLUMNS = ("tp", "tc", "t0")
@@ -26,20 +27,26 @@ EPOCH_COLUMNS = ("tp", "tc", "t0")
 #: taken to be a reduced date that needs ``time_offset_d``.
 MIN_FULL_JD = 2_000_000.0
 MAX_FULL_JD = 3_000_000.0
-#: Default events of an orbit, by whether it is eccentric (circular orbits have no periastron).
-DEFAULT_EVENTS_ECCENTRIC = ORBIT_EVENTS
-DEFAULT_EVENTS_CIRCULAR = ("primary_conjunction", "secondary_conjunction", "rv_max", "rv_min")
 
+_DECIMAL_COMMA = re.compile(r"^\s*[+-]?\d+,\d+\s*$")
 _SEXAGESIMAL = re.compile(r"^\s*([+-]?)\s*(\d+)[:\s]+(\d+)(?:[:\s]+(\d+(?:\.\d*)?))?\s*$")
 
 
 @dataclasses.dataclass
 class Cells:
-    """The raw catalogue (text cells, index = file row) with its source name and error list."""
+    """The raw catalogue (index = row number) with its source name and error list.
+
+    Cells are text (``""`` when empty), or floats (NaN when empty) for numeric columns of a
+    table read with its types. ``names`` maps an engine column to the column name the user gave
+    (``period`` for ``period_d``), ``notes`` to a remark added to its messages (a unit
+    conversion); messages name the user's column.
+    """
 
     frame: pd.DataFrame
     source: str
     errors: list
+    names: dict = dataclasses.field(default_factory=dict)
+    notes: dict = dataclasses.field(default_factory=dict)
 
     @property
     def n(self) -> int:
@@ -50,27 +57,43 @@ class Cells:
         return self.frame.index.to_numpy()
 
     def err(self, row, column, message, value=None) -> None:
-        self.errors.append(InputError(message, file=self.source, row=int(row), column=column, value=value))
+        self.errors.append(InputError(message + self.notes.get(column, ""), file=self.source, row=int(row),
+                                      column=self.names.get(column, column), value=value))
+
+    def _is_float(self, column) -> bool:
+        return column in self.frame and self.frame[column].dtype.kind == "f"
 
     def text(self, column) -> np.ndarray:
         """The column's text cells (``""`` for every row when the column is absent)."""
         if column not in self.frame:
             return np.full(self.n, "", dtype=object)
+        if self._is_float(column):
+            values = self.frame[column].to_numpy(float)
+            return np.array(["" if np.isnan(v) else _float_text(v) for v in values], dtype=object)
         return self.frame[column].astype(str).to_numpy()
 
     def given(self, column) -> np.ndarray:
         """True where the column exists and its cell is not empty."""
+        if self._is_float(column):
+            return ~np.isnan(self.frame[column].to_numpy(float))
         return self.text(column) != ""
 
     def numeric(self, column, default=np.nan, positive=False, nonnegative=False) -> np.ndarray:
         """Column as floats; bad cells become NaN (or ``default``) and an InputError each."""
         if column not in self.frame:
             return np.full(self.n, default, dtype=float)
-        text = self.frame[column].astype(str)
-        values = pd.to_numeric(text.where(text != "", None), errors="coerce").to_numpy(dtype=float, copy=True)
-        bad_number = (text != "").to_numpy() & ~np.isfinite(values)
-        for row, v in zip(self.frame.index[bad_number], text[bad_number]):
-            self.err(row, column, f"{v!r} is not a number", v)
+        if self._is_float(column):
+            values = self.frame[column].to_numpy(float, copy=True)
+            bad_number = np.isinf(values)
+            text = pd.Series(self.text(column), index=self.frame.index) if bad_number.any() or positive or nonnegative \
+                else None
+        else:
+            text = self.frame[column].astype(str)
+            values = pd.to_numeric(text.where(text != "", None), errors="coerce").to_numpy(dtype=float, copy=True)
+            bad_number = (text != "").to_numpy() & ~np.isfinite(values)
+        for row, v in zip(self.frame.index[bad_number], text[bad_number] if bad_number.any() else ()):
+            hint = " (a decimal comma? write numbers with a decimal point)" if _DECIMAL_COMMA.match(v) else ""
+            self.err(row, column, f"{v!r} is not a number{hint}", v)
         values[bad_number] = np.nan
         if positive:
             bad = values <= 0
@@ -83,6 +106,12 @@ class Cells:
                 self.err(row, column, f"{v} must not be negative (it is a 1-sigma uncertainty)", v)
             values[bad] = np.nan
         return np.where(np.isnan(values), default, values) if not np.isnan(default) else values
+
+
+def _float_text(value: float) -> str:
+    """Shortest text that reads back as ``value``, without a trailing ``.0`` (``12345``, ``5.63``)."""
+    text = repr(float(value))
+    return text[:-2] if text.endswith(".0") else text
 
 
 def parse_angle(text: str, hours: bool) -> float:
@@ -221,8 +250,11 @@ def check_epoch(cells: Cells, linear: np.ndarray):
     for row in rows[count == 0]:
         cells.err(row, "tp" if "tp" in frame else ("tc" if "tc" in frame else "t0"),
                   "missing epoch; give tp (periastron), tc (primary conjunction) or t0 (linear ephemeris)")
-    for row in rows[count > 1]:
-        cells.err(row, "tc", "more than one epoch given (tp, tc, t0); give exactly one")
+    # tp with tc is a row with two epochs: tc is kept here, tp goes to binary_checks.check_second_epoch
+    two = present["tp"] & present["tc"] & ~present["t0"] & ~linear
+    epoch_kind[two] = "tc"
+    for row in rows[(count > 1) & ~two]:
+        cells.err(row, "tc", "more than one epoch given (tp, tc, t0); give exactly one, or tc with tp")
     for row in rows[present["t0"] & ~linear]:
         cells.err(row, "t0", "t0 is the epoch of a linear ephemeris; for an orbit with e and omega use tp or tc")
     for row in rows[present["tp"] & linear]:
@@ -233,8 +265,9 @@ def check_epoch(cells: Cells, linear: np.ndarray):
     for c in EPOCH_COLUMNS:
         vals = cells.numeric(c)
         errs = cells.numeric(f"{c}_err_d", default=0.0, nonnegative=True)
-        epoch = np.where(present[c] & (count == 1), vals, epoch)
-        epoch_err = np.where(present[c] & (count == 1), errs, epoch_err)
+        single = present[c] & ((count == 1) | (two & (c == "tc")))
+        epoch = np.where(single, vals, epoch)
+        epoch_err = np.where(single, errs, epoch_err)
     offset_given = cells.given("time_offset_d")
     full = epoch + cells.numeric("time_offset_d", default=0.0)
     looks_reduced = np.isfinite(epoch) & ~offset_given & (epoch < MIN_FULL_JD)
@@ -302,32 +335,125 @@ def check_observing(cells: Cells) -> dict:
     }
 
 
-def check_events(cells: Cells, linear, e):
+def default_events(linear, e, rv, eclipse) -> tuple:
+    """Events of a target whose ``events`` cell is empty: what its elements make worth observing.
+
+    A linear ephemeris has its ``periodic`` event. An orbit gets periastron when eccentric; RV
+    maximum and minimum only with an RV amplitude (``rv``: k_ms given); apastron only for an
+    eccentric RV target without eclipse information (nothing photometric happens there); the
+    two conjunctions only with eclipse information (``eclipse``: a duration, or a/R*, inclination
+    and radius ratio). Anything else is observed only when the ``events`` column asks for it.
+    """
+    if linear:
+        return (PERIODIC_EVENT,)
+    eccentric = bool(e > 0)
+    wanted = {
+        "periastron": eccentric,
+        "apastron": eccentric and rv and not eclipse,
+        "primary_conjunction": eclipse,
+        "secondary_conjunction": eclipse,
+        "rv_max": rv,
+        "rv_min": rv,
+    }
+    return tuple(ev for ev in ORBIT_EVENTS if wanted[ev])
+
+
+def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
     """(events, labels): each row's tuple of wanted event names and the label of its event.
 
-    Defaults: every event of an eccentric orbit, conjunctions and RV extremes of a circular one,
-    ``periodic`` for a linear ephemeris (labelled ``periodic`` unless ``label`` says otherwise).
+    Words of the ``events`` column may be the usual aliases (``transit``, ``primary_eclipse``,
+    ``occultation``, ``secondary_eclipse``; :data:`planner.orbits.geometry.EVENT_ALIASES`); a
+    linear ephemeris may say ``maximum`` or ``minimum`` (then its label, when empty, says so).
+    An empty cell gets :func:`default_events` (``rv``: rows with k_ms, ``eclipse``: rows with a
+    duration or eclipse geometry; both False when not given). A linear ephemeris is labelled
+    ``periodic`` unless ``label`` or the events column says otherwise.
     """
+    n = cells.n
+    rv = np.zeros(n, bool) if rv is None else np.asarray(rv, bool)
+    eclipse = np.zeros(n, bool) if eclipse is None else np.asarray(eclipse, bool)
+    labels = cells.text("label").astype(object)
     out = []
-    for row, t, lin, ecc in zip(cells.rows, cells.text("events"), linear, e):
-        if lin:
-            default = (PERIODIC_EVENT,)
-        elif ecc == 0:
-            default = DEFAULT_EVENTS_CIRCULAR
-        else:
-            default = DEFAULT_EVENTS_ECCENTRIC
+    parsed = {}  # cell text -> (unknown words, periodic kinds, wanted names): most rows repeat a few lists
+    for i, (row, t, lin, ecc) in enumerate(zip(cells.rows, cells.text("events"), linear, e)):
         if not t:
-            out.append(default)
+            out.append(default_events(lin, ecc, rv[i], eclipse[i]))
             continue
-        wanted = tuple(dict.fromkeys(w.strip().lower() for w in t.split(";") if w.strip()))
-        unknown = [w for w in wanted if w not in ALL_EVENTS]
+        if t not in parsed:
+            words = [w.strip() for w in t.split(";") if w.strip()]
+            names = [canonical_event(w) for w in words]
+            parsed[t] = ([w for w, nm in zip(words, names) if nm is None], {nm for nm in names if nm in PERIODIC_KINDS},
+                         tuple(dict.fromkeys(PERIODIC_EVENT if nm in PERIODIC_KINDS else nm for nm in names)))
+        unknown, kinds, wanted = parsed[t]
+        kinds = set(kinds)
         if unknown:
             cells.err(row, "events", f"unknown event {unknown[0]!r}; expected a semicolon list of "
-                      f"{', '.join(ALL_EVENTS)}", t)
+                      f"{', '.join(EVENT_WORDS)}", t)
         elif lin and set(wanted) - {PERIODIC_EVENT}:
-            cells.err(row, "events", "a linear ephemeris (no e, omega_deg) has only the event 'periodic'", t)
+            cells.err(row, "events", "a linear ephemeris (no e, omega_deg) has only the event 'periodic' "
+                      "(or 'maximum' / 'minimum')", t)
         elif not lin and PERIODIC_EVENT in wanted:
-            cells.err(row, "events", "'periodic' is the event of a linear ephemeris; this row has orbital elements", t)
+            cells.err(row, "events", f"{'/'.join(sorted(kinds)) or 'periodic'!r} is the event of a linear "
+                      "ephemeris; this row has orbital elements", t)
+        elif len(kinds) > 1 or (kinds and labels[i] and periodic_kind(labels[i]) not in ("", *kinds)):
+            cells.err(row, "events", f"the events column says {' and '.join(sorted(kinds))} but the label says "
+                      f"{labels[i]!r}; a linear ephemeris has one event", t)
+        elif kinds and not labels[i]:
+            labels[i] = kinds.pop()
         out.append(wanted)
-    labels = cells.text("label")
     return out, np.where(labels == "", np.where(linear, "periodic", ""), labels)
+
+
+#: Words of the ``observe`` column: what the observer does for a target.
+OBSERVE_WORDS = ("photometry", "rv")
+#: Request defaults: an RV visit counts near an extremum while the RV is within this fraction of K
+#: of it; a periastron passage asks for this many RV visits at least this many hours apart
+#: [common practice of RV follow-up, our choice; no single source].
+DEFAULT_RV_FRACTION_K = 0.1
+DEFAULT_RV_VISITS = 3
+DEFAULT_RV_GAP_H = 1.0
+_YES, _NO = ("yes", "true", "1", "y"), ("no", "false", "0", "n", "")
+
+
+def check_requests(cells: Cells, linear, duration_h, a_rstar, k_ms) -> dict:
+    """Request columns: ``observe``, ``rv_fraction_k``, ``rv_visits``, ``rv_gap_h``, ``full_coverage``.
+
+    ``observe`` is ``photometry``, ``rv`` or both separated by ``;`` (returned in that order);
+    by default photometry where eclipse geometry, a duration or only a linear ephemeris is given,
+    rv where ``k_ms`` is given, both when both (and when neither). ``rv_fraction_k`` must lie in
+    (0, 1], ``rv_visits`` be a whole number >= 1, ``rv_gap_h`` >= 0, ``full_coverage`` yes/no.
+    """
+    rows = cells.rows
+    photometric = np.asarray(linear, bool) | np.isfinite(duration_h) | np.isfinite(a_rstar)
+    spectroscopic = np.isfinite(k_ms)
+    default = np.where(photometric & ~spectroscopic, "photometry",
+                       np.where(spectroscopic & ~photometric, "rv", "photometry;rv"))
+    observe = []
+    for row, text, d in zip(rows, cells.text("observe"), default):
+        words = [w.strip().lower() for w in text.split(";") if w.strip()]
+        unknown = [w for w in words if w not in OBSERVE_WORDS]
+        if unknown:
+            cells.err(row, "observe", f"unknown observation {unknown[0]!r}; expected photometry, rv or "
+                      "'photometry;rv'", text)
+        observe.append(";".join(w for w in OBSERVE_WORDS if w in words) if words and not unknown else d)
+    fraction = cells.numeric("rv_fraction_k", default=DEFAULT_RV_FRACTION_K)
+    bad_fraction = ~((fraction > 0) & (fraction <= 1))
+    for row, v in zip(rows[bad_fraction], cells.text("rv_fraction_k")[bad_fraction]):
+        cells.err(row, "rv_fraction_k", f"{v} is outside 0 < fraction <= 1 (a fraction of K)", v)
+    visits = cells.numeric("rv_visits", default=float(DEFAULT_RV_VISITS))
+    bad_visits = ~((visits >= 1) & (np.mod(visits, 1.0) == 0))
+    for row, v in zip(rows[bad_visits], cells.text("rv_visits")[bad_visits]):
+        cells.err(row, "rv_visits", f"{v} is not a whole number of visits >= 1", v)
+    gap = cells.numeric("rv_gap_h", default=DEFAULT_RV_GAP_H, nonnegative=True)
+    full = []
+    for row, text in zip(rows, cells.text("full_coverage")):
+        word = text.strip().lower()
+        if word not in _YES + _NO:
+            cells.err(row, "full_coverage", f"{text!r} is not yes or no", text)
+        full.append(word in _YES)
+    return {
+        "observe": np.asarray(observe, dtype=object),
+        "rv_fraction_k": np.where(bad_fraction, DEFAULT_RV_FRACTION_K, fraction),
+        "rv_visits": np.where(bad_visits, DEFAULT_RV_VISITS, visits).astype(np.int64),
+        "rv_gap_h": np.where(np.isnan(gap), DEFAULT_RV_GAP_H, gap),
+        "full_coverage": np.asarray(full, dtype=bool),
+    }

@@ -2,7 +2,9 @@
 
 This is the only module that reads site files. :func:`read_site` takes a path, :func:`parse_site`
 the text; both return a :class:`Site` or raise :class:`~planner.errors.InputErrors` listing every
-bad key (file, key, value, what was expected).
+bad key (file, key, value, what was expected). A longitude more than
+:data:`ZONE_LONGITUDE_WARN_H` hours of local mean time away from the zone's standard UTC offset
+(a wrong sign, most often) is accepted with a one-line :class:`~planner.errors.PeriplanWarning`.
 
 Site file keys (TOML, top level; units in the names):
 
@@ -44,11 +46,13 @@ Example::
 from __future__ import annotations
 
 import dataclasses
+import datetime as dt
 import difflib
 import math
 import tomllib
+import warnings
 
-from ..errors import InputError, InputErrors
+from ..errors import InputError, InputErrors, PeriplanWarning
 
 #: Sun-centre altitude (degrees) that ends each kind of twilight (USNO, Almanac for Computers 1990:
 #: zenith distances 96, 102 and 108 deg).
@@ -61,6 +65,11 @@ DEFAULT_MOON_MIN_SEP_DEG = 10.0
 DEFAULT_SUN_MIN_SEP_DEG = 30.0
 
 MIN_ALTITUDE_RANGE_DEG = (-5.0, 90.0)
+
+#: Largest difference (hours) between a zone's standard UTC offset and longitude / 15 deg per hour
+#: accepted without a warning [common practice, no single source: zones follow borders, and
+#: wide countries keep one zone, so 2-3 h occur; a longitude of the wrong sign is usually more].
+ZONE_LONGITUDE_WARN_H = 3.0
 
 REQUIRED_KEYS = ("name", "latitude_deg", "longitude_deg", "elevation_m", "timezone")
 OPTIONAL_KEYS = (
@@ -198,6 +207,53 @@ def _horizon(value, source, errors):
     return tuple(azs), tuple(p[1] for p in pairs)
 
 
+def standard_offsets_h(tz: str, year: int | None = None) -> list[float]:
+    """Standard-time UTC offsets (hours, east positive) of the IANA zone ``tz`` in ``year``.
+
+    The offset less any daylight-saving shift, on 15 January and 15 July (default: this year);
+    one value for most zones, two where the zone changed its standard time within the year.
+    """
+    from ..timescales.clock import zone
+
+    tzinfo = zone(tz)
+    year = year or dt.datetime.now(dt.timezone.utc).year
+    offsets = []
+    for month in (1, 7):
+        local = dt.datetime(year, month, 15, 12, tzinfo=tzinfo)
+        std = local.utcoffset() - (local.dst() or dt.timedelta(0))
+        offsets.append(std.total_seconds() / 3600.0)
+    return sorted(set(offsets))
+
+
+def zone_longitude_gap_h(tz: str, longitude_deg: float, year: int | None = None) -> float:
+    """Hours between the zone's standard UTC offset and local mean time (longitude / 15 deg per h).
+
+    Taken round the clock (-157 deg with UTC+14 is 0.5 h, not 24.5 h) and the smaller one where
+    the zone has two standard offsets in the year.
+    """
+    mean_time_h = longitude_deg / 15.0
+    return min(abs((off - mean_time_h + 12.0) % 24.0 - 12.0) for off in standard_offsets_h(tz, year))
+
+
+def _hh_mm(hours: float) -> str:
+    minutes = round(abs(hours) * 60)
+    return f"{'-' if hours < 0 else '+'}{minutes // 60:02d}:{minutes % 60:02d}"
+
+
+def warn_zone_longitude(site: Site, year: int | None = None) -> None:
+    """Warn (:class:`~planner.errors.PeriplanWarning`, one line) when the site's longitude and
+    time zone are more than :data:`ZONE_LONGITUDE_WARN_H` apart, as a longitude of the wrong
+    sign makes them (83 deg with America/New_York puts darkness at midday)."""
+    gap_h = zone_longitude_gap_h(site.timezone, site.longitude_deg, year)
+    if gap_h > ZONE_LONGITUDE_WARN_H:
+        offsets = " or ".join(f"UTC{_hh_mm(h)}" for h in standard_offsets_h(site.timezone, year))
+        warnings.warn(
+            f"{site.source}, key longitude_deg: {site.longitude_deg:g} deg (east positive) is "
+            f"{gap_h:.1f} h of local mean time away from {site.timezone} (standard time {offsets}); "
+            "check the sign of the longitude (west is negative) and the time zone",
+            PeriplanWarning, stacklevel=3)
+
+
 def parse_site(text: str, source: str = "<site>") -> Site:
     """Validated :class:`Site` from TOML text; ``source`` names the file in messages."""
     from ..errors import PeriplanError
@@ -277,5 +333,7 @@ def parse_site(text: str, source: str = "<site>") -> Site:
         order = {k: i for i, k in enumerate(KNOWN_KEYS)}
         errors.sort(key=lambda err: order.get(err.column, -1))
         raise InputErrors(errors)
-    return Site(name=name.strip(), latitude_deg=lat, longitude_deg=lon, elevation_m=elev, timezone=tz,
+    site = Site(name=name.strip(), latitude_deg=lat, longitude_deg=lon, elevation_m=elev, timezone=tz,
                 source=source, **kw)
+    warn_zone_longitude(site)
+    return site

@@ -5,6 +5,7 @@ Shared by the catalogue and site loaders, the only modules that read input files
 
 from __future__ import annotations
 
+import codecs
 import os
 
 from ..errors import InputError, InputErrors
@@ -25,7 +26,16 @@ def read_bytes(path, what: str) -> tuple[bytes, str]:
 
 
 def decode_text(data: bytes, source: str, expected: str) -> str:
-    """UTF-8 text of ``data`` (a byte-order mark is dropped); ``expected`` says what the file should be."""
+    """Text of ``data``: UTF-8, or UTF-16 when it opens with a UTF-16 byte-order mark (what some
+    spreadsheets save as "Unicode text"); a byte-order mark is dropped. ``expected`` says what the
+    file should be.
+    """
+    if data[:2] in (codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE):
+        try:
+            return data.decode("utf-16")
+        except UnicodeDecodeError:
+            raise InputErrors([InputError(f"not readable UTF-16 text (it opens with a UTF-16 byte-order mark); "
+                                          f"save it as UTF-8 ({expected})", file=source)]) from None
     if b"\x00" in data:
         raise InputErrors([InputError(f"not a text file (contains NUL bytes); expected {expected}", file=source)])
     try:

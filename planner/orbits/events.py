@@ -22,20 +22,18 @@ P, epoch, e and omega in expectation, at the cost of one draw per target instead
 
 from __future__ import annotations
 
-import zlib
-
 import numpy as np
 import pandas as pd
 
+from ..errors import PeriplanError
 from ..timescales.epochs import bjd_tdb_to_utc
-from . import geometry
+from . import binary_events, element_draws, geometry, light_time
 from .geometry import ORBIT_EVENTS, PERIODIC_EVENT
 
 #: Monte Carlo draws per target for the phase-offset spread; the relative error of sigma from
 #: N draws is about 1/sqrt(2N), 3 per cent at the default (bench/bench_events.py measures the cost).
 DEFAULT_SAMPLES = 500
 DEFAULT_SEED = 20261202
-_MAX_E_SAMPLE = 1.0 - 1e-6
 
 EVENT_COLUMNS = (
     "target", "event", "label", "cycle", "bjd_tdb", "sigma_d", "duration_d", "eclipses", "target_index",
@@ -57,28 +55,34 @@ def _offsets(e, omega_rad, epoch_kind):
 
 
 def offset_variance(e, e_err, omega_rad, omega_err_rad, epoch_kind, names, n_samples=DEFAULT_SAMPLES,
-                    seed=DEFAULT_SEED):
+                    seed=DEFAULT_SEED, shape=None):
     """Mean square deviation (orbits^2) of the event phase offsets d_k under e and omega errors.
 
     Returns shape (n, 6), columns in :data:`~planner.orbit.ORBIT_EVENTS` order, taken about the
     nominal offsets (so any bias of the draw counts as spread). Targets with e = 0, or with no e
     and omega errors, get 0. Each target draws from its own generator seeded by ``seed`` and the
     CRC-32 of its name, so its value is reproducible and does not depend on the other targets.
+    ``shape`` (optional: kind, x, y, x_err, y_err per target, see
+    :func:`planner.orbits.element_draws.shape_draws`) makes rows that give ecosw/esinw or
+    secosw/sesinw draw in those parameters instead of e and omega.
     """
     e = np.asarray(e, float)
     n = e.size
     var = np.zeros((n, len(ORBIT_EVENTS)))
-    todo = np.flatnonzero((e > 0) & ((e_err > 0) | (omega_err_rad > 0)))
+    todo_mask = (e > 0) & ((e_err > 0) | (omega_err_rad > 0))
+    if shape is not None:
+        alt = np.asarray(shape[0]) != ""
+        todo_mask = np.where(alt, (shape[3] > 0) | (shape[4] > 0), todo_mask)
+    todo = np.flatnonzero(todo_mask)
     if todo.size == 0:
         return var
     nominal = _offsets(e[todo], omega_rad[todo], epoch_kind[todo])
     chunk = max(1, 2_000_000 // n_samples)
     for start in range(0, todo.size, chunk):
         idx = todo[start:start + chunk]
-        z = np.stack([np.random.default_rng([seed, zlib.crc32(str(names[i]).encode())]).standard_normal((2, n_samples))
-                      for i in idx], axis=1)
-        es = np.minimum(np.abs(e[idx, None] + e_err[idx, None] * z[0]), _MAX_E_SAMPLE)
-        ws = omega_rad[idx, None] + omega_err_rad[idx, None] * z[1]
+        z = element_draws.standard_normals([names[i] for i in idx], seed, n_samples)
+        sub = None if shape is None else tuple(np.asarray(a)[idx] for a in shape)
+        es, ws = element_draws.shape_draws(z, e[idx], e_err[idx], omega_rad[idx], omega_err_rad[idx], sub)
         ph = geometry.event_phases(es, ws)  # (m, S, 6)
         ref = np.where((epoch_kind[idx] == "tc")[:, None], ph[..., ORBIT_EVENTS.index("primary_conjunction")], 0.0)
         dev = ph - ref[..., None] - nominal[start:start + chunk][:, None, :]
@@ -98,7 +102,12 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
     start_bjd_tdb, end_bjd_tdb : float
         Span in BJD_TDB.
     kinds : iterable of str, optional
-        Keep only these event names (intersected with each target's own ``events`` list).
+        Keep only these event names: intersected with the ``events`` list of a target whose
+        catalogue names its events (``events_given``), else with every event its elements define
+        (the filter asks for them, beyond the target's defaults). The
+        aliases of :data:`planner.orbits.geometry.EVENT_ALIASES` are accepted, and ``maximum`` /
+        ``minimum`` keep the periodic events whose label says so
+        (:func:`planner.orbits.geometry.periodic_kind`).
 
     Returns
     -------
@@ -111,7 +120,7 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
         ``target_index`` (row of ``targets``).
     """
     n = len(targets)
-    wanted_kinds = None if kinds is None else set(kinds)
+    wanted_kinds = None if kinds is None else _kinds(kinds)
     period = targets["period_d"].to_numpy(float)
     period_err = targets["period_err_d"].to_numpy(float)
     epoch = targets["epoch_bjd_tdb"].to_numpy(float)
@@ -128,11 +137,15 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
     var_d = np.zeros((n, 7))
     var_d[:, :6] = offset_variance(e, targets["e_err"].to_numpy(float), omega,
                                    np.radians(targets["omega_err_deg"].to_numpy(float)), epoch_kind,
-                                   targets["name"].to_numpy(object), n_samples, seed)
+                                   targets["name"].to_numpy(object), n_samples, seed, shape=_shape(targets))
     want = np.zeros((n, 7), bool)
-    for i, (evs, orb) in enumerate(zip(targets["events"], is_orbit)):
+    asked = targets["events_given"].to_numpy(bool) if "events_given" in targets else np.ones(n, bool)
+    for i, (evs, orb, label) in enumerate(zip(targets["events"], is_orbit, targets["label"])):
+        if wanted_kinds is not None and not asked[i]:  # the filter asks for events beyond the defaults
+            evs = (ORBIT_EVENTS if e[i] > 0 else _CIRCULAR_EVENTS) if orb else (PERIODIC_EVENT,)
         for ev in evs:
-            if wanted_kinds is None or ev in wanted_kinds:
+            if wanted_kinds is None or ev in wanted_kinds or (
+                    ev == PERIODIC_EVENT and geometry.periodic_kind(label) in wanted_kinds):
                 want[i, names.index(ev)] = True
         if not orb:
             want[i, :6] = False
@@ -142,20 +155,33 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
     geom = _has_geometry(targets)
     durations = _durations_d(targets, geom, e, omega, period)
 
-    ti, ki = np.nonzero(want)
+    # rows with apsidal motion or two epochs have their own path; a third body's light time is
+    # added to every event of its row, which is why those rows look beyond the span by pad_d
+    extended = binary_events.extended_mask(targets) if "epoch2_kind" in targets else np.zeros(n, bool)
+    ltte = _light_time_elements(targets)
+    pad_d = np.where(np.isfinite(ltte[4]), np.abs(np.nan_to_num(ltte[4])) * (1 + 2 * np.nan_to_num(ltte[2])), 0.0)
+    ti, ki = np.nonzero(want & ~extended[:, None])
     p, d = period[ti], offsets[ti, ki]
-    first = np.ceil((start_bjd_tdb - epoch[ti]) / p - d)
-    last = np.ceil((end_bjd_tdb - epoch[ti]) / p - d) - 1
+    first = np.ceil((start_bjd_tdb - pad_d[ti] - epoch[ti]) / p - d)
+    last = np.ceil((end_bjd_tdb + pad_d[ti] - epoch[ti]) / p - d) - 1
     count = np.maximum(last - first + 1, 0).astype(np.int64)
     rep = np.repeat(np.arange(ti.size), count)
     cycle = first[rep] + (np.arange(rep.size) - np.repeat(np.cumsum(count) - count, count))
     t_i, k_i = ti[rep], ki[rep]
     x = cycle + offsets[t_i, k_i]
     bjd = epoch[t_i] + period[t_i] * x
-    order = np.lexsort((t_i, bjd))  # by time, then catalogue order: deterministic
-    t_i, k_i, cycle, x, bjd = t_i[order], k_i[order], cycle[order], x[order], bjd[order]
     sigma = np.sqrt(epoch_err[t_i] ** 2 + (period_err[t_i] * x) ** 2
                     + (period[t_i] ** 2 + period_err[t_i] ** 2) * var_d[t_i, k_i])
+    if extended.any():
+        ext = binary_events.extended_events(targets, np.flatnonzero(extended), want, start_bjd_tdb, end_bjd_tdb,
+                                            pad_d, n_samples, seed)
+        t_i, k_i, cycle, bjd, sigma = (np.concatenate([a, b]) for a, b in zip((t_i, k_i, cycle, bjd, sigma), ext))
+    if np.any(pad_d > 0):
+        bjd = bjd + light_time.irwin_delay_d(bjd, *(a[t_i] for a in ltte))
+        keep = (pad_d[t_i] == 0) | ((bjd >= start_bjd_tdb) & (bjd < end_bjd_tdb))
+        t_i, k_i, cycle, bjd, sigma = t_i[keep], k_i[keep], cycle[keep], bjd[keep], sigma[keep]
+    order = np.lexsort((t_i, bjd))  # by time, then catalogue order: deterministic
+    t_i, k_i, cycle, bjd, sigma = t_i[order], k_i[order], cycle[order], bjd[order], sigma[order]
     event_names = np.asarray(names, dtype=object)[k_i]
     labels = targets["label"].to_numpy(object)[t_i]
     labels = np.where(event_names == PERIODIC_EVENT, labels, event_names)
@@ -176,7 +202,65 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
     return out
 
 
+#: Events a circular orbit defines (its periastron is a convention: omega = 90 deg).
+_CIRCULAR_EVENTS = ("primary_conjunction", "secondary_conjunction", "rv_max", "rv_min")
+
+
+def _kinds(kinds) -> set:
+    """The event names and periodic kinds that the words ``kinds`` mean (aliases resolved)."""
+    out = set()
+    for word in kinds:
+        name = geometry.canonical_event(word)
+        if name is None:
+            raise PeriplanError(f"unknown event {word!r}; expected one of {', '.join(geometry.EVENT_WORDS)}")
+        out.add(name)
+    return out
+
+
 _CONJUNCTIONS = (ORBIT_EVENTS.index("primary_conjunction"), ORBIT_EVENTS.index("secondary_conjunction"))
+
+
+def _shape(targets):
+    """(kind, x, y, x_err, y_err) of the catalogue's shape parameters, or None for older tables."""
+    if "shape_kind" not in targets:
+        return None
+    return (targets["shape_kind"].to_numpy(str),) + tuple(
+        targets[c].to_numpy(float) for c in ("shape_x", "shape_y", "shape_x_err", "shape_y_err"))
+
+
+def _light_time_elements(targets):
+    """(p3_d, t3, e3, omega3_rad, amplitude_d), NaN amplitude where a row has no third body."""
+    n = len(targets)
+    if "ltte_amp_d" not in targets:
+        return tuple(np.full(n, np.nan) for _ in range(5))
+    return (targets["p3_d"].to_numpy(float), targets["t3_bjd_tdb"].to_numpy(float), targets["e3"].to_numpy(float),
+            np.radians(targets["omega3_deg"].to_numpy(float)), targets["ltte_amp_d"].to_numpy(float))
+
+
+def applied_corrections(targets) -> np.ndarray:
+    """(n,) text naming the corrections applied to each target's events, ``""`` for none.
+
+    Semicolon list of ``apsidal_motion`` (omega turning; ``anomalistic_period`` added when the
+    catalogue period is sidereal), ``two_epochs`` (tc+tp or tsec: nearest epoch, checked and
+    combined), ``ecosw_esinw`` / ``secosw_sesinw`` (Monte Carlo drawn in those parameters) and
+    ``third_body_light_time`` (Irwin 1952 delay added to every event).
+    """
+    n = len(targets)
+    parts = [[] for _ in range(n)]
+    if "omega_dot_deg_d" not in targets:
+        return np.full(n, "", dtype=object)
+    for i, row in enumerate(targets.itertuples(index=False)):
+        if row.omega_dot_deg_d != 0:
+            parts[i].append("apsidal_motion")
+            if row.period_kind == "sidereal":
+                parts[i].append("anomalistic_period")
+        if row.epoch2_kind:
+            parts[i].append("two_epochs")
+        if row.shape_kind:
+            parts[i].append(f"{row.shape_kind}_{'esinw' if row.shape_kind == 'ecosw' else 'sesinw'}")
+        if np.isfinite(row.ltte_amp_d):
+            parts[i].append("third_body_light_time")
+    return np.array([";".join(p) for p in parts], dtype=object)
 
 
 def _has_geometry(targets):

@@ -32,6 +32,37 @@ ORBIT_EVENTS = (
 #: Event of a target that has only a linear ephemeris T0 + n P.
 PERIODIC_EVENT = "periodic"
 ALL_EVENTS = ORBIT_EVENTS + (PERIODIC_EVENT,)
+#: The usual words for the conjunctions, accepted wherever an event is named (the catalogue's
+#: ``events`` column, the events filter); they mean the event they map to.
+EVENT_ALIASES = {
+    "transit": "primary_conjunction",
+    "primary_eclipse": "primary_conjunction",
+    "occultation": "secondary_conjunction",
+    "secondary_eclipse": "secondary_conjunction",
+}
+#: Kinds of a ``periodic`` event: a target with only a linear ephemeris says which it is by its
+#: label (a label holding the word ``maximum``/``max`` or ``minimum``/``min``, as "light maximum"
+#: or "Min I"); as a filter, ``maximum`` keeps the periodic events of such targets only.
+PERIODIC_KINDS = ("maximum", "minimum")
+#: Every word accepted as an event name.
+EVENT_WORDS = ALL_EVENTS + tuple(EVENT_ALIASES) + PERIODIC_KINDS
+_PERIODIC_KIND_WORDS = {"maximum": "maximum", "max": "maximum", "minimum": "minimum", "min": "minimum"}
+
+
+def canonical_event(word: str) -> str | None:
+    """The event name (:data:`ALL_EVENTS`) or periodic kind (:data:`PERIODIC_KINDS`) that ``word``
+    means, case, spaces and hyphens aside (``"Primary eclipse"`` -> ``primary_conjunction``);
+    None for a word that names no event."""
+    key = "_".join(str(word).strip().lower().replace("-", " ").split())
+    key = EVENT_ALIASES.get(key, key)
+    return key if key in ALL_EVENTS or key in PERIODIC_KINDS else None
+
+
+def periodic_kind(label: str) -> str:
+    """``maximum`` or ``minimum`` when the label of a periodic event says so, else ``""``."""
+    words = {_PERIODIC_KIND_WORDS.get(w) for w in str(label).lower().replace("_", " ").replace("-", " ").split()}
+    kinds = [k for k in PERIODIC_KINDS if k in words]
+    return kinds[0] if len(kinds) == 1 else ""
 
 
 def event_true_anomalies(omega_rad):

@@ -19,6 +19,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import PeriplanError
+from ..sky.night import darkness_of
 from ..timescales import clock
 from .atomic import atomic_write
 
@@ -60,21 +61,18 @@ def save_png(fig, path):
     return path
 
 
-def _clock_ticks(ax, lo_h, hi_h, offset_h=0.0, axis="x"):
-    """Whole-hour ticks between lo_h and hi_h labelled as clock hours (mod 24) after ``offset_h``."""
-    first = np.ceil(lo_h + offset_h)
-    ticks = np.arange(first, hi_h + offset_h + 1e-9, 1.0 if hi_h - lo_h <= 14 else 2.0)
-    labels = [f"{int(t) % 24:02d}" for t in ticks]
-    if axis == "x":
-        ax.set_xticks(ticks - offset_h, labels)
+def _clock_ticks(ax, lo_h, hi_h):
+    """Whole-hour x ticks between lo_h and hi_h (every 2 h past 14 h) labelled as clock hours (mod 24)."""
+    ticks = np.arange(np.ceil(lo_h), hi_h + 1e-9, 1.0 if hi_h - lo_h <= 14 else 2.0)
+    ax.set_xticks(ticks, [f"{int(t) % 24:02d}" for t in ticks])
     return ticks
 
 
-def _shade_night(ax, night, ref_jd, lo_h, hi_h, y0=None, y1=None, label=True):
-    """Twilight and dark-time spans of one night on a time axis in hours after ``ref_jd``."""
+def _shade_night(ax, night, to_h, lo_h, hi_h, y0=None, y1=None, label=True):
+    """Twilight and dark-time spans of one night on a time axis; ``to_h`` maps a UTC JD to the axis."""
     def h(col):
         v = float(night[col]) if col in night and night[col] is not None else np.nan
-        return (v - ref_jd) * _HOURS_PER_DAY
+        return float(to_h(v))
 
     sunset, d0, d1, sunrise = h("sunset_jd_utc"), h("dark_start_jd_utc"), h("dark_end_jd_utc"), h("sunrise_jd_utc")
     span = (lambda a, b, **kw: ax.axvspan(a, b, **kw)) if y0 is None else \
@@ -84,10 +82,11 @@ def _shade_night(ax, night, ref_jd, lo_h, hi_h, y0=None, y1=None, label=True):
     if np.isfinite(d0) and np.isfinite(d1):
         span(tw0, d0, color=TWILIGHT_SHADE, alpha=0.18, lw=0, label="twilight" if label else None, gid="twilight")
         span(d1, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0, gid="twilight")
-        span(d0, d1, color=DARK_SHADE, alpha=0.22, lw=0, label="astronomical darkness" if label else None, gid="dark")
+        span(d0, d1, color=DARK_SHADE, alpha=0.22, lw=0, label=darkness_of(night)[0] if label else None,
+             gid="dark")
     elif np.isfinite(sunset) or np.isfinite(sunrise):
-        span(tw0, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0, label="Sun down, no full darkness" if label else None,
-             gid="twilight")
+        span(tw0, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0,
+             label=f"Sun down, no {darkness_of(night)[0]}" if label else None, gid="twilight")
 
 
 def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_alt_deg: float,
@@ -122,7 +121,7 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     fig = _figure(10.0, 5.2, margins_in=(0.7, 2.45, 0.75, 0.55))
     ax = fig.add_subplot()
     lo_h, hi_h = (float(x.min()), float(x.max())) if x.size else (12.0, 36.0)
-    _shade_night(ax, night, ref, lo_h, hi_h)
+    _shade_night(ax, night, lambda v: (v - ref) * _HOURS_PER_DAY, lo_h, hi_h)
     colour = {nm: PALETTE[i % len(PALETTE)] for i, nm in enumerate(names)}
     for nm, a in zip(names, alt):
         ax.plot(x, a, color=colour[nm], lw=1.2, label=str(nm), gid="curve")
@@ -154,13 +153,20 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     ax.set_ylabel("altitude (deg)")
     _clock_ticks(ax, lo_h, hi_h)
     ax.set_xlabel("UTC (hour)")
-    mid = 0.5 * (t.min() + t.max()) if t.size else ref
-    off = clock.utc_offset_h(tz, mid)
     if tz:
-        top = ax.secondary_xaxis("top", functions=(lambda v: v + off, lambda v: v - off))
-        ticks = _clock_ticks(ax, lo_h, hi_h, off, axis="none")
-        top.set_xticks(ticks, [f"{int(v) % 24:02d}" for v in ticks])
-        top.set_xlabel(f"local time, {tz} (hour)")
+        # local clock hours from the zone's rules at each tick: right across a daylight-saving change
+        step_h = 1 if hi_h - lo_h <= 14 else 2
+        tick_jd, hours = clock.local_whole_hours(ref + lo_h / _HOURS_PER_DAY, ref + hi_h / _HOURS_PER_DAY, tz,
+                                                 step_h)
+        names = [clock.zone_abbreviation(tz, v) for v in tick_jd]
+        # the first tick after a clock change carries the zone's new abbreviation (02 CET after 02 CEST)
+        labels = [f"{v:02d}" + (f" {nm}" if k and nm != names[k - 1] else "")
+                  for k, (v, nm) in enumerate(zip(hours, names))]
+        top = ax.secondary_xaxis("top")  # same hours as the bottom axis, labelled in local time
+        top.set_xticks((tick_jd - ref) * _HOURS_PER_DAY, labels)
+        changed = len(set(names)) > 1
+        top.set_xlabel(f"local time, {tz} (hour" + (f"; clocks change {names[0]} -> {names[-1]})" if changed
+                                                    else ")"))
     right = ax.twinx()
     right.set_ylim(0, 90)
     x_marks = np.array([1.0, 1.2, 1.5, 2.0, 3.0, 5.0])
@@ -182,9 +188,12 @@ def write_night_chart(path, night, times_jd_utc, alt_deg, names, blocks, min_alt
 def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None, title: str | None = None):
     """Overview of the week's blocks, one row per night: a matplotlib Figure.
 
-    x is the clock time of the night (local with ``tz``, else UTC), rows are the nights in the
-    order of ``nights``; dark time is shaded, fixed blocks are solid bars and flexible visits
-    hatched bars in the target's colour, each labelled with the target. One bar patch per block.
+    x is the clock time of the night (local with ``tz``, else UTC), read from the zone's rules at
+    each instant, so a bar starts and ends where the nightly list's local times say, also after a
+    daylight-saving change (a block shorter than a clock change that goes back is drawn with its
+    true length from its start); rows are the nights in the order of ``nights``; dark time is
+    shaded, fixed blocks are solid bars and flexible visits hatched bars in the target's colour,
+    each labelled with the target. One bar patch per block.
     """
     labels = list(nights["night"].astype(str))
     n = len(labels)
@@ -194,19 +203,20 @@ def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = N
     colour = {nm: PALETTE[i % len(PALETTE)] for i, nm in enumerate(targets)}
     spans = []
     for i, (_, night) in enumerate(nights.iterrows()):
-        ref = clock.date_to_jd_utc(night["night"])
-        edge = night.get("sunset_jd_utc", np.nan)
-        off = clock.utc_offset_h(tz, edge if np.isfinite(edge) else ref + 0.5)
-        shift = ref - off / _HOURS_PER_DAY  # local midnight starting the label date, as JD UTC
+        def to_h(v, day=str(night["night"])):
+            return clock.local_clock_h(v, tz, day)  # the zone's rules at each instant
+
         y = n - 1 - i
-        _shade_night(ax, night, shift, 12.0, 36.0, y - 0.4, y + 0.4, label=(i == 0))
+        _shade_night(ax, night, to_h, 12.0, 36.0, y - 0.4, y + 0.4, label=(i == 0))
         for col in ("sunset_jd_utc", "sunrise_jd_utc"):
             v = night.get(col, np.nan)
             if np.isfinite(v):
-                spans.append((v - shift) * 24)
+                spans.append(float(to_h(v)))
         here = schedule[schedule["night"].astype(str) == night["night"]]
         for _, b in here.iterrows():
-            xs, xe = (b["start_jd_utc"] - shift) * 24, (b["end_jd_utc"] - shift) * 24
+            xs, xe = (float(v) for v in to_h(np.array([b["start_jd_utc"], b["end_jd_utc"]])))
+            if xe <= xs:  # the clocks went back inside a short block: draw its true length
+                xe = xs + (b["end_jd_utc"] - b["start_jd_utc"]) * _HOURS_PER_DAY
             spans += [xs, xe]
             flexible = b["kind"] == "flexible"
             ax.broken_barh([(xs, xe - xs)], (y - 0.3, 0.6), facecolors=colour[str(b["target"])],
@@ -216,7 +226,7 @@ def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = N
                     color="black" if flexible else "white", clip_on=True)
         if here.empty:
             dark = np.isfinite(night.get("dark_start_jd_utc", np.nan))
-            ax.text(24.0, y, "nothing scheduled" if dark else "no astronomical darkness", ha="center",
+            ax.text(24.0, y, "nothing scheduled" if dark else f"no {darkness_of(night)[0]}", ha="center",
                     va="center", fontsize=8, color="#555555", style="italic")
     lo, hi = (min(spans) - 0.5, max(spans) + 0.5) if spans else (16.0, 32.0)
     ax.set_xlim(lo, hi)

@@ -14,7 +14,9 @@ import hashlib
 import numpy as np
 import pandas as pd
 
+from ..errors import TimeScaleError
 from ..timescales import clock
+from . import explain
 from .atomic import atomic_write
 
 PRODID = "-//periplan//observing plan//EN"
@@ -39,12 +41,21 @@ def _description(b: pd.Series) -> str:
         what = (b["label"] if isinstance(b.get("label"), str) and b["label"] else b["event"]).replace("_", " ")
         ev = b["event_jd_utc"]
         when = clock.jd_utc_to_datetime(ev).strftime("%Y-%m-%dT%H:%M:%SZ") if np.isfinite(ev) else "unknown"
-        sigma = b["event_sigma_d"] * 1440.0
-        unc = f" +- {sigma:.1f} min (1 sigma)" if np.isfinite(sigma) else ""
+        unc = explain.sigma_text(b["event_sigma_d"])
+        unc = f" {unc}" if unc.startswith("+-") else (f" ({unc})" if unc else "")
         lines.append(f"Event: {what} at {when}{unc}")
-    pts = ", ".join(f"{c[4:]} {b[c]:.1f}" for c in b.index if c.startswith("pts_"))
+        request = b.get("request")
+        if isinstance(request, str) and request:
+            serves = str(b.get("serves", "") or "").replace("_", " ").replace(";", " and ")
+            lines.append(f"Request: {request.replace('_', ' ')} (serves {serves})")
+        covers = b.get("covers")
+        if isinstance(covers, str) and covers:
+            missing = b.get("not_covered")
+            lines.append(f"Covers: {covers}" + (f"; not covered: {missing}" if isinstance(missing, str) and missing else ""))
+    parts, total = explain.block_points(b)  # printed parts add up to the printed total
+    pts = " + ".join(f"{c[4:]} {v:.1f}" for c, v in parts.items())
     lines.append(f"Score: {b['score']:.1f} = priority {b['x_priority']:g} x rarity {b['x_rarity']:.2f} "
-                 f"x conditions ({pts})")
+                 f"x conditions {total:.1f} points ({pts})")
     if isinstance(b.get("notes"), str) and b["notes"]:
         lines.append(f"Notes: {b['notes']}")
     lines.append(CAUTION_SHORT)
@@ -64,7 +75,8 @@ def plan_calendar(schedule: pd.DataFrame, dtstamp_utc: dt.datetime | None = None
 
     stamp = dtstamp_utc or dt.datetime.now(dt.timezone.utc).replace(microsecond=0)
     if stamp.tzinfo is None:
-        raise ValueError("dtstamp_utc must be timezone-aware (UTC)")
+        raise TimeScaleError(f"dtstamp_utc {stamp.isoformat()} has no time zone; give an aware datetime, "
+                             "e.g. datetime(..., tzinfo=datetime.timezone.utc)")
     cal = Calendar()
     cal.add("prodid", PRODID)
     cal.add("version", "2.0")

@@ -8,19 +8,30 @@ Files (all in ``out_dir``):
 ``altitude-YYYY-MM-DD.png``    altitude of the night's scheduled targets (:mod:`planner.charts`)
 ``week.png``                   the week's blocks, one row per night
 ``rv-TARGET.png``              RV over orbital phase of each scheduled eccentric target with K
+                               (TARGET from :func:`planner.outputs.file_names.unique_file_parts`)
 ``plan.ics``                   one calendar event per block (:mod:`planner.ical`)
 ``summary.txt``                the terminal summary
 ``unobservable.csv``           targets that never rise high enough at the site, with the reason
+``plan-files.txt``             the manifest: the names of the files above that this plan wrote
 =============================  ===============================================================
 
-Nothing is half-written: every file is first made in a temporary folder beside ``out_dir`` and
-moved into place only when all of them exist, each move an atomic rename, so an error or an
-interruption leaves a previous plan in ``out_dir`` as it was. Existing files are replaced only
-with ``force=True``; otherwise :class:`OutputExists` is raised before anything is computed.
+Nothing is half-written: every file is first made in a hidden staging folder inside ``out_dir``
+and moved into place only when all of them exist, each move an atomic rename; the files they
+replace are kept aside (hard links, or copies where the file system has none) until the last
+move, and put back if any step fails, so an error or an interruption leaves ``out_dir`` as it
+was. Existing plan files are replaced only with ``force=True``; otherwise :class:`OutputExists`
+is raised before anything is computed.
+
+With ``force=True`` the folder ends up holding exactly the new plan's files beside whatever
+else was there: the files named in the previous plan's manifest that the new plan does not write
+are removed, and no other file is ever deleted (a folder without a manifest loses nothing but
+the files the new plan writes over). The manifest lists only plain names of plan files; any other
+line in it is ignored.
 """
 
 from __future__ import annotations
 
+import contextlib
 import os
 import re
 import shutil
@@ -32,8 +43,12 @@ from ..errors import PeriplanError
 
 #: Sample step (days) of the altitude curves in the night charts: 5 minutes.
 CHART_STEP_D = 5.0 / 1440.0
-FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt", "unobservable.csv")
+#: The manifest: names of the files the plan in the folder wrote, one a line.
+MANIFEST_NAME = "plan-files.txt"
+FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt", "unobservable.csv", MANIFEST_NAME)
 _PLAN_FILE = re.compile(r"^(night-\d{4}-\d{2}-\d{2}\.(txt|html)|altitude-\d{4}-\d{2}-\d{2}\.png|rv-.+\.png)$")
+_MANIFEST_HEADER = ("# Files of the periplan plan in this folder. A forced re-run replaces exactly these;\n"
+                    "# periplan never deletes a file that is not listed here.\n")
 
 
 class OutputExists(PeriplanError):
@@ -49,8 +64,27 @@ class OutputExists(PeriplanError):
 
 
 def safe_file_name(name: str) -> str:
-    """A target name made safe for a file name: letters, digits, '-', '_' and '.' kept."""
-    return re.sub(r"[^A-Za-z0-9._-]+", "_", name).strip("_") or "target"
+    """A target name made safe for a file name (:func:`planner.outputs.file_names.file_part`)."""
+    from .file_names import file_part
+
+    return file_part(name)
+
+
+def is_plan_file_name(name: str) -> bool:
+    """True for a plain file name of the kind a plan writes (no folder part, not hidden)."""
+    return (name == os.path.basename(name) and not name.startswith(".")
+            and (name in FIXED_NAMES or bool(_PLAN_FILE.match(name))))
+
+
+def manifest_names(out_dir) -> list[str]:
+    """Plan files listed in the manifest of ``out_dir`` (empty when there is none or no folder)."""
+    try:
+        with open(os.path.join(os.fspath(out_dir), MANIFEST_NAME), encoding="utf-8") as fh:
+            lines = fh.read().splitlines()
+    except (OSError, UnicodeDecodeError):
+        return []
+    names = (ln.strip() for ln in lines if ln.strip() and not ln.startswith("#"))
+    return sorted({n for n in names if is_plan_file_name(n) and n != MANIFEST_NAME})
 
 
 def existing_plan_files(out_dir) -> list[str]:
@@ -59,7 +93,8 @@ def existing_plan_files(out_dir) -> list[str]:
         names = os.listdir(out_dir)
     except (FileNotFoundError, NotADirectoryError):
         return []
-    return sorted(n for n in names if n in FIXED_NAMES or _PLAN_FILE.match(n))
+    listed = set(manifest_names(out_dir))
+    return sorted(n for n in names if n in listed or is_plan_file_name(n))
 
 
 def check_out_dir(out_dir, force: bool) -> None:
@@ -78,19 +113,31 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
 
     ``progress``, when given, is called with the name of each file as it is made. Charts are
     drawn by up to ``workers`` processes (default: two where the machine has two cores and can
-    fork, else one); the plan is the same either way.
+    fork, else one); the plan is the same either way. A file that cannot be written raises
+    :class:`~planner.errors.PeriplanError` naming it, with ``out_dir`` left as it was. The
+    returned paths end with the manifest's.
     """
     from . import ical, sheets
     from .tables import render
 
     out_dir = os.fspath(out_dir)
     check_out_dir(out_dir, force)
-    os.makedirs(out_dir, exist_ok=True)
-    tz = plan.site.timezone
-    staging = tempfile.mkdtemp(prefix=".periplan-", dir=out_dir)
-    made = []
+    created = not os.path.isdir(out_dir)
+    current = "the plan's files"
+    try:
+        os.makedirs(out_dir, exist_ok=True)
+        tz = plan.site.timezone
+        staging = tempfile.mkdtemp(prefix=".periplan-", dir=out_dir)
+    except OSError as exc:
+        if created:
+            with contextlib.suppress(OSError):
+                os.rmdir(out_dir)
+        raise _write_error(out_dir, current, exc) from None
+    made, done = [], False
 
     def path(name):
+        if name in made:  # two files of one name would overwrite each other in the staging folder
+            raise PeriplanError(f"{out_dir}: two plan files would both be named {name}")
         made.append(name)
         if progress is not None:
             progress(name)
@@ -103,7 +150,8 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
         for label in nights["night"].astype(str):
             for ext in ("txt", "html"):
                 path(f"night-{label}.{ext}")
-        jobs.append((sheets.write_night_sheets, (staging, schedule, nights), {"tz": tz, "site_name": plan.site.name}))
+        jobs.append((sheets.write_night_sheets, (staging, schedule, nights), {"tz": tz, "site_name": plan.site.name,
+                                                                        "targets": plan.targets}))
         jobs.append((ical.write_ics, (path("plan.ics"), schedule), {"site_name": plan.site.name}))
         if len(plan.never_rising):
             text = render(plan.never_rising.drop(columns="target_index"), "csv",
@@ -112,13 +160,74 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
         if summary_text is not None:
             jobs.append((_write_text, (path("summary.txt"), summary_text), {}))
         _draw(jobs, workers)
-        final = []
-        for name in made:
-            os.replace(os.path.join(staging, name), os.path.join(out_dir, name))
-            final.append(os.path.join(out_dir, name))
-        return final
+        current = MANIFEST_NAME
+        _write_text(path(MANIFEST_NAME), _MANIFEST_HEADER + "".join(f"{n}\n" for n in made if n != MANIFEST_NAME))
+        current = "the plan's files"
+        stale = [n for n in manifest_names(out_dir) if n not in made] if force else []
+        _commit(staging, out_dir, made, stale)
+        done = True
+        return [os.path.join(out_dir, name) for name in made]
+    except OSError as exc:
+        raise _write_error(out_dir, getattr(exc, "filename", None) or current, exc) from None
     finally:
         shutil.rmtree(staging, ignore_errors=True)
+        if created and not done:
+            with contextlib.suppress(OSError):
+                os.rmdir(out_dir)  # the folder this call made, empty again: it did not exist before
+
+
+def _write_error(out_dir, what, exc: OSError) -> PeriplanError:
+    """One-line error for a file that could not be written, the folder left as it was."""
+    what = os.path.basename(os.fspath(what)) or str(what)
+    if what.startswith(".periplan-"):
+        what = "a plan file"
+    reason = exc.strerror or str(exc) or type(exc).__name__
+    return PeriplanError(f"{out_dir}: could not write {what} ({reason}); the folder was left as it was")
+
+
+def _keep_aside(src: str, dst: str) -> None:
+    """A second name ``dst`` for the file ``src`` (a hard link, or a copy where links fail)."""
+    try:
+        os.link(src, dst, follow_symlinks=False)
+    except OSError:
+        shutil.copy2(src, dst)
+
+
+def _commit(staging: str, out_dir: str, names: list[str], stale: list[str]) -> None:
+    """Move ``names`` from ``staging`` into ``out_dir`` and remove ``stale`` there, all or nothing.
+
+    Each file that is replaced or removed is first kept aside in a hidden folder; if any step
+    fails, the files already moved go back to ``staging`` and the kept ones are restored, so
+    ``out_dir`` is as it was. The manifest should come last in ``names``.
+    """
+    aside = tempfile.mkdtemp(prefix=".periplan-old-", dir=out_dir)
+    kept, moved, removed = [], [], []
+    try:
+        for name in names:
+            target = os.path.join(out_dir, name)
+            if os.path.lexists(target):
+                _keep_aside(target, os.path.join(aside, name))
+                kept.append(name)
+            os.replace(os.path.join(staging, name), target)
+            moved.append(name)
+        for name in stale:
+            target = os.path.join(out_dir, name)
+            if os.path.isfile(target) and not os.path.islink(target):
+                os.replace(target, os.path.join(aside, name))
+                removed.append(name)
+    except BaseException:
+        for name in reversed(removed):
+            with contextlib.suppress(OSError):
+                os.replace(os.path.join(aside, name), os.path.join(out_dir, name))
+        for name in reversed(moved):
+            with contextlib.suppress(OSError):
+                if name in kept:
+                    os.replace(os.path.join(aside, name), os.path.join(out_dir, name))
+                else:
+                    os.unlink(os.path.join(out_dir, name))
+        raise
+    finally:
+        shutil.rmtree(aside, ignore_errors=True)
 
 
 def chart_jobs(plan, path) -> list[tuple]:
@@ -127,6 +236,7 @@ def chart_jobs(plan, path) -> list[tuple]:
     The astronomy (altitude curves) is done here, so a job only draws.
     """
     from . import charts
+    from .file_names import unique_file_parts
 
     schedule, nights, tz = plan.schedule, plan.nights, plan.site.timezone
     jobs = [(charts.write_week_chart, (path("week.png"), schedule, nights),
@@ -146,11 +256,16 @@ def chart_jobs(plan, path) -> list[tuple]:
                       plan.site.min_altitude_deg),
                      {"tz": tz, "title": f"{plan.site.name}, night of {night['night']}",
                       "moon_alt_deg": plan.tracks.moon_altaz_deg(t)[0]}))
-    for ti in sorted(set(schedule["target_index"].astype(int))) if len(schedule) else []:
+    rv_targets = [ti for ti in (sorted(set(schedule["target_index"].astype(int))) if len(schedule) else [])
+                  if plan.targets.iloc[ti]["ephemeris"] == "orbit" and plan.targets.iloc[ti]["e"] > 0
+                  and np.isfinite(plan.targets.iloc[ti]["k_ms"])]
+    # file names from the whole catalogue's names, so a target keeps its file name whichever
+    # targets are scheduled with it
+    parts = unique_file_parts(plan.targets["name"].astype(str))
+    for ti in rv_targets:
         target = plan.targets.iloc[ti]
-        if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
-            jobs.append((charts.write_rv_chart, (path(f"rv-{safe_file_name(str(target['name']))}.png"), target,
-                                                 schedule[schedule["target_index"] == ti]), {}))
+        jobs.append((charts.write_rv_chart, (path(f"rv-{parts[str(target['name'])]}.png"), target,
+                                             schedule[schedule["target_index"] == ti]), {}))
     return jobs
 
 

@@ -13,77 +13,145 @@ writers (``write_night_sheets``, ``write_schedule_csv``) go through
 
 from __future__ import annotations
 
+import functools
 import html
 import os
+import re
 
 import numpy as np
 import pandas as pd
 
+from ..sky.night import darkness_of
 from ..scheduling.blocks import MIN_PER_DAY
+from ..scheduling.series_parts import parts_in_words
 from ..timescales import clock
+from . import explain
 from .atomic import atomic_write
+from .wording import count
 
 CAUTION = ("CAUTION: Never point the telescope at or near the Sun: it can blind in an instant and destroy "
            "instruments. The observatory's own safety rules and local regulations come first.")
 
 #: What to do for each kind of block (``{label}``: the catalogue's label of a periodic event).
 ACTIONS = {
-    "periastron": "cover the periastron passage: RV spectra spread through the block (the RV changes "
-                  "fastest here)",
-    "apastron": "observe around apastron: RV spectra through the block",
-    "primary_conjunction": "time series through primary conjunction (transit or primary eclipse where the "
-                           "geometry eclipses), with out-of-event baseline before and after",
-    "secondary_conjunction": "time series through secondary conjunction (occultation or secondary eclipse "
-                             "where the geometry eclipses), with baseline before and after",
-    "rv_max": "RV measurements near the RV maximum",
-    "rv_min": "RV measurements near the RV minimum",
-    "periodic": "time series around the predicted {label}",
+    "periastron": "photometric time series around the periastron passage",
+    "apastron": "photometric time series around apastron",
+    "primary_conjunction": "photometric time series of the transit or primary eclipse",
+    "secondary_conjunction": "photometric time series of the occultation or secondary eclipse",
+    "periodic": "photometric time series around the predicted {label}",
     "visit": "one visit (an RV point or a monitoring exposure) at any time inside the block",
 }
-SKY_ROWS = (("sunset_jd_utc", "Sunset"), ("dark_start_jd_utc", "Astronomical darkness begins"),
-            ("dark_end_jd_utc", "Astronomical darkness ends"), ("sunrise_jd_utc", "Sunrise"))
+
+
+def sky_rows(night) -> tuple[tuple[str, str], ...]:
+    """(night-table column, label) of the sky times, the darkness named as the site asked for it.
+
+    ``"Nautical darkness begins"`` for a site with ``darkness = "nautical"``, ``"Darkness (Sun
+    below -15 deg) begins"`` for a number (:func:`planner.sky.night.darkness_name`).
+    """
+    name = darkness_of(night)[0]
+    name = name[0].upper() + name[1:]
+    return (("sunset_jd_utc", "Sunset"), ("dark_start_jd_utc", f"{name} begins"),
+            ("dark_end_jd_utc", f"{name} ends"), ("sunrise_jd_utc", "Sunrise"))
+
+
+#: What to do for the visits of RV requests, by request kind.
+RV_ACTIONS = {
+    "rv_visit": "one RV spectrum of about {minutes:.0f} min near the {what}",
+    "rv_sequence": "RV visit {slot} of {n_slots} over the periastron passage, where the RV swings fastest: "
+                   "one spectrum of about {minutes:.0f} min",
+}
 
 
 def _clock(jd_utc, tz=None) -> str:
     """``HH:MM`` of a Julian date (UTC) in UTC, or in the IANA zone ``tz``; ``--:--`` for NaN."""
     if jd_utc is None or not np.isfinite(jd_utc):
         return "--:--"
+    return _clock_text(float(jd_utc), tz)
+
+
+@functools.lru_cache(maxsize=4096)
+def _clock_text(jd_utc: float, tz) -> str:
+    """``HH:MM`` of a finite Julian date (UTC); cached, as a sheet shows each time in two files."""
     text = clock.jd_utc_to_local_iso([jd_utc], tz)[0] if tz else clock.jd_utc_to_iso_z([jd_utc])[0]
     return text[11:16]
 
 
 def action(block) -> str:
-    """What to do in a block, in words, from its event (see :data:`ACTIONS`)."""
-    template = ACTIONS.get(str(block["event"]), "observe {label}")
+    """What to do in a block, in words, from its request kind and event (see :data:`ACTIONS`)."""
     label = block.get("label") if isinstance(block.get("label"), str) and block.get("label") else block["event"]
-    return template.format(label=label)
+    request = block.get("request", "")
+    if request in RV_ACTIONS:
+        minutes = (block["end_jd_utc"] - block["start_jd_utc"]) * MIN_PER_DAY
+        what = str(block["event"]).replace("rv_max", "RV maximum").replace("rv_min", "RV minimum").replace("_", " ")
+        text = RV_ACTIONS[request].format(minutes=minutes, what=what, slot=int(block.get("slot", 1)),
+                                          n_slots=int(block.get("n_slots", 1)))
+    else:
+        text = ACTIONS.get(str(block["event"]), "observe {label}").format(label=label)
+    serves = str(block.get("serves", "") or "")
+    if ";" in serves:
+        text += " (it serves " + " and ".join(w.replace("_", " ") for w in serves.split(";")) + " at once)"
+    return text
+
+
+def covers_line(block) -> str:
+    """Which parts of the event a series block covers and which it misses, in words ("" for visits)."""
+    if block.get("request") != "series":
+        return ""
+    covers, missing = str(block.get("covers", "") or ""), str(block.get("not_covered", "") or "")
+    if " | " in covers:  # a merged block: one clause per event
+        parts = []
+        for c, m in zip(covers.split(" | "), missing.split(" | ")):
+            event, _, got = c.partition(": ")
+            parts.append(f"{event.replace('_', ' ')}: " + parts_in_words(got, m.partition(": ")[2]))
+        return " ".join(parts)
+    if not np.isfinite(block.get("t1_jd_utc", np.nan)):
+        held = "the mid-event" if "mid" in covers else "no predicted moment"
+        return (f"Covers {held} ({100 * block['observable_fraction']:.0f}% of the window); contacts not known "
+                "(the catalogue gives no duration or eclipse geometry).")
+    return parts_in_words(covers, missing)
 
 
 def reasons(block) -> list[str]:
-    """The score of one block as phrases: the two factors, then each condition with its points."""
+    """The score of one block as phrases: the two factors, then each condition with its points.
+
+    Every condition is listed, the timing term of a flexible visit included, and the points are
+    rounded by :func:`planner.outputs.explain.block_points`, so the printed parts add up to the
+    printed conditions total.
+    """
     period = block["period_d"]
     recurs = f"event recurs every {period:.4g} d" if np.isfinite(period) else "no event: a visit"
     out = [f"priority {block['x_priority']:g}", f"rarity x{block['x_rarity']:.2f} ({recurs})"]
+    pts, total = explain.block_points(block)
     conditions = []
     frac = block["observable_fraction"]
-    if np.isfinite(frac):
-        conditions.append(f"{100 * frac:.0f}% of the event window observable ({block['pts_coverage']:.1f})")
+    science = block.get("science_fraction", np.nan)
+    if block.get("request") == "series" and np.isfinite(science) and np.isfinite(frac):
+        conditions.append(f"{100 * science:.0f}% of the series' science kept, {100 * frac:.0f}% of the window "
+                          f"observable ({pts['pts_coverage']:.1f})")
+    elif block.get("request") in RV_ACTIONS:
+        conditions.append(f"a visit inside its window: full value, whatever its length ({pts['pts_coverage']:.1f})")
+    elif np.isfinite(frac):
+        conditions.append(f"{100 * frac:.0f}% of the event window observable ({pts['pts_coverage']:.1f})")
     else:
-        conditions.append(f"whole block usable ({block['pts_coverage']:.1f})")
+        conditions.append(f"whole block usable ({pts['pts_coverage']:.1f})")
     x = block["airmass"]
-    conditions.append(f"mean airmass {x:.2f} ({block['pts_airmass']:.1f})" if np.isfinite(x)
-                      else f"airmass not known ({block['pts_airmass']:.1f})")
+    conditions.append(f"mean airmass {x:.2f} ({pts['pts_airmass']:.1f})" if np.isfinite(x)
+                      else f"airmass not known ({pts['pts_airmass']:.1f})")
     sep, lit = block["moon_sep_deg"], block["moon_illumination"]
     lit_text = f"{100 * lit:.0f}% lit" if np.isfinite(lit) else "phase not known"
-    conditions.append(f"Moon {sep:.0f} deg away, {lit_text} ({block['pts_moon']:.1f})" if np.isfinite(sep)
-                      else f"Moon {lit_text}, separation not computed ({block['pts_moon']:.1f})")
-    sigma = block["event_sigma_d"]
-    if np.isfinite(sigma):
-        window_h = (block["window_end_jd_utc"] - block["window_start_jd_utc"]) * 24.0
-        conditions.append(f"timing +-{sigma * MIN_PER_DAY:.1f} min (1 sigma) in a {window_h:.1f} h window "
-                          f"({block['pts_timing']:.1f})")
-    points = sum(block[c] for c in ("pts_coverage", "pts_airmass", "pts_moon", "pts_timing"))
-    out.append(f"conditions {points:.1f} points: " + ", ".join(conditions))
+    conditions.append(f"Moon {sep:.0f} deg away, {lit_text} ({pts['pts_moon']:.1f})" if np.isfinite(sep)
+                      else f"Moon {lit_text}, separation not computed ({pts['pts_moon']:.1f})")
+    conditions.append(explain.timing_phrase(block, pts["pts_timing"]))
+    out.append(f"conditions {total:.1f} points: " + ", ".join(conditions))
+    serves = str(block.get("serves", "") or "").split(";")
+    own = block["x_priority"] * block["x_rarity"] * sum(block[c] for c in ("pts_coverage", "pts_airmass", "pts_moon",
+                                                                            "pts_timing"))
+    if len(serves) > 1 and abs(block["score"] - own) > 1e-6:
+        # a block serving two requests: its own value plus the other's, printed so that they add up
+        (mine, other), _ = explain.rounded_parts([own, block["score"] - own])
+        out[0] = f"{mine:.1f} for the {serves[0].replace('_', ' ')} (priority {block['x_priority']:g}"
+        out[-1] = out[-1] + f") + {other:.1f} for the {serves[1].replace('_', ' ')} it serves too"
     return out
 
 
@@ -117,26 +185,54 @@ def _title(night, site_name):
 def _empty_message(night) -> str:
     dark = np.isfinite(night["dark_start_jd_utc"]) and np.isfinite(night["dark_end_jd_utc"])
     if not dark:
-        return ("No astronomical darkness this night: nothing is scheduled. (The Sun stays less than "
-                "18 deg below the horizon.)")
+        name, alt = darkness_of(night)
+        below = (f" (The Sun stays less than {abs(alt):g} deg below the horizon.)" if np.isfinite(alt) else "")
+        return f"No {name} this night: nothing is scheduled.{below}"
     return ("Nothing scheduled: no event window is observable in darkness above the altitude limit, and no "
             "flexible target fits.")
+
+
+#: Catalogue columns that hold a magnitude (``mag``, ``vmag``, ``V_mag``, ``mag_r``, ...), shown
+#: beside the target's name on the block line.
+MAGNITUDE_COLUMN = re.compile(r"^(mag|[a-z]{1,2}_?mag|mag_?[a-z]{1,2})$", re.IGNORECASE)
+
+
+def magnitude_texts(targets: pd.DataFrame) -> np.ndarray:
+    """Per target, ``"vmag 9.5"`` from the first magnitude column of the catalogue (``""`` where none)."""
+    column = next((c for c in targets.columns if MAGNITUDE_COLUMN.match(str(c))), None)
+    if column is None:
+        return np.full(len(targets), "", dtype=object)
+    values = targets[column].to_numpy(object)
+    return np.array(["" if v is None or (isinstance(v, float) and not np.isfinite(v)) or str(v).strip() == ""
+                     else f"{column} {v:g}" if isinstance(v, float) else f"{column} {str(v).strip()}"
+                     for v in values], dtype=object)
 
 
 def _block_lines(b, tz):
     what = _what(b)
     when_utc = f"{_clock(b['start_jd_utc'])}-{_clock(b['end_jd_utc'])} UTC"
     when_local = f"{_clock(b['start_jd_utc'], tz)}-{_clock(b['end_jd_utc'], tz)} local" if tz else ""
-    head = f"{when_local + '  (' + when_utc + ')' if tz else when_utc}  {b['target']}: {what}"
+    mag = b.get("magnitude")
+    name = f"{b['target']} ({mag})" if isinstance(mag, str) and mag else f"{b['target']}"
+    head = f"{when_local + '  (' + when_utc + ')' if tz else when_utc}  {name}: {what}"
     detail = []
     if b["kind"] != "flexible" and np.isfinite(b["event_jd_utc"]):
-        sig = b["event_sigma_d"] * MIN_PER_DAY
-        unc = f", +- {sig:.1f} min (1 sigma)" if np.isfinite(sig) else ""
+        unc = explain.sigma_text(b["event_sigma_d"])
+        unc = f", {unc}" if unc else ""
         loc = f" ({_clock(b['event_jd_utc'], tz)} local)" if tz else ""
-        detail.append(f"Event at {_clock(b['event_jd_utc'])} UTC{loc}{unc}.")
-    alts = [b["alt_start_deg"], b["alt_mid_deg"], b["alt_end_deg"]]
-    if all(np.isfinite(alts)):
-        detail.append(f"Altitude {alts[0]:.0f} / {alts[1]:.0f} / {alts[2]:.0f} deg (start / middle / end).")
+        far = abs(b["event_jd_utc"] - 0.5 * (b["start_jd_utc"] + b["end_jd_utc"])) > 0.5
+        day = clock.jd_utc_to_iso_z([b["event_jd_utc"]])[0][:10] + " " if far else ""  # a wide RV window
+        detail.append(f"Event at {day}{_clock(b['event_jd_utc'])} UTC{loc}{unc}.")
+    alt_text = []
+    if np.isfinite(b.get("alt_low_deg", np.nan)):
+        alt_text.append(f"lowest {b['alt_low_deg']:.0f} deg")
+    if np.isfinite(b.get("alt_event_deg", np.nan)):
+        alt_text.append(f"at the event {b['alt_event_deg']:.0f} deg")
+    for c in ("t1", "t2", "t3", "t4"):
+        if np.isfinite(b.get(f"alt_{c}_deg", np.nan)):
+            alt_text.append(f"at {c.upper()} {b[f'alt_{c}_deg']:.0f} deg")
+    if alt_text:
+        detail.append("Altitude: " + ", ".join(alt_text) + ".")
     return head, " ".join(detail)
 
 
@@ -146,9 +242,11 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
     Opens with :data:`CAUTION`; times are HH:MM in UTC and, with ``tz``, local.
     """
     lines = [_title(night, site_name), "=" * len(_title(night, site_name)), "", CAUTION, ""]
-    lines.append(f"{'Sky':32s}{'UTC':>7s}" + (f"   local ({tz})" if tz else ""))
-    for col, name in SKY_ROWS:
-        lines.append(f"{name:32s}{_clock(night[col]):>7s}" + (f"   {_clock(night[col], tz)}" if tz else ""))
+    rows = sky_rows(night)
+    width = max(32, 2 + max(len(name) for _, name in rows))
+    lines.append(f"{'Sky':{width}s}{'UTC':>7s}" + (f"   local ({tz})" if tz else ""))
+    for col, name in rows:
+        lines.append(f"{name:{width}s}{_clock(night[col]):>7s}" + (f"   {_clock(night[col], tz)}" if tz else ""))
     lines.append(f"Moon: {_moon_text(night, tz)}")
     lines.append("")
     blocks = blocks.sort_values("start_jd_utc", kind="stable")
@@ -163,6 +261,8 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
             if detail:
                 lines.append(f"   {detail}")
             lines.append(f"   Do: {action(b)}.")
+            if covers_line(b):
+                lines.append(f"   {covers_line(b)}")
             lines.append(f"   Why: score {b['score']:.1f} = " + " x ".join(reasons(b)) + ".")
             if isinstance(b["notes"], str) and b["notes"]:
                 lines.append(f"   Notes: {b['notes']}.")
@@ -198,7 +298,7 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
            f"<title>{e(title)}</title>", f"<style>{_CSS}</style>", "</head>", "<body>",
            f"<h1>{e(title)}</h1>", f'<p class="caution">{e(CAUTION)}</p>',
            "<table>", f"<tr><th>Sky</th><th>UTC</th>{f'<th>local ({e(tz)})</th>' if tz else ''}</tr>"]
-    for col, name in SKY_ROWS:
+    for col, name in sky_rows(night):
         local = f"<td>{e(_clock(night[col], tz))}</td>" if tz else ""
         out.append(f"<tr><td>{e(name)}</td><td>{e(_clock(night[col]))}</td>{local}</tr>")
     out.append(f"<tr><td>Moon</td><td colspan=\"{2 if tz else 1}\">{e(_moon_text(night, tz))}</td></tr>")
@@ -213,6 +313,8 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
         if detail:
             out.append(f"<p>{e(detail)}</p>")
         out.append(f"<p><strong>Do:</strong> {e(action(b))}.</p>")
+        if covers_line(b):
+            out.append(f"<p>{e(covers_line(b))}</p>")
         items = "".join(f"<li>{e(r)}</li>" for r in reasons(b))
         out.append(f"<p><strong>Why:</strong> score {b['score']:.1f} = priority x rarity x conditions</p>"
                    f"<ul>{items}</ul>")
@@ -224,8 +326,14 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
 
 
 def write_night_sheets(out_dir, schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None,
-                       site_name: str | None = None) -> list[str]:
-    """Write ``night-YYYY-MM-DD.txt`` and ``.html`` for every night into ``out_dir``; returns the paths."""
+                       site_name: str | None = None, targets: pd.DataFrame | None = None) -> list[str]:
+    """Write ``night-YYYY-MM-DD.txt`` and ``.html`` for every night into ``out_dir``; returns the paths.
+
+    With ``targets`` (the catalogue's target table), a magnitude column of the catalogue is shown
+    beside each target's name (:func:`magnitude_texts`).
+    """
+    if targets is not None and len(schedule):
+        schedule = schedule.assign(magnitude=magnitude_texts(targets)[schedule["target_index"].to_numpy(int)])
     paths = []
     for _, night in nights.iterrows():
         label = str(night["night"])
@@ -246,7 +354,8 @@ def write_schedule_csv(path, schedule: pd.DataFrame, tz: str | None = None):
 
     frame = display_frame(schedule, tz)
     fmt = {c: ".2f" for c in frame.columns if c.startswith("pts_") or c in ("score", "event_sigma_min")}
-    fmt.update({"alt_start_deg": ".1f", "alt_mid_deg": ".1f", "alt_end_deg": ".1f", "airmass": ".3f",
+    fmt.update({c: ".1f" for c in frame.columns if c.startswith("alt_")})
+    fmt.update({"science_fraction": ".2f", "airmass": ".3f",
                 "moon_sep_deg": ".1f", "moon_illumination": ".2f", "observable_fraction": ".3f"})
     text = render(frame, "csv", fmt)
     with atomic_write(path) as fh:
@@ -262,7 +371,7 @@ def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | No
         here = schedule[schedule["night"].astype(str) == label].sort_values("start_jd_utc", kind="stable")
         dark = np.isfinite(night["dark_start_jd_utc"]) and np.isfinite(night["dark_end_jd_utc"])
         dark_text = (f"dark {_clock(night['dark_start_jd_utc'], tz)}-{_clock(night['dark_end_jd_utc'], tz)}"
-                     if dark else "no darkness")
+                     if dark else f"no {darkness_of(night)[0]}")
         if here.empty:
             lines.append(f"{label}  {dark_text}  nothing scheduled")
             continue
@@ -275,5 +384,6 @@ def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | No
     if n == 0:
         lines.append("Nothing could be scheduled this week (no dark time, or no target visible in darkness).")
     else:
-        lines.append(f"{n} blocks, {schedule['target'].nunique()} targets, {len(nights)} nights; times in {clock}.")
+        lines.append(f"{count(n, 'block')}, {count(schedule['target'].nunique(), 'target')}, "
+                     f"{count(len(nights), 'night')}; times in {clock}.")
     return "\n".join(lines) + "\n"

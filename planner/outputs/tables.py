@@ -14,17 +14,24 @@ import pandas as pd
 
 from ..errors import PeriplanError
 from ..scheduling.blocks import MIN_PER_DAY
-from ..scheduling.score import SCORE_COLUMNS
+from ..scheduling.score import SCORE_COLUMNS, no_uncertainty
 from ..timescales import clock
 
 FORMATS = ("table", "csv", "json")
+
+
+def _sigma_min(sigma_d) -> np.ndarray:
+    """1-sigma uncertainties (days) in minutes, NaN where none is given (sigma exactly 0)."""
+    sigma = np.asarray(sigma_d, dtype=float)
+    return np.where(no_uncertainty(sigma), np.nan, sigma * MIN_PER_DAY)
 
 
 def events_frame(events: pd.DataFrame, t_utc, tz: str | None) -> pd.DataFrame:
     """Events for display and export, from :func:`seen_in_span`'s two results.
 
     Columns ``target, event, label, cycle, bjd_tdb, utc`` (ISO 8601, ``Z``), ``local`` (only when
-    ``tz`` is given), ``sigma_min`` (1-sigma, minutes) and ``duration_h``.
+    ``tz`` is given), ``sigma_min`` (1-sigma, minutes; empty when the catalogue gives no
+    uncertainty, see :func:`planner.scheduling.score.no_uncertainty`) and ``duration_h``.
     """
     some = len(events) > 0
     out = pd.DataFrame({
@@ -34,7 +41,7 @@ def events_frame(events: pd.DataFrame, t_utc, tz: str | None) -> pd.DataFrame:
     })
     if tz:
         out["local"] = clock.utc_to_local_iso(t_utc, tz) if some else np.array([], dtype=object)
-    out["sigma_min"] = events["sigma_d"].to_numpy(float) * 1440.0
+    out["sigma_min"] = _sigma_min(events["sigma_d"])
     out["duration_h"] = events["duration_d"].to_numpy(float) * 24.0
     return out
 
@@ -73,13 +80,21 @@ def nights_frame(nights: pd.DataFrame, tz: str) -> pd.DataFrame:
     return out
 
 
+#: Altitude columns of the schedule shown in schedule.csv: the lowest in the block, at the event
+#: moment (when the block holds it) and at each contact it covers.
+ALTITUDE_COLUMNS = ("alt_low_deg", "alt_event_deg", "alt_t1_deg", "alt_t2_deg", "alt_t3_deg", "alt_t4_deg")
+
+
 def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
     """The schedule for people and spreadsheets: ISO times in UTC and local time, minutes, notes.
 
-    Columns ``night, start_utc, end_utc, start_local, end_local, target, event, label, kind,
-    event_utc, event_sigma_min, score, x_priority, x_rarity, pts_*, alt_start_deg, alt_mid_deg, alt_end_deg, airmass,
-    moon_sep_deg, moon_illumination, observable_fraction, notes``. Local columns are empty
-    without ``tz`` (an IANA zone name).
+    Columns ``night, start_utc, end_utc, start_local, end_local, target, event, serves, label,
+    kind, request, covers, not_covered, t1_utc .. t4_utc, event_utc, event_sigma_min, score,
+    x_priority, x_rarity, pts_*, science_fraction, alt_low_deg, alt_event_deg, alt_t1_deg ..
+    alt_t4_deg, airmass, moon_sep_deg, moon_illumination, observable_fraction, notes``. Local
+    columns are empty without ``tz`` (an IANA zone name); a contact's time is empty when unknown;
+    ``event_sigma_min`` is empty (NaN) where the catalogue gives no uncertainty, so a missing value
+    never reads as a perfectly known time.
     """
     n = len(schedule)
 
@@ -94,13 +109,18 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
         "start_utc": iso("start_jd_utc", False), "end_utc": iso("end_jd_utc", False),
         "start_local": iso("start_jd_utc", True), "end_local": iso("end_jd_utc", True),
         "target": schedule["target"].to_numpy(object), "event": schedule["event"].to_numpy(object),
+        "serves": schedule["serves"].to_numpy(object),
         "label": schedule["label"].to_numpy(object), "kind": schedule["kind"].to_numpy(object),
-        "event_utc": iso("event_jd_utc", False),
-        "event_sigma_min": schedule["event_sigma_d"].to_numpy(float) * MIN_PER_DAY,
-        "score": schedule["score"].to_numpy(float),
+        "request": schedule["request"].to_numpy(object), "covers": schedule["covers"].to_numpy(object),
+        "not_covered": schedule["not_covered"].to_numpy(object),
     })
-    for c in SCORE_COLUMNS[:-1] + ("alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg",
-                              "moon_illumination", "observable_fraction", "notes"):
+    for c in ("t1", "t2", "t3", "t4"):
+        frame[f"{c}_utc"] = iso(f"{c}_jd_utc", False)
+    frame["event_utc"] = iso("event_jd_utc", False)
+    frame["event_sigma_min"] = _sigma_min(schedule["event_sigma_d"])
+    frame["score"] = schedule["score"].to_numpy(float)
+    for c in SCORE_COLUMNS[:-1] + ("science_fraction",) + ALTITUDE_COLUMNS + (
+            "airmass", "moon_sep_deg", "moon_illumination", "observable_fraction", "notes"):
         frame[c] = schedule[c].to_numpy()
     return frame
 

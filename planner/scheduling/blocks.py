@@ -31,11 +31,17 @@ AVAILABILITY_COLUMNS = ("target_index", "target", "night", "start_jd_utc", "end_
 NIGHT_COLUMNS = ("night", "sunset_jd_utc", "dark_start_jd_utc", "dark_end_jd_utc", "sunrise_jd_utc",
                  "moon_illumination")
 
+#: Contacts of a series, as ``*_jd_utc`` columns of requests and blocks.
+CONTACT_NAMES = ("t1", "t2", "t3", "t4")
 SCHEDULE_COLUMNS = (
-    "night", "start_jd_utc", "end_jd_utc", "target", "target_index", "event", "label", "kind",
-    "event_jd_utc", "event_sigma_d", "window_start_jd_utc", "window_end_jd_utc", "observable_fraction",
-    "priority", "period_d", "alt_start_deg", "alt_mid_deg", "alt_end_deg", "airmass", "moon_sep_deg",
-    "moon_illumination",
+    "night", "start_jd_utc", "end_jd_utc", "target", "target_index", "event", "serves", "label", "kind",
+    "request", "request_id", "group", "slot", "n_slots", "covers", "not_covered",
+) + tuple(f"{c}_jd_utc" for c in CONTACT_NAMES) + (
+    "event_jd_utc", "event_sigma_d", "window_start_jd_utc", "window_end_jd_utc", "earliest_start_jd_utc",
+    "latest_start_jd_utc", "observable_fraction", "science_fraction", "priority", "period_d", "alt_low_deg",
+    "alt_event_deg",
+) + tuple(f"alt_{c}_deg" for c in CONTACT_NAMES) + (
+    "airmass", "moon_sep_deg", "moon_illumination",
 ) + SCORE_COLUMNS + ("notes",)
 
 
@@ -46,16 +52,15 @@ class ScheduleOptions:
     ``overhead_min``: setup/slew time (minutes) required between consecutive blocks.
     ``repeats``: week rule for repeated target/events, one of :data:`REPEAT_RULES`.
     ``min_block_min``: fixed candidates with a shorter observable stretch are dropped.
-    ``twilight_margin_min``: a block starting or ending this close to the edges of astronomical
+    ``twilight_margin_min``: a block starting or ending this close to the edges of the site's
     darkness gets a note. ``flex_step_min``: step of the search for a flexible visit's start.
-    ``event_inside_only``: keep only fixed blocks that contain the predicted event moment (a
-    block that catches only the baseline or a wing of a long window is dropped); set False to
-    schedule partial windows whatever they hold. ``weights``: the score weights.
+    ``weights``: the score weights. What a block must hold to be worth scheduling (a contact
+    with its baseline, or the mid-event) is the request stage's rule
+    (:mod:`planner.scheduling.series_parts`).
     """
 
     overhead_min: float = 10.0
     repeats: str = "every"
-    event_inside_only: bool = True
     min_block_min: float = 10.0
     twilight_margin_min: float = 30.0
     flex_step_min: float = 5.0

@@ -1,78 +1,72 @@
-"""Fixed-time candidate blocks: one scored block per visible event window."""
+"""Candidate blocks from the request table: one schedule row per request candidate.
+
+Fixed candidates (series stretches) are their stretch; movable ones (RV visits and sequence
+slots) are proposed at the start the request stage chose (lowest airmass inside the allowed
+range) and keep their allowed range in ``earliest_start_jd_utc`` / ``latest_start_jd_utc``.
+Once blocks are chosen, :func:`with_altitudes` samples the altitude through each for the
+airmass and the notes; the block's lowest altitude, the altitude at the event moment (when the
+block holds it) and at each contact it covers are the schedule's altitude columns.
+"""
 
 from __future__ import annotations
 
 import numpy as np
 import pandas as pd
 
-from .blocks import (ALT_SAMPLES, FIXED, MIN_PER_DAY, SCHEDULE_COLUMNS, VISIBLE_COLUMNS, ScheduleOptions, altitudes,
-                     mean_airmass, require_columns, sample_times)
-from .score import airmass_from_alt, score_components
+from .blocks import (CONTACT_NAMES, FIXED, SCHEDULE_COLUMNS, VISIBLE_COLUMNS, ScheduleOptions,
+                     altitudes, require_columns, sample_times)
+from .requests import RequestSettings, build_requests
+
+
+def point_altitudes(altitude_deg, target_index, jd_utc, start, end):
+    """Altitude (deg) of each block's target at ``jd_utc`` where the block holds it, else NaN."""
+    t = np.asarray(jd_utc, float)
+    inside = np.isfinite(t) & (t >= start - 1e-9) & (t <= end + 1e-9)
+    out = np.full(t.shape, np.nan)
+    if altitude_deg is not None and inside.any():
+        out[inside] = np.asarray(altitude_deg(np.asarray(target_index, int)[inside], t[inside]), float)
+    return out
+
+
+def candidates_from_requests(requests: pd.DataFrame) -> pd.DataFrame:
+    """Candidates (columns :data:`SCHEDULE_COLUMNS`) of the request table, altitudes not yet filled."""
+    r = requests.reset_index(drop=True)
+    out = pd.DataFrame({c: (r[c].to_numpy() if c in r else np.full(len(r), np.nan)) for c in SCHEDULE_COLUMNS})
+    out["kind"] = np.full(len(r), FIXED, dtype=object)
+    out["notes"] = ""
+    return out
+
+
+def with_altitudes(blocks: pd.DataFrame, altitude_deg=None):
+    """(blocks with the altitude and airmass columns filled, (n, ALT_SAMPLES) altitudes through each).
+
+    Done for the chosen blocks only: the lowest altitude through the block, the altitude at the
+    event moment and at each contact the block holds, and the mean airmass through it.
+    """
+    b = blocks.reset_index(drop=True).copy()
+    idx = b["target_index"].to_numpy(int)
+    start, end = b["start_jd_utc"].to_numpy(float), b["end_jd_utc"].to_numpy(float)
+    alt = altitudes(altitude_deg, idx, sample_times(start, end))
+    b["alt_low_deg"] = np.min(alt, axis=1) if len(b) else np.zeros(0)
+    b["alt_event_deg"] = point_altitudes(altitude_deg, idx, b["event_jd_utc"].to_numpy(float), start, end)
+    for c in CONTACT_NAMES:
+        b[f"alt_{c}_deg"] = point_altitudes(altitude_deg, idx, b[f"{c}_jd_utc"].to_numpy(float), start, end)
+    from .blocks import mean_airmass
+    from .score import airmass_from_alt
+
+    b["airmass"] = mean_airmass(airmass_from_alt(alt))
+    return b, alt
 
 
 def fixed_candidates(visible: pd.DataFrame, targets: pd.DataFrame, altitude_deg=None,
-                     options: ScheduleOptions = ScheduleOptions()) -> pd.DataFrame:
-    """Scored fixed-time candidate blocks, one per visible event window, columns :data:`SCHEDULE_COLUMNS`.
+                     options: ScheduleOptions = ScheduleOptions(), intervals=None) -> pd.DataFrame:
+    """Scored candidate blocks (:data:`SCHEDULE_COLUMNS`) of the visible events' requests.
 
     ``visible`` is the visible-event table (:data:`VISIBLE_COLUMNS`), ``targets`` the catalogue
-    table (for priority, period, coordinates). Each block covers the observable stretch of its
-    window; stretches shorter than ``options.min_block_min`` are dropped. ``altitude_deg`` is an
-    optional function ``f(target_index, jd_utc) -> alt_deg`` (integer and float arrays of the same
-    shape, result that shape); with it the airmass is the mean through the block, without it the
-    table's ``alt_deg`` (when present) stands for the whole block. ``event_jd_utc`` is the table's
-    ``jd_utc``, the moment the event is seen from the Earth (computed once, by the sky stage).
-    With ``options.event_inside_only`` (default) blocks that do not contain that moment are dropped. A block whose airmass is unknown earns no airmass points.
-    ``night`` is the table's label; :func:`plan_week` re-assigns each block to the night that holds
-    its middle (:func:`night_index`).
+    table; ``intervals`` the observable intervals (every stretch of a window is a candidate;
+    without them the visible table's one stretch). See :mod:`planner.scheduling.requests`.
     """
-    return fixed_candidates_with_altitudes(visible, targets, altitude_deg, options)[0]
-
-
-def fixed_candidates_with_altitudes(visible, targets, altitude_deg, options):
-    """(candidates, (n, ALT_SAMPLES) altitudes through each block)."""
     require_columns(visible, VISIBLE_COLUMNS, "visible-event")
-    # a fixed order independent of the input's row order: the tie-break of best_intervals
-    v = visible.sort_values(["observable_start_jd_utc", "observable_end_jd_utc", "target_index", "event", "night"],
-                            kind="stable").reset_index(drop=True)
-    start = v["observable_start_jd_utc"].to_numpy(float)
-    end = v["observable_end_jd_utc"].to_numpy(float)
-    with np.errstate(invalid="ignore"):
-        long_enough = (end - start) * MIN_PER_DAY >= max(options.min_block_min, 1e-6)
-        keep = np.isfinite(start) & np.isfinite(end) & long_enough
-    v, start, end = v[keep].reset_index(drop=True), start[keep], end[keep]
-    event_jd = v["jd_utc"].to_numpy(float)
-    if options.event_inside_only:
-        inside = (event_jd >= start) & (event_jd <= end)
-        v, start, end, event_jd = v[inside].reset_index(drop=True), start[inside], end[inside], event_jd[inside]
-    n = len(v)
-    idx = v["target_index"].to_numpy(int)
-    times = sample_times(start, end)
-    alt = altitudes(altitude_deg, idx, times)
-    if altitude_deg is None and "alt_deg" in v:
-        alt = np.repeat(v["alt_deg"].to_numpy(float)[:, None], ALT_SAMPLES, axis=1)
-    airmass = airmass_from_alt(alt)
-    window = (v["window_end_jd_utc"] - v["window_start_jd_utc"]).to_numpy(float)
-    block_airmass = mean_airmass(airmass)
-    priority = targets["priority"].to_numpy(float)[idx]
-    period = targets["period_d"].to_numpy(float)[idx]
-    scores = score_components(priority, period, v["observable_fraction"].to_numpy(float), block_airmass,
-                              v["moon_sep_deg"].to_numpy(float), v["moon_illumination"].to_numpy(float),
-                              v["sigma_d"].to_numpy(float), window, options.weights)
-    out = pd.DataFrame({
-        "night": v["night"].astype(str).to_numpy(object), "start_jd_utc": start, "end_jd_utc": end,
-        "target": v["target"].to_numpy(object), "target_index": idx.astype(np.int64),
-        "event": v["event"].to_numpy(object), "label": v["label"].to_numpy(object),
-        "kind": np.full(n, FIXED, dtype=object), "event_jd_utc": event_jd,
-        "event_sigma_d": v["sigma_d"].to_numpy(float),
-        "window_start_jd_utc": v["window_start_jd_utc"].to_numpy(float),
-        "window_end_jd_utc": v["window_end_jd_utc"].to_numpy(float),
-        "observable_fraction": v["observable_fraction"].to_numpy(float),
-        "priority": priority, "period_d": period,
-        "alt_start_deg": alt[:, 0], "alt_mid_deg": alt[:, ALT_SAMPLES // 2], "alt_end_deg": alt[:, -1],
-        "airmass": block_airmass, "moon_sep_deg": v["moon_sep_deg"].to_numpy(float),
-        "moon_illumination": v["moon_illumination"].to_numpy(float),
-    })
-    for c in scores.columns:
-        out[c] = scores[c].to_numpy()
-    out["notes"] = ""
-    return out[list(SCHEDULE_COLUMNS)], alt
+    req = build_requests(visible, targets, intervals, altitude_deg,
+                         RequestSettings(min_block_min=options.min_block_min), options.weights)
+    return with_altitudes(candidates_from_requests(req), altitude_deg)[0]

@@ -1,10 +1,10 @@
-"""Flexible visits (targets with ``visit_h``) placed greedily in the gaps between fixed blocks."""
+"""Monitor visits (targets with ``visit_h``) placed greedily in the gaps between the blocks."""
 
 from __future__ import annotations
 
 import numpy as np
 
-from .blocks import ALT_SAMPLES, FLEXIBLE, MIN_PER_DAY, altitudes, mean_airmass, sample_times
+from .blocks import FLEXIBLE, MIN_PER_DAY, SCHEDULE_COLUMNS, altitudes, mean_airmass, sample_times
 from .score import airmass_from_alt, score_components
 
 
@@ -113,16 +113,17 @@ def fill_flexible(availability, targets, nights, fixed_chosen, altitude_deg, moo
             last_start[ti] = t0[k]
             busy.append((t0[k], t1[k]))
             alt = found[k][3]
-            row = {
+            row = {c: np.nan for c in SCHEDULE_COLUMNS}
+            row.update({
                 "night": label, "start_jd_utc": t0[k], "end_jd_utc": t1[k], "target": names[ti],
-                "target_index": ti, "event": "visit", "label": "flexible visit", "kind": FLEXIBLE,
-                "event_jd_utc": np.nan, "event_sigma_d": np.nan, "window_start_jd_utc": np.nan,
-                "window_end_jd_utc": np.nan, "observable_fraction": np.nan,
-                "priority": float(priority[ti]), "period_d": np.nan,
-                "alt_start_deg": alt[0], "alt_mid_deg": alt[ALT_SAMPLES // 2], "alt_end_deg": alt[-1],
-                "airmass": float(mean_airmass(x[k:k + 1])[0]), "moon_sep_deg": sep[k],
-                "moon_illumination": lit, "notes": "", "_alt": alt,
-            }
+                "target_index": ti, "event": "visit", "serves": "visit", "label": "flexible visit",
+                "kind": FLEXIBLE, "request": "monitor", "request_id": -1, "group": -1, "slot": 0, "n_slots": 1, "covers": "",
+                "not_covered": "", "science_fraction": 1.0, "priority": float(priority[ti]),
+                "earliest_start_jd_utc": t0[k], "latest_start_jd_utc": t0[k],
+                "alt_low_deg": float(np.min(alt)), "airmass": float(mean_airmass(x[k:k + 1])[0]),
+                "moon_sep_deg": sep[k], "moon_illumination": lit, "notes": "", "_alt": alt,
+            })
             row.update({c: float(sc[c].iloc[k]) for c in sc.columns})
             rows.append(row)
     return rows
+

@@ -1,27 +1,33 @@
-"""The week's plan: candidate blocks -> scores -> non-overlapping blocks per night, one telescope.
+"""The week's plan: request table -> non-overlapping blocks per night, one telescope.
 
-:func:`plan_week` is the scheduler. It takes the visible-event table, the flexible availability
-and the night table (all times Julian dates in UTC, plain floats) and returns the schedule table
+:func:`plan_week` is the scheduler. It takes the visible-event table, the observable intervals
+and the night table (all times Julian dates in UTC, plain floats), builds the request table
+(:mod:`planner.scheduling.requests`, or takes the caller's) and returns the schedule table
 (:data:`SCHEDULE_COLUMNS`, one row per block, sorted by night and start time).
 
 Method, per night:
 
-1. Fixed-time candidates: every visible event window becomes one block covering the observable
-   stretch of its window (``observable_start_jd_utc`` .. ``observable_end_jd_utc``), scored by
-   :func:`planner.score.score_components`. By default a block must contain the predicted event
-   moment (``ScheduleOptions.event_inside_only``), and it belongs to the night that holds its
-   middle (a wide window can reach into the night before or after the event's).
-2. Exact choice of fixed blocks: weighted interval scheduling (:func:`best_intervals`), the
+1. Candidates: every request candidate (each observable stretch of a series window worth a
+   block, each RV visit or sequence slot at its proposed start, each merged candidate) is one
+   block, scored by :func:`planner.scheduling.score.score_components`; it belongs to the night
+   that holds its middle (a wide window can reach into the night before or after the event's).
+2. Exact choice of blocks: weighted interval scheduling (:func:`best_intervals`), the
    O(n log n) dynamic programme over blocks sorted by end time with a binary search for the last
    compatible block (Kleinberg & Tardos, *Algorithm Design*, 2006, sec. 6.1). Two blocks are
    compatible when the later one starts at least the setup/slew overhead after the earlier one
-   ends. The chosen set has the largest possible total score; tests/test_schedule.py checks this
-   against brute force over all subsets.
-3. Flexible visits (targets with ``visit_h``) fill the gaps greedily: repeatedly place, among all
-   flexible targets that still fit, the visit with the highest score (placement at the lowest mean
+   ends; tests/test_schedule.py checks the programme against brute force over all subsets.
+   A movable visit may start anywhere in its range, which the programme cannot express: each
+   night is solved twice, with every visit at its proposed start, and with the fixed blocks
+   alone and then the visits fitted around them (best value first, each at the free start
+   nearest its proposed one), and the better total is kept. A request is served at most
+   once across the week (:func:`planner.scheduling.week.choose_fixed`).
+3. Movable visits left out are given a second chance: highest value first, each is moved
+   inside its allowed start range to the free time nearest its proposed start (greedy).
+4. Monitor visits (targets with ``visit_h``) fill the gaps greedily: repeatedly place, among all
+   monitor targets that still fit, the visit with the highest score (placement at the lowest mean
    airmass inside its free stretch), with the overhead either side, at most one visit per target
    per night, starts at least ``visit_gap_h`` after the target's previous visit, and no visit for
-   a target that already has a fixed block that night. Greedy, so not optimal; stated as such.
+   a target that already has a block that night. Greedy, so not optimal; stated as such.
 
 Across the week the repeat rule (:data:`REPEAT_RULES`) says what to do with several instances of
 the same target/event: ``"every"`` keeps them all (nights are independent); ``"first"`` keeps the
@@ -41,12 +47,14 @@ import logging
 import numpy as np
 import pandas as pd
 
+from ..sky.night import darkness_of
 from ..timescales.clock import hhmm_utc
 from .blocks import (AVAILABILITY_COLUMNS, FLEXIBLE, MIN_PER_DAY, NIGHT_COLUMNS, SCHEDULE_COLUMNS, VISIBLE_COLUMNS,
                      ScheduleOptions, night_index, require_columns)
-from .candidates import fixed_candidates, fixed_candidates_with_altitudes
+from .candidates import candidates_from_requests, fixed_candidates, with_altitudes
 from .flexible import fill_flexible
 from .intervals import best_intervals
+from .requests import RequestSettings, build_requests, monitor_requests
 from .week import choose_fixed
 
 log = logging.getLogger(__name__)
@@ -56,10 +64,14 @@ __all__ = ["AVAILABILITY_COLUMNS", "NIGHT_COLUMNS", "SCHEDULE_COLUMNS", "VISIBLE
 
 
 def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOptions) -> str:
-    """Plain-language notes on one block: coverage, meridian, twilight, Sun."""
+    """Plain-language notes on one block: coverage, movable visit, meridian, twilight, Sun."""
     notes = []
     if block["kind"] == FLEXIBLE:
         notes.append("flexible visit: any time inside the block")
+    elif block["request"] in ("rv_visit", "rv_sequence"):
+        lo, hi = block["earliest_start_jd_utc"], block["latest_start_jd_utc"]
+        if np.isfinite(lo) and np.isfinite(hi) and hi - lo > 1.0 / MIN_PER_DAY:
+            notes.append(f"the visit may start any time from {hhmm_utc(lo)} to {hhmm_utc(hi)} UTC")
     else:
         f = block["observable_fraction"]
         if np.isfinite(f) and f < 0.995:
@@ -81,7 +93,7 @@ def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOption
         if (np.isfinite(sunset) and s < sunset) or (np.isfinite(sunrise) and e > sunrise):
             notes.append("SUN ABOVE THE HORIZON during the block: do not observe while the Sun is up")
         if not (np.isfinite(d0) and np.isfinite(d1)):
-            notes.append("no astronomical darkness this night")
+            notes.append(f"no {darkness_of(night_row)[0]} this night")
         else:
             if s < d0 + margin:
                 notes.append("starts in or close to evening twilight")
@@ -92,43 +104,53 @@ def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOption
 
 def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets: pd.DataFrame,
               nights: pd.DataFrame, altitude_deg=None, moon_sep_deg=None,
-              options: ScheduleOptions = ScheduleOptions()) -> pd.DataFrame:
+              options: ScheduleOptions = ScheduleOptions(), requests: pd.DataFrame | None = None,
+              intervals: pd.DataFrame | None = None) -> pd.DataFrame:
     """Schedule table (columns :data:`SCHEDULE_COLUMNS`) for the nights of ``nights``.
 
     Parameters
     ----------
-    visible : visible-event table (:data:`VISIBLE_COLUMNS`; ``alt_deg`` used when no altitude
-        function is given)
-    availability : flexible availability (:data:`AVAILABILITY_COLUMNS`) or None
+    visible : visible-event table (:data:`VISIBLE_COLUMNS`)
+    availability : observable intervals of the targets with ``visit_h`` (:data:`AVAILABILITY_COLUMNS`)
+        or None: where their monitor visits may go
     targets : catalogue table (:func:`planner.catalogue.read_catalogue`), indexed 0..n-1 in the
         order ``target_index`` refers to
     nights : night table (:data:`NIGHT_COLUMNS`), one row per night; its order is the week's order
     altitude_deg, moon_sep_deg : optional functions ``f(target_index, jd_utc) -> deg`` (arrays of
         one shape in, that shape out) giving the target's altitude and its Moon separation
     options : :class:`ScheduleOptions`
+    requests : the request table (:func:`planner.scheduling.requests.build_requests`); when not
+        given it is built from ``visible`` and ``intervals`` with the default baseline
+    intervals : observable intervals (:func:`planner.sky.windows.observable_intervals`) from
+        which every stretch of a window is taken; without them, the visible table's longest one
 
     Returns
     -------
     DataFrame sorted by night (in ``nights`` order) and start. ``kind`` is ``fixed`` or
-    ``flexible``; for flexible visits ``event`` is ``visit`` and the event columns are NaN.
-    ``notes`` is a ``"; "``-joined list of plain-language notes (partial coverage, event outside
-    the block, meridian crossing, twilight, Sun). An empty table (right columns) when nothing fits.
+    ``flexible`` (a monitor visit, ``event`` = ``visit``, event columns NaN); ``request`` the
+    request kind; ``covers``/``not_covered`` the parts of a series. ``notes`` is a
+    ``"; "``-joined list of plain-language notes. An empty table (right columns) when nothing fits.
     """
     require_columns(nights, NIGHT_COLUMNS, "night")
+    require_columns(visible, VISIBLE_COLUMNS, "visible-event")
     if availability is not None:
         require_columns(availability, AVAILABILITY_COLUMNS, "flexible availability")
+    if requests is None:
+        requests = build_requests(visible, targets, intervals, altitude_deg,
+                                  RequestSettings(min_block_min=options.min_block_min), options.weights)
     order = list(nights["night"].astype(str))
-    cands, alt_fixed = fixed_candidates_with_altitudes(visible, targets, altitude_deg, options)
+    cands = candidates_from_requests(requests)
     # a long window (large timing uncertainty) can have its observable stretch on a night other
     # than the event's: a block belongs to the night that holds its middle, so nights never overlap
     held = night_index(0.5 * (cands["start_jd_utc"] + cands["end_jd_utc"]).to_numpy(float), nights)
     cands["night"] = np.where(held >= 0, np.asarray(order + [""], dtype=object)[held], "")
     in_week = cands["night"].isin(order).to_numpy()
-    cands, alt_fixed = cands[in_week].reset_index(drop=True), alt_fixed[in_week]
+    cands = cands[in_week].reset_index(drop=True)
     mask = choose_fixed(cands, order, options.overhead_min / MIN_PER_DAY, options.repeats)
-    chosen = cands[mask].reset_index(drop=True)
-    alts = list(alt_fixed[mask])
-    flex = fill_flexible(availability, targets, nights, chosen, altitude_deg, moon_sep_deg, options)
+    chosen, alt_fixed = with_altitudes(cands[mask], altitude_deg)
+    alts = list(alt_fixed)
+    flex = fill_flexible(monitor_requests(availability, targets), targets, nights, chosen, altitude_deg,
+                         moon_sep_deg, options)
     alts += [r.pop("_alt") for r in flex]
     if flex:
         chosen = pd.concat([chosen, pd.DataFrame(flex)[list(SCHEDULE_COLUMNS)]], ignore_index=True)
@@ -142,6 +164,6 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
     chosen = chosen.sort_values(["_n", "start_jd_utc", "target_index"], kind="stable").drop(columns="_n")
     chosen = chosen.reset_index(drop=True)
     chosen["target_index"] = chosen["target_index"].astype(np.int64)
-    log.info("scheduled %d blocks (%d fixed of %d candidates, %d flexible) over %d nights",
+    log.info("scheduled %d blocks (%d of %d candidates, %d monitor visits) over %d nights",
              len(chosen), int(mask.sum()), len(cands), len(flex), len(order))
     return chosen[list(SCHEDULE_COLUMNS)]

@@ -18,7 +18,8 @@ x_rarity      1 + ``weights.rarity`` x rarity, rarity = 1 / (1 + log2(1 + N_week
 pts_coverage  fraction of the event window that is observable (0..1)
 pts_airmass   linear from 1 at airmass 1 to 0 at ``weights.airmass_zero``
 pts_moon      1 - f_moon x max(0, 1 - s / ``weights.moon_clear_deg``)
-pts_timing    max(0, 1 - 2 n sigma / W): how much of the window the +-n sigma band leaves free
+pts_timing    max(0, 1 - 2 n sigma / W): how much of the window the +-n sigma band leaves free;
+              :data:`NEUTRAL_TIMING_QUALITY` when no uncertainty is given (sigma exactly 0)
 ============  ==================================================================================
 
 The weighted interval scheduler (:mod:`planner.schedule`) maximises the plain total of scores
@@ -36,6 +37,11 @@ import pandas as pd
 
 #: Length (days) over which event recurrence is counted for the rarity term.
 RARITY_SPAN_D = 7.0
+#: Timing quality (0..1) of an event whose catalogue gives no uncertainty (a 1-sigma of exactly
+#: 0: no error columns, or all zero). Half the range: such an event is ranked neither as a sure
+#: timing (1) nor as one likely missed (0); it is the quality of an event whose +-n sigma band
+#: fills half its window. Our own choice, not from a source; the outputs say so.
+NEUTRAL_TIMING_QUALITY = 0.5
 
 #: Multiplying factors and condition points of :func:`score_components`, in order.
 FACTOR_COLUMNS = ("x_priority", "x_rarity")
@@ -149,6 +155,9 @@ def moon_term(moon_sep_deg, moon_illumination, clear_deg=DEFAULT_WEIGHTS.moon_cl
 def timing_term(sigma_d, window_d, n_sigma=DEFAULT_WEIGHTS.timing_n_sigma):
     """Timing quality in [0, 1]: max(0, 1 - 2 n sigma / W); 1 where sigma is NaN (no event).
 
+    A sigma of exactly 0 means the catalogue gave no uncertainty (:func:`no_uncertainty`): it
+    scores :data:`NEUTRAL_TIMING_QUALITY`, not the full quality a perfectly known time would earn.
+
     ``sigma_d`` is the 1-sigma uncertainty of the predicted event time and ``window_d`` the length
     W of its window (days). Why: the +-n sigma band of possible event times should sit well inside
     the window; when it is as wide as the window the block may miss the event entirely (0).
@@ -159,7 +168,17 @@ def timing_term(sigma_d, window_d, n_sigma=DEFAULT_WEIGHTS.timing_n_sigma):
     with np.errstate(divide="ignore", invalid="ignore"):
         q = np.clip(1.0 - 2.0 * n_sigma * sigma / w, 0.0, 1.0)
     q = np.where(np.isfinite(w) & (w > 0), q, 0.0)
+    q = np.where(no_uncertainty(sigma), NEUTRAL_TIMING_QUALITY, q)
     return np.where(np.isnan(sigma), 1.0, q)
+
+
+def no_uncertainty(sigma_d):
+    """True where an event's 1-sigma time uncertainty is exactly 0: the catalogue gave none.
+
+    The loader reads a missing ``period_err_d``, epoch, ``e_err`` or ``omega_err_deg`` error as 0,
+    so an event whose every error is missing (or given as 0) has sigma 0. NaN (no event) is False.
+    """
+    return np.asarray(sigma_d, dtype=float) == 0.0
 
 
 def score_components(priority, period_d, observable_fraction, airmass, moon_sep_deg, moon_illumination,

@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..errors import PeriplanError
+from ..errors import CrossingSearchError
 
 #: Bisection stops when the bracket is shorter than this (days): 0.05 s.
 DEFAULT_TOLERANCE_D = 0.05 / 86400.0
@@ -98,5 +98,8 @@ def positive_intervals(rows, jd, rising, above_first, above_last, first_jd, last
     si = np.lexsort((start_jd, start_rows))
     ei = np.lexsort((end_jd, end_rows))
     if si.size != ei.size or np.any(start_rows[si] != end_rows[ei]):
-        raise PeriplanError("crossings do not alternate; the grid is too coarse for this function")
+        raise CrossingSearchError(
+            f"the crossing search found {si.size} starts and {ei.size} ends that do not alternate; sample the "
+            "function on a finer grid (a step shorter than its shortest stretch above or below zero) or check "
+            "that the end values given agree with the grid values")
     return start_rows[si], start_jd[si], end_jd[ei]

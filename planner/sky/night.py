@@ -206,3 +206,36 @@ def night_of(jd_utc, nights: pd.DataFrame):
     i = np.searchsorted(starts, jd, side="right") - 1
     ok = (i >= 0) & (jd < ends[np.clip(i, 0, None)]) & np.isfinite(jd)
     return np.where(ok, i, -1)
+
+
+def darkness_name(sun_alt_deg) -> str:
+    """Words for the darkness a site asked for, from its Sun-centre altitude (degrees).
+
+    -6, -12 and -18 deg (the ends of civil, nautical and astronomical twilight,
+    :data:`planner.inputs.site.DARKNESS_SUN_ALT_DEG`) give ``"civil darkness"``,
+    ``"nautical darkness"`` and ``"astronomical darkness"``; any other altitude gives
+    ``"darkness (Sun below -15 deg)"``; NaN or a missing value (a night table made without the
+    site's setting) gives plain ``"darkness"``. Labels on sheets, charts and notes use it, so a
+    nautical site never reads "astronomical".
+    """
+    from ..inputs.site import DARKNESS_SUN_ALT_DEG
+
+    try:
+        alt = float(sun_alt_deg)
+    except (TypeError, ValueError):
+        return "darkness"
+    if not np.isfinite(alt):
+        return "darkness"
+    for name, value in DARKNESS_SUN_ALT_DEG.items():
+        if abs(alt - value) < 1e-9:
+            return f"{name} darkness"
+    return f"darkness (Sun below {alt:g} deg)"
+
+
+def darkness_of(night) -> tuple[str, float]:
+    """(words, Sun altitude in deg) of the darkness of one night-table row (NaN when unknown)."""
+    try:
+        alt = float(night.get("darkness_sun_alt_deg", np.nan))
+    except (TypeError, ValueError):
+        alt = np.nan
+    return darkness_name(alt), alt

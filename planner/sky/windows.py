@@ -39,18 +39,20 @@ columns kept) plus:
 ``sun_alt_deg``                the Sun's airless altitude at the event time
 ``moon_sep_deg``               Moon-target separation at the event time
 ``moon_illumination``          the Moon's illuminated fraction at the event time
-``window_start_jd_utc``,       requested window: event +- (duration / 2 + baseline + k sigma)
+``window_start_jd_utc``,       requested window: event +- its half-width (duration / 2 + baseline
+                               + k sigma; a share of the period for a periodic event, see
+                               :mod:`planner.sky.window_size`)
 ``window_end_jd_utc``
 ``observable_h``               observable time inside the window, hours
 ``observable_fraction``        observable_h / window length, 0..1
-``observable_start_jd_utc``,   longest observable stretch inside the window (NaN when none)
+``observable_start_jd_utc``,   longest observable stretch inside the window (NaN when none);
+                               :func:`window_stretches` gives every stretch
 ``observable_end_jd_utc``
 =============================  ===============================================================
 
-Defaults: baseline :data:`DEFAULT_BASELINE_H` either side, :data:`DEFAULT_K_SIGMA` sigma of
-timing uncertainty either side, and for events with no duration (periastron, RV extrema, a
-periodic event without ``duration_h``) a window of :data:`DEFAULT_EVENT_LENGTH_H` centred on the
-event. These are common practice for transit and RV follow-up, not a published standard.
+Window lengths (baseline, k sigma, the length of an event with no duration, the share of the
+period a periodic event gets) are set in :mod:`planner.sky.window_size`; they are common practice,
+not a published standard.
 """
 
 from __future__ import annotations
@@ -63,15 +65,8 @@ from ..timescales.epochs import utc_to_tdb_jd
 from . import positions
 from .crossings import find_crossings, positive_intervals
 from .night import night_of
+from .window_size import DEFAULT_BASELINE_H, DEFAULT_EVENT_LENGTH_H, DEFAULT_K_SIGMA, window_half_width_d
 
-#: Out-of-event baseline wanted either side of an event, hours [common practice: ~1 h].
-DEFAULT_BASELINE_H = 1.0
-#: Number of 1-sigma timing uncertainties added either side [common practice].
-DEFAULT_K_SIGMA = 2.0
-#: Length (hours) given to events with no duration before baseline and sigma are added: a
-#: periastron passage or RV extremum is observed over a couple of hours around the predicted
-#: moment [common practice; no single source].
-DEFAULT_EVENT_LENGTH_H = 2.0
 #: Grid step (days) of the interval search: 5 minutes. An observable stretch shorter than this
 #: between two unobservable ones can be missed; the edges of those found are exact to 0.05 s.
 WINDOW_STEP_D = 5.0 / 1440.0
@@ -353,7 +348,8 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
     catalogue; ``nights``: :func:`planner.night.night_table` covering the events; ``intervals``
     from :func:`observable_intervals` (computed when absent). The window of each event is
     ``t +- (duration / 2 + baseline_h + k_sigma x sigma)``, with ``default_length_h`` standing
-    for a missing duration. ``jd_utc``, when the caller already has it, is the UTC Julian date
+    for a missing duration, except a periodic event without a duration, whose window is a share
+    of its period (:func:`planner.sky.window_size.window_half_width_d`). ``jd_utc``, when the caller already has it, is the UTC Julian date
     at which each event is seen (else it is computed from ``bjd_tdb``). Row order and index
     follow ``events``.
     """
@@ -371,9 +367,10 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
     dec = targets["dec_deg"].to_numpy(float)[ti]
     jd = (epochs.bjd_tdb_to_utc(out["bjd_tdb"].to_numpy(float), ra, dec).jd if jd_utc is None
           else np.asarray(jd_utc, dtype=float))
-    duration_d = out["duration_d"].to_numpy(float)
-    duration_d = np.where(np.isfinite(duration_d), duration_d, default_length_h / 24.0)
-    half_d = duration_d / 2.0 + baseline_h / 24.0 + k_sigma * out["sigma_d"].to_numpy(float)
+    # the period sizes periodic events' windows (a table of positions alone has none: NaN)
+    period_d = targets["period_d"].to_numpy(float)[ti] if "period_d" in targets else np.full(n, np.nan)
+    half_d = window_half_width_d(out["event"].to_numpy(object), out["duration_d"].to_numpy(float), period_d,
+                                 out["sigma_d"].to_numpy(float), baseline_h, k_sigma, default_length_h)
     w0, w1 = jd - half_d, jd + half_d
 
     pos = positions.altaz_at(ra, dec, jd, site.latitude_deg, site.longitude_deg)
@@ -413,16 +410,20 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
     return out
 
 
-def _cover(target_index, w0, w1, intervals):
-    """Observable hours inside each window, and the window's longest observable stretch."""
+def window_stretches(target_index, w0, w1, intervals):
+    """Every observable stretch inside each window: (row, start, end) arrays, one per stretch.
+
+    ``target_index``, ``w0``, ``w1`` (n,) describe n windows (UTC Julian dates); ``intervals``
+    is :func:`observable_intervals`. ``row`` is the window's position (0..n-1); stretches of
+    positive length only, ordered by row, then start.
+    """
+    target_index = np.asarray(target_index, dtype=int)
+    w0, w1 = np.asarray(w0, dtype=float), np.asarray(w1, dtype=float)
     n = target_index.size
-    hours = np.zeros(n)
-    best_start = np.full(n, np.nan)
-    best_end = np.full(n, np.nan)
-    if len(intervals) == 0:
-        return hours, best_start, best_end
+    if len(intervals) == 0 or n == 0:
+        return np.zeros(0, int), np.zeros(0), np.zeros(0)
     iv_t = intervals["target_index"].to_numpy(int)
-    order = np.argsort(iv_t, kind="stable")
+    order = np.lexsort((intervals["start_jd_utc"].to_numpy(float), iv_t))
     iv_t = iv_t[order]
     iv0 = intervals["start_jd_utc"].to_numpy(float)[order]
     iv1 = intervals["end_jd_utc"].to_numpy(float)[order]
@@ -430,18 +431,28 @@ def _cover(target_index, w0, w1, intervals):
     hi = np.searchsorted(iv_t, target_index, side="right")
     counts = hi - lo
     ev = np.repeat(np.arange(n), counts)
-    k = np.concatenate([np.arange(a, b) for a, b in zip(lo, hi)]) if counts.sum() else np.zeros(0, int)
+    k = np.repeat(lo - (np.cumsum(counts) - counts), counts) + np.arange(counts.sum())
     s = np.maximum(iv0[k], w0[ev])
     e = np.minimum(iv1[k], w1[ev])
-    length = np.clip(e - s, 0.0, None)
-    hours = np.bincount(ev, weights=length, minlength=n) * 24.0
-    pos = length > 0
-    if pos.any():
-        ev_p, s_p, e_p, l_p = ev[pos], s[pos], e[pos], length[pos]
-        best = np.lexsort((-l_p, ev_p))
-        first = np.ones(best.size, bool)
-        first[1:] = ev_p[best][1:] != ev_p[best][:-1]
-        pick = best[first]
-        best_start[ev_p[pick]] = s_p[pick]
-        best_end[ev_p[pick]] = e_p[pick]
+    pos = e > s
+    return ev[pos], s[pos], e[pos]
+
+
+def _cover(target_index, w0, w1, intervals):
+    """Observable hours inside each window, and the window's longest observable stretch."""
+    n = target_index.size
+    hours = np.zeros(n)
+    best_start = np.full(n, np.nan)
+    best_end = np.full(n, np.nan)
+    ev_p, s_p, e_p = window_stretches(target_index, w0, w1, intervals)
+    if ev_p.size == 0:
+        return hours, best_start, best_end
+    l_p = e_p - s_p
+    hours = np.bincount(ev_p, weights=l_p, minlength=n) * 24.0
+    best = np.lexsort((-l_p, ev_p))
+    first = np.ones(best.size, bool)
+    first[1:] = ev_p[best][1:] != ev_p[best][:-1]
+    pick = best[first]
+    best_start[ev_p[pick]] = s_p[pick]
+    best_end[ev_p[pick]] = e_p[pick]
     return hours, best_start, best_end

@@ -11,7 +11,7 @@ import datetime as dt
 
 import numpy as np
 
-from ..errors import PeriplanError
+from ..errors import TimeScaleError
 
 #: Julian date of 1970-01-01 00:00 UTC (the Unix epoch).
 UNIX_EPOCH_JD = 2440587.5
@@ -22,18 +22,18 @@ SECONDS_PER_DAY = 86400.0
 
 
 def zone(name: str):
-    """zoneinfo ZoneInfo for an IANA name, or a PeriplanError naming the bad zone."""
+    """zoneinfo ZoneInfo for an IANA name, or a TimeScaleError naming the bad zone."""
     from zoneinfo import ZoneInfo, ZoneInfoNotFoundError
 
     try:
         return ZoneInfo(name)
     except (ZoneInfoNotFoundError, ValueError):
-        raise PeriplanError(f"unknown time zone {name!r}; expected an IANA name such as Europe/Madrid "
-                            "or America/Santiago") from None
+        raise TimeScaleError(f"unknown time zone {name!r}; expected an IANA name such as Europe/Madrid "
+                             "or America/Santiago") from None
 
 
 def calendar_date(value) -> dt.date:
-    """A ``datetime.date`` from a date or a ``YYYY-MM-DD`` string; a PeriplanError otherwise."""
+    """A ``datetime.date`` from a date or a ``YYYY-MM-DD`` string; a TimeScaleError otherwise."""
     if isinstance(value, dt.datetime):
         return value.date()
     if isinstance(value, dt.date):
@@ -41,7 +41,7 @@ def calendar_date(value) -> dt.date:
     try:
         return dt.date.fromisoformat(str(value))
     except (TypeError, ValueError):
-        raise PeriplanError(f"{value!r} is not a date; expected YYYY-MM-DD, e.g. 2026-12-07") from None
+        raise TimeScaleError(f"{value!r} is not a date; expected YYYY-MM-DD, e.g. 2026-12-07") from None
 
 
 def date_to_jd_utc(day) -> float:
@@ -52,7 +52,8 @@ def date_to_jd_utc(day) -> float:
 def datetime_to_jd_utc(when: dt.datetime) -> float:
     """UTC Julian date of an aware datetime (a naive one is refused: its zone would be a guess)."""
     if when.tzinfo is None:
-        raise PeriplanError("naive datetime; give a time zone (e.g. zoneinfo.ZoneInfo('UTC'))")
+        raise TimeScaleError(f"naive datetime {when.isoformat()} has no time zone; give one, e.g. "
+                             "tzinfo=zoneinfo.ZoneInfo('UTC') or the site's zone")
     return when.timestamp() / SECONDS_PER_DAY + UNIX_EPOCH_JD
 
 
@@ -60,6 +61,8 @@ def jd_utc_to_datetime(jd_utc: float) -> dt.datetime:
     """Aware UTC datetime, rounded to the nearest second, of a UTC Julian date."""
     from astropy.time import Time
 
+    if not np.isfinite(jd_utc):
+        raise TimeScaleError(f"{jd_utc!r} is not a finite Julian date; expected a UTC Julian date such as 2461381.5")
     seconds = _utc_seconds(Time(float(jd_utc), format="jd", scale="utc"))[0]
     return dt.datetime.fromtimestamp(int(seconds.astype(np.int64)), tz=dt.timezone.utc)
 
@@ -70,6 +73,62 @@ def utc_offset_h(tz: str | None, jd_utc: float) -> float:
         return 0.0
     moment = dt.datetime.fromtimestamp((float(jd_utc) - UNIX_EPOCH_JD) * SECONDS_PER_DAY, tz=dt.timezone.utc)
     return moment.astimezone(zone(tz)).utcoffset().total_seconds() / 3600.0
+
+
+def local_clock_h(jd_utc, tz: str | None, day) -> np.ndarray:
+    """Local wall-clock hours of each UTC Julian date, counted from 00:00 of the local date ``day``.
+
+    The zone's rules are applied at each instant (so after a daylight-saving change the hours
+    are the clock's new ones): 01:30 on the day after ``day`` is 25.5. Without ``tz`` the
+    hours are UTC hours from 00:00 UTC of ``day``. NaN stays NaN; shape of ``jd_utc``.
+    """
+    jd = np.asarray(jd_utc, dtype=float)
+    base = calendar_date(day)
+    if not tz:
+        return (jd - date_to_jd_utc(base)) * 24.0
+    where = zone(tz)
+    out = np.full(jd.shape, np.nan)
+    for i, v in np.ndenumerate(jd):
+        if np.isfinite(v):
+            # to the millisecond: a JD float carries ~40 us, and a tick placed exactly on a clock
+            # change must not fall a few microseconds on the other side of it
+            seconds = round((v - UNIX_EPOCH_JD) * SECONDS_PER_DAY, 3)
+            local = dt.datetime.fromtimestamp(seconds, tz=dt.timezone.utc)
+            local = local.astimezone(where)
+            since = local.replace(tzinfo=None) - dt.datetime.combine(base, dt.time())
+            out[i] = since.total_seconds() / 3600.0
+    return out
+
+
+def zone_abbreviation(tz: str, jd_utc: float) -> str:
+    """The zone's abbreviation in force at ``jd_utc`` (``CEST``, ``CET``; ``-03`` where the rules have none)."""
+    seconds = round((float(jd_utc) - UNIX_EPOCH_JD) * SECONDS_PER_DAY, 3)
+    return dt.datetime.fromtimestamp(seconds, tz=dt.timezone.utc).astimezone(zone(tz)).tzname() or ""
+
+
+#: Every zone offset in use is a whole number of quarter hours from UTC.
+_QUARTER_HOURS_PER_DAY = 96
+
+
+def local_whole_hours(jd0_utc: float, jd1_utc: float, tz: str | None, step_h: int = 1):
+    """(jd_utc, hour) of the instants from ``jd0_utc`` to ``jd1_utc`` where the local clock shows a whole hour.
+
+    Only hours divisible by ``step_h`` are kept. The zone's rules are applied at each instant, so
+    a night across a daylight-saving change gets its ticks where the clock really reads them
+    (01:00 twice when the clocks go back, no 02:00 when they go forward). Without ``tz``: UTC.
+    Returns a float array of UTC Julian dates and a list of ints (0..23).
+    """
+    first = np.ceil(jd0_utc * _QUARTER_HOURS_PER_DAY)
+    last = np.floor(jd1_utc * _QUARTER_HOURS_PER_DAY)
+    where = zone(tz) if tz else dt.timezone.utc
+    jds, hours = [], []
+    for k in np.arange(first, last + 1):
+        seconds = round((k / _QUARTER_HOURS_PER_DAY - UNIX_EPOCH_JD) * SECONDS_PER_DAY)
+        local = dt.datetime.fromtimestamp(seconds, tz=dt.timezone.utc).astimezone(where)
+        if local.minute == 0 and local.second == 0 and local.hour % step_h == 0:
+            jds.append(k / _QUARTER_HOURS_PER_DAY)
+            hours.append(local.hour)
+    return np.asarray(jds, dtype=float), hours
 
 
 def jd_utc_to_iso_z(jd_utc) -> np.ndarray:
@@ -170,7 +229,7 @@ def utc_to_local_iso(t_utc, tz: str) -> np.ndarray:
     """Local clock times ``YYYY-MM-DDTHH:MM:SS+HH:MM`` in the IANA zone ``tz`` (zoneinfo rules)."""
     import pandas as pd
 
-    zone(tz)  # a PeriplanError for an unknown zone
+    zone(tz)  # a TimeScaleError for an unknown zone
     utc = _utc_seconds(t_utc)
     local = pd.DatetimeIndex(utc).tz_localize("UTC").tz_convert(tz).tz_localize(None).to_numpy().astype("datetime64[s]")
     return _iso_strings(local, (local - utc).astype(np.int64) // 60)

@@ -18,7 +18,7 @@ from __future__ import annotations
 import numpy as np
 
 from .. import numerics
-from ..errors import PeriplanError
+from ..errors import TimeScaleError
 
 #: Time systems a catalogue may state; upper-case names, as written in the ``time_system`` column.
 TIME_SYSTEMS = ("BJD_TDB", "HJD_UTC", "JD_UTC")
@@ -63,12 +63,15 @@ class _EarthTrack:
 
     @classmethod
     def covering(cls, jd_tdb, margin_d=0.0):
+        """The track over the finite times of ``jd_tdb`` (at least one); others give NaN delays."""
         jd = np.asarray(jd_tdb, dtype=float)
-        return cls(np.nanmin(jd) - margin_d, np.nanmax(jd) + margin_d)
+        jd = jd[np.isfinite(jd)]
+        return cls(jd.min() - margin_d, jd.max() + margin_d)
 
     def delay_d(self, jd_tdb, unit, reference="barycentre"):
         pos = self.pos[reference]
-        i, f = numerics.grid_cell((jd_tdb - self.grid0) / _LTT_GRID_D, len(pos))
+        x = np.asarray((jd_tdb - self.grid0) / _LTT_GRID_D, dtype=float)
+        i, f = numerics.grid_cell(np.where(np.isfinite(x), x, np.nan), len(pos))
         # project the grid positions on each direction first: four dot products, then 1-D cubic
         p0, p1, p2, p3 = (np.einsum("...k,...k->...", pos[i + j], unit) for j in (-1, 0, 1, 2))
         return numerics.catmull_rom(p0, p1, p2, p3, f) * self.au_light_d
@@ -84,8 +87,8 @@ def light_travel_time_d(jd_tdb, ra_deg, dec_deg, reference: str = "barycentre"):
     jd, ra, dec = np.broadcast_arrays(
         np.asarray(jd_tdb, float), np.asarray(ra_deg, float), np.asarray(dec_deg, float)
     )
-    if jd.size == 0:
-        return np.zeros(jd.shape)
+    if not np.isfinite(jd).any():  # no time to build a track for: NaN, as for any NaN time
+        return np.full(jd.shape, np.nan)
     return _EarthTrack.covering(jd).delay_d(jd, unit_vectors(ra, dec), reference)
 
 
@@ -101,15 +104,31 @@ def _convert_jd(jd, from_scale: str, to_scale: str):
 
     Large arrays: astropy converts a half-day grid and the offset is interpolated in between;
     times in a grid cell that holds a leap second (offset jump > 0.5 s) are converted by astropy
-    one by one, so the result equals astropy's to < 1e-7 s everywhere.
+    one by one, so the result equals astropy's to < 1e-7 s everywhere. NaN and inf stay as they
+    are; dates ERFA cannot convert are a :class:`TimeScaleError`.
     """
+    import erfa
+
+    try:
+        return _convert_finite_jd(jd, from_scale, to_scale)
+    except erfa.ErfaError as exc:
+        finite = np.asarray(jd, dtype=float)[np.isfinite(jd)]
+        raise TimeScaleError(f"Julian dates {finite.min():.1f}..{finite.max():.1f} cannot be converted from "
+                             f"{from_scale.upper()} to {to_scale.upper()} ({exc}); expected full Julian dates "
+                             "within a few thousand years of now, e.g. 2461381.5") from None
+
+
+def _convert_finite_jd(jd, from_scale, to_scale):
     from astropy.time import Time
 
     jd = np.asarray(jd, dtype=float)
     finite = np.isfinite(jd)
     if jd.size < _DIRECT_MAX or not finite.any():
-        t = getattr(Time(jd, format="jd", scale=from_scale), to_scale)
-        return t.jd1 + t.jd2
+        out = jd.copy()  # NaN and inf stay as they are, as on the grid path below
+        if finite.any():
+            t = getattr(Time(jd[finite], format="jd", scale=from_scale), to_scale)
+            out[finite] = t.jd1 + t.jd2
+        return out[()] if out.ndim == 0 else out
     lo, hi = np.min(jd[finite]), np.max(jd[finite])
     grid = lo + _OFFSET_GRID_D * np.arange(int(np.ceil((hi - lo) / _OFFSET_GRID_D)) + 2)
     g = getattr(Time(grid, format="jd", scale=from_scale), to_scale)
@@ -135,7 +154,12 @@ def _tdb_jd_to_utc_jd(jd_tdb):
 def _tdb_jd_to_utc_time(jd_tdb):
     from astropy.time import Time
 
-    return Time(_tdb_jd_to_utc_jd(jd_tdb), format="jd", scale="utc")
+    jd_utc = _tdb_jd_to_utc_jd(jd_tdb)
+    if not np.all(np.isfinite(jd_utc)):
+        bad = int(np.size(jd_utc) - np.count_nonzero(np.isfinite(jd_utc)))
+        raise TimeScaleError(f"{bad} of {np.size(jd_utc)} times are not finite numbers (NaN or inf) and "
+                             "cannot be shown as UTC times; drop them first (e.g. where numpy.isfinite is False)")
+    return Time(jd_utc, format="jd", scale="utc")
 
 
 def to_bjd_tdb(jd, time_system, ra_deg, dec_deg):
@@ -154,9 +178,9 @@ def to_bjd_tdb(jd, time_system, ra_deg, dec_deg):
     if system == "BJD_TDB":
         return jd.copy()
     if system not in TIME_SYSTEMS:
-        raise PeriplanError(f"unknown time system {time_system!r}; expected one of {', '.join(TIME_SYSTEMS)}")
-    if jd.size == 0:
-        return jd.copy()
+        raise TimeScaleError(f"unknown time system {time_system!r}; expected one of {', '.join(TIME_SYSTEMS)}")
+    if not np.isfinite(jd).any():  # nothing to convert: NaN, as for any NaN epoch
+        return np.full(jd.shape, np.nan)
     unit = unit_vectors(ra, dec)
     track = _EarthTrack.covering(jd, margin_d=0.02)  # the light time moves epochs by < 0.006 d
     if system == "JD_UTC":
@@ -173,8 +197,8 @@ def bjd_tdb_to_geocentric_tdb(bjd_tdb, ra_deg, dec_deg):
     """Geocentric TDB Julian date at which light from the barycentric event reaches the Earth."""
     bjd, ra, dec = np.broadcast_arrays(np.asarray(bjd_tdb, float), np.asarray(ra_deg, float),
                                        np.asarray(dec_deg, float))
-    if bjd.size == 0:
-        return bjd.copy()
+    if not np.isfinite(bjd).any():  # NaN, as for any NaN time
+        return np.full(bjd.shape, np.nan)
     unit = unit_vectors(ra, dec)
     track = _EarthTrack.covering(bjd, margin_d=0.01)
     geo = bjd.copy()

@@ -11,6 +11,7 @@ from ...orbits import geometry
 from ...errors import PeriplanError
 from . import require_nonnegative
 from ...outputs.tables import FORMATS, render
+from ...outputs.wording import count
 
 #: Most days of nights added either side of the span for windows widened by large timing
 #: uncertainties; beyond it the coverage of a window is counted only where nights are known.
@@ -31,12 +32,16 @@ def register(sub):
         description="List every predicted event of every catalogue target in a span of days, sorted by "
                     "time, in BJD_TDB, UTC and (with --tz) local time, with the 1-sigma timing uncertainty.",
         epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("catalog", metavar="CATALOG", help="catalogue CSV file of targets and elements")
+    p.add_argument("catalog", metavar="CATALOG",
+                   help="catalogue of targets and elements: CSV, or an ECSV, VOTable or FITS table "
+                        "(by extension)")
     p.add_argument("--start", required=True, metavar="YYYY-MM-DD",
                    help="first day of the span (00:00 UTC, or local midnight with --tz)")
     p.add_argument("--days", type=float, default=7.0, metavar="N", help="length of the span in days (default 7)")
-    p.add_argument("--kinds", nargs="+", metavar="EVENT", choices=geometry.ALL_EVENTS,
-                   help=f"only these events: {', '.join(geometry.ALL_EVENTS)}")
+    p.add_argument("--kinds", nargs="+", metavar="EVENT", type=_event_word,
+                   help=f"only these events: {', '.join(geometry.ALL_EVENTS)}; also the words "
+                        f"{', '.join(geometry.EVENT_ALIASES)} (for the conjunctions) and maximum, minimum "
+                        "(periodic events whose label says so)")
     p.add_argument("--tz", metavar="ZONE", help="IANA time zone for local times, e.g. Europe/Madrid")
     p.add_argument("--site", metavar="SITE",
                    help="site file (TOML): adds the night, the airless altitude and Moon separation at the "
@@ -54,11 +59,20 @@ def register(sub):
     return p
 
 
+def _event_word(text: str) -> str:
+    """An event name or periodic kind from a word of --kinds (aliases resolved)."""
+    name = geometry.canonical_event(text)
+    if name is None:
+        raise argparse.ArgumentTypeError(f"unknown event {text!r}; expected one of {', '.join(geometry.EVENT_WORDS)}")
+    return name
+
+
 def run(args) -> int:
     from .. import spans
     from ...inputs import catalogue
     from ...orbits.events import predict_events
     from ...orbits.events import seen_in_span
+    from ...outputs.explain import no_uncertainty_note
     from ...outputs.tables import events_frame
 
     if args.days <= 0:
@@ -82,6 +96,7 @@ def run(args) -> int:
     events = predict_events(targets, *spans.bjd_bounds(start_utc, end_utc), kinds=args.kinds)
     events, t_utc = seen_in_span(events, targets, start_utc, end_utc)
     table = events_frame(events, t_utc, tz)
+    _note_corrections(table, events, targets)
     formats = {"bjd_tdb": ".6f", "sigma_min": ".2f", "duration_h": ".2f"}
     if site is not None:
         table = _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args)
@@ -89,9 +104,34 @@ def run(args) -> int:
     sys.stdout.write(render(table, args.format, formats))
     if args.format == "table":
         sys.stdout.flush()  # the summary line on stderr comes after the table
-        print(f"{len(table)} events of {table['target'].nunique() if len(table) else 0} targets "
+        print(f"{events_of_targets(len(table), table['target'].nunique() if len(table) else 0, len(targets))} "
               f"from {start_utc.isot[:16]}Z to {end_utc.isot[:16]}Z", file=sys.stderr)
+    note = no_uncertainty_note(events)
+    if note:
+        print(f"periplan: note: {note}", file=sys.stderr)
     return 0
+
+
+def events_of_targets(n_events: int, n_with_events: int, n_targets: int) -> str:
+    """``"12 events of 3 targets"``, ``"5 events of 2 of 6 targets"``, ``"0 events of 1 target"``."""
+    of = count(n_targets, "target") if n_with_events in (0, n_targets) else f"{n_with_events} of {count(n_targets, 'target')}"
+    return f"{count(n_events, 'event')} of {of}"
+
+
+def _note_corrections(table, events, targets):
+    """Add a ``corrections`` column when any target has one; warn of two epochs in tension."""
+    from ...inputs.binary_checks import EPOCH_WARN_SIGMA
+    from ...orbits.events import applied_corrections
+
+    corrections = applied_corrections(targets)
+    if "epoch_tension_sigma" in targets:
+        for name, kind, s in zip(targets["name"], targets["epoch2_kind"], targets["epoch_tension_sigma"]):
+            if np.isfinite(s) and s > EPOCH_WARN_SIGMA:
+                print(f"periplan: warning: {name}: its two epochs disagree by {s:.1f} combined sigma (over "
+                      f"{EPOCH_WARN_SIGMA:g}); each event uses the nearer epoch, check {kind} and the elements",
+                      file=sys.stderr)
+    if (corrections != "").any():
+        table["corrections"] = corrections[events["target_index"].to_numpy()] if len(events) else []
 
 
 def _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args):
@@ -103,9 +143,12 @@ def _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, ar
     from ...timescales.clock import zone
     from ...sky.windows import DEFAULT_BASELINE_H, DEFAULT_K_SIGMA, event_visibility, never_rising
 
+    if args.visible is None or args.visible <= 0:
+        fate = "events that cannot be seen are listed with observable_fraction 0"
+    else:
+        fate = f"events that cannot be seen are left out by --visible {args.visible:g}"
     for line in never_rising_lines(never_rising(targets, site), site.name):
-        print(f"periplan: warning: {line}; events that cannot be seen are listed with "
-              "observable_fraction 0", file=sys.stderr)
+        print(f"periplan: warning: {line}; {fate}", file=sys.stderr)
     baseline_h = DEFAULT_BASELINE_H if args.baseline_h is None else args.baseline_h
     k_sigma = DEFAULT_K_SIGMA if args.k_sigma is None else args.k_sigma
     # nights covering every window: the span, one night either side, plus the widest half-window

@@ -5,17 +5,15 @@ from __future__ import annotations
 import argparse
 import sys
 
-
 from ...errors import PeriplanError
 from ...outputs.tables import FORMATS, nights_frame, render
+from ...outputs.wording import count
 
 EXAMPLES = """\
 examples:
   periplan nights --site sample_targets/site.toml --start 2026-12-07 --days 7
   periplan nights --site site.toml --start 2027-06-01 --days 30 --format csv > nights.csv
 """
-
-#: Time columns of the table, in order; each has a ``_utc`` and a ``_local`` twin.
 
 
 def register(sub):
@@ -35,7 +33,7 @@ def register(sub):
 
 
 def run(args) -> int:
-    from ...sky.night import night_table
+    from ...sky.night import darkness_name, night_table
     from ...inputs.site import read_site
     from ..spans import parse_date
 
@@ -49,7 +47,8 @@ def run(args) -> int:
                                                  "moon_up_dark_h": ".2f"}))
     if args.format == "table":
         sys.stdout.flush()  # the summary line on stderr comes after the table
-        print(f"{len(table)} nights at {site.name} ({site.timezone}); dark = Sun's centre below "
+        dark = darkness_name(site.darkness_sun_alt_deg)
+        print(f"{count(len(table), 'night')} at {site.name} ({site.timezone}); dark = {dark}, Sun's centre below "
               f"{site.darkness_sun_alt_deg:g} deg. Never point a telescope near the Sun; the observatory's "
               "own safety rules and local regulations come first.", file=sys.stderr)
     return 0

@@ -15,23 +15,29 @@ examples:
   periplan plan targets.csv --site site.toml --start 2026-12-07 --repeats first --out week --force
 
 Writes into --out: schedule.csv, night-DATE.txt and .html (printable lists), altitude-DATE.png,
-week.png, rv-TARGET.png, plan.ics and summary.txt. Never point a telescope at or near the Sun;
-the observatory's own safety rules and local regulations come first.
+week.png, rv-TARGET.png, plan.ics, summary.txt and plan-files.txt (the list of the plan's own
+files: --force replaces exactly these and never deletes any other file). Never point a telescope
+at or near the Sun; the observatory's own safety rules and local regulations come first.
 """
 
 
 def add_plan_options(p, need_inputs: bool = True):
     """Options shared by ``plan`` and ``demo``."""
     if need_inputs:
-        p.add_argument("catalog", metavar="CATALOG", help="catalogue CSV file of targets and elements")
+        p.add_argument("catalog", metavar="CATALOG",
+                       help="catalogue of targets and elements: CSV, or an ECSV, VOTable or FITS table "
+                            "(by extension)")
         p.add_argument("--site", required=True, metavar="SITE", help="site file (TOML)")
     p.add_argument("--start", metavar="YYYY-MM-DD",
-                   help="local date of the first night's evening (default: the night under way, or tonight)")
+                   help="local date of the first night's evening (default: the night under way until its "
+                        "darkness ends, then the coming night; blocks of a night under way that began "
+                        "before now are counted in a note)")
     p.add_argument("--nights", type=int, default=7, metavar="N", help="number of nights (default 7)")
     p.add_argument("--out", metavar="DIR", default=None if need_inputs else "periplan-demo",
                    required=need_inputs, help="folder for the plan's files" +
                    ("" if need_inputs else " (default periplan-demo)"))
-    p.add_argument("--force", action="store_true", help="replace the plan files already in DIR")
+    p.add_argument("--force", action="store_true",
+                   help="replace the plan already in DIR (the files in its plan-files.txt; no other file is touched)")
     p.add_argument("--baseline-h", type=float, default=None, metavar="H",
                    help="baseline wanted either side of each event, hours (default 1)")
     p.add_argument("--k-sigma", type=float, default=None, metavar="K",
@@ -76,7 +82,9 @@ def run_plan(catalog, site_path, args) -> int:
     from ...inputs import catalogue
     from ...inputs.site import read_site
     from ...outputs import plan_folder, sheets
+    from ...outputs.explain import no_uncertainty_note
     from ...outputs.tables import never_rising_lines
+    from ...outputs.wording import count
     from ...pipeline import STAGES, first_night_for, make_plan
     from .. import spans
     from ..progress import ProgressBar
@@ -92,7 +100,8 @@ def run_plan(catalog, site_path, args) -> int:
         raise PeriplanError(f"--out {exc}") from None
     site = read_site(site_path)
     targets = catalogue.read_catalogue(catalog)
-    first = first_night_for(args.start, site.timezone)
+    now = _now()
+    first = first_night_for(args.start, site, now=now)
     bar = ProgressBar(len(STAGES) + 1)
     plan = make_plan(targets, site, first, args.nights, settings, progress=bar)
     summary = sheets.week_summary_text(plan.schedule, plan.nights, tz=site.timezone)
@@ -101,14 +110,44 @@ def run_plan(catalog, site_path, args) -> int:
     bar.done()
     for line in never_rising_lines(plan.never_rising, site.name, f"{args.out}/unobservable.csv"):
         print(f"periplan: warning: {line}", file=sys.stderr)
-    sys.stdout.write(summary)
-    if plan.schedule.empty:
-        print("Nothing can be scheduled in these nights (see the nightly lists for darkness and limits).")
-    print(f"\n{len(plan.schedule)} blocks on {plan.schedule['night'].nunique() if len(plan.schedule) else 0} "
-          f"of {len(plan.nights)} nights at {site.name}; {len(paths)} files in {args.out}/")
+    note = no_uncertainty_note(plan.events)
+    if note:
+        print(f"periplan: note: {note}", file=sys.stderr)
+    if args.start is None:
+        note = past_blocks_note(plan.schedule, first, now, site.timezone)
+        if note:
+            print(f"periplan: note: {note}", file=sys.stderr)
+    sys.stdout.write(summary)  # says once, itself, when nothing could be scheduled
+    used = plan.schedule["night"].nunique() if len(plan.schedule) else 0
+    nights = count(len(plan.nights), "night") if used == len(plan.nights) else f"{used} of {count(len(plan.nights), 'night')}"
+    print(f"\n{count(len(plan.schedule), 'block')} on {nights} at {site.name}; "
+          f"{count(len(paths), 'file')} in {args.out}/")
     print("Never point the telescope at or near the Sun; the observatory's own safety rules and local "
           "regulations come first.")
     return 0
+
+
+def _now():
+    """The present moment (aware, UTC); one place, so tests can set the clock."""
+    import datetime as dt
+
+    return dt.datetime.now(dt.timezone.utc)
+
+
+def past_blocks_note(schedule, first_night, now, tz: str) -> str | None:
+    """A note on the blocks of ``first_night`` that begin before ``now``, or None when there are none."""
+    from ...outputs.wording import count
+    from ...timescales.clock import datetime_to_jd_utc, zone
+
+    if schedule.empty:
+        return None
+    first = schedule[schedule["night"].astype(str) == str(first_night)]
+    past = first[first["start_jd_utc"].to_numpy(float) < datetime_to_jd_utc(now)]
+    if past.empty:
+        return None
+    clock = now.astimezone(zone(tz)).strftime("%H:%M")
+    return (f"the night of {first_night} is under way: {count(len(past), 'block')} of its "
+            f"{len(first)} began before now ({clock} local time)")
 
 
 def run(args) -> int:

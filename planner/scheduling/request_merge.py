@@ -1,0 +1,92 @@
+"""Requests of one target that overlap in time become one candidate that serves both.
+
+Two candidates of one target, of different events and one placement, merge when
+
+* both are movable visits (rv_visit, rv_sequence slots) whose allowed start ranges intersect:
+  the merged visit may start anywhere in the intersection (length: the longer of the two), or
+* both are fixed series stretches that overlap: the merged block is their union, and each event
+  keeps at least the parts its own stretch covered.
+
+The merged candidate lists both events in ``serves``, both covers in ``covers`` (``event: parts``
+joined by `` | ``), is worth the sum of the two values (both requests are served), and joins the
+two requests into one ``group``: a scheduler takes at most one candidate of a group, so a
+request is never served twice. The two single candidates stay, as alternatives. One pass over
+pairs: a chain of three overlapping requests gives its pairs, not a triple.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+
+def _groups(ids, pairs):
+    """Group id (the smallest member) of each of ``ids`` when the ``pairs`` of ids are joined."""
+    parent: dict = {}
+
+    def find(x):
+        parent.setdefault(x, x)
+        while parent[x] != x:
+            parent[x] = parent[parent[x]]
+            x = parent[x]
+        return x
+
+    for a, b in pairs:
+        ra, rb = find(int(a)), find(int(b))
+        if ra != rb:
+            parent[max(ra, rb)] = min(ra, rb)
+    return np.array([find(int(x)) if x in parent else x for x in ids], dtype=np.int64)
+
+
+def merge_requests(cands: pd.DataFrame) -> pd.DataFrame:
+    """The candidate table with merged candidates added and ``group`` set (module docstring)."""
+    c = cands.reset_index(drop=True).assign(merged_with=np.int64(-1))
+    if len(c) < 2:
+        return c
+    key = pd.DataFrame({"i": np.arange(len(c)), "target_index": c["target_index"].to_numpy(int)})
+    pairs = key.merge(key, on="target_index", suffixes=("_a", "_b"))
+    pairs = pairs[pairs["i_a"] < pairs["i_b"]]
+    ia, ib = pairs["i_a"].to_numpy(int), pairs["i_b"].to_numpy(int)
+    if ia.size == 0:
+        return c
+    ev = c["event"].to_numpy(object)
+    place = c["placement"].to_numpy(object)
+    lo, hi = c["earliest_start_jd_utc"].to_numpy(float), c["latest_start_jd_utc"].to_numpy(float)
+    s, e = c["start_jd_utc"].to_numpy(float), c["end_jd_utc"].to_numpy(float)
+    length = c["length_d"].to_numpy(float)
+    same = (ev[ia] != ev[ib]) & (place[ia] == place[ib])
+    movable = same & (place[ia] == "movable")
+    long_d = np.maximum(length[ia], length[ib])
+    m_lo = np.maximum(lo[ia], lo[ib])
+    m_hi = np.minimum(hi[ia] + length[ia], hi[ib] + length[ib]) - long_d
+    ok_mov = movable & (m_hi >= m_lo)
+    ok_fix = same & (place[ia] == "fixed") & (s[ia] < e[ib]) & (s[ib] < e[ia])
+    ok = ok_mov | ok_fix
+    if not ok.any():
+        return c
+    ia, ib, ok_mov, m_lo, m_hi, long_d = ia[ok], ib[ok], ok_mov[ok], m_lo[ok], m_hi[ok], long_d[ok]
+    merged = c.iloc[ia].reset_index(drop=True)
+    other = c.iloc[ib].reset_index(drop=True)
+    mid_start = 0.5 * (m_lo + m_hi)
+    merged["start_jd_utc"] = np.where(ok_mov, mid_start, np.minimum(s[ia], s[ib]))
+    merged["end_jd_utc"] = np.where(ok_mov, mid_start + long_d, np.maximum(e[ia], e[ib]))
+    merged["earliest_start_jd_utc"] = np.where(ok_mov, m_lo, merged["start_jd_utc"])
+    merged["latest_start_jd_utc"] = np.where(ok_mov, m_hi, merged["start_jd_utc"])
+    merged["length_d"] = merged["end_jd_utc"] - merged["start_jd_utc"]
+    merged["stretch_start_jd_utc"] = np.minimum(c["stretch_start_jd_utc"].to_numpy(float)[ia],
+                                                c["stretch_start_jd_utc"].to_numpy(float)[ib])
+    merged["stretch_end_jd_utc"] = np.maximum(c["stretch_end_jd_utc"].to_numpy(float)[ia],
+                                              c["stretch_end_jd_utc"].to_numpy(float)[ib])
+    merged["serves"] = merged["serves"].astype(str) + ";" + other["serves"].astype(str)
+    cov_a, cov_b = merged["covers"].astype(str), other["covers"].astype(str)
+    merged["covers"] = np.where(ok_mov, "", merged["event"].astype(str) + ": " + cov_a + " | "
+                                + other["event"].astype(str) + ": " + cov_b)
+    miss_a, miss_b = merged["not_covered"].astype(str), other["not_covered"].astype(str)
+    merged["not_covered"] = np.where(ok_mov, "", merged["event"].astype(str) + ": " + miss_a + " | "
+                                     + other["event"].astype(str) + ": " + miss_b)
+    merged["score"] = merged["score"].to_numpy(float) + other["score"].to_numpy(float)
+    merged["merged_with"] = other["request_id"].to_numpy(np.int64)
+    out = pd.concat([c, merged], ignore_index=True)
+    out["group"] = _groups(out["request_id"].to_numpy(int),
+                           zip(merged["request_id"].to_numpy(int), merged["merged_with"].to_numpy(int)))
+    return out

@@ -1,0 +1,371 @@
+"""Observing requests: what each visible event asks the telescope for, one row per candidate.
+
+:func:`build_requests` turns the visible-event table (:mod:`planner.sky.windows`), the observable
+intervals and the target table into the *request table*, which the scheduler consumes (today
+:func:`planner.scheduling.schedule.plan_week`; a solver can take the same table). Each target's
+``observe`` column (``photometry``, ``rv`` or both) decides what its events become:
+
+==========================  ===========  ==========================================================
+event                       photometry   rv
+==========================  ===========  ==========================================================
+primary / secondary         series       (nothing: an RV point at conjunction measures no extremum)
+conjunction                 only when the geometry eclipses (b < 1 + Rp/R*) or is not given
+periodic (linear ephem.)    series       (nothing)
+rv_max, rv_min              (nothing)    rv_visit: ``visit_h`` (default 0.5 h) anywhere in the
+                                         phase window where v is within ``rv_fraction_k`` K of it
+periastron                  series       rv_sequence: ``rv_visits`` visits over the RV swing,
+                            (mid-event)  at least ``rv_gap_h`` apart (one request per visit slot)
+apastron                    series       rv_visit in the 2 h around apastron
+targets with ``visit_h``    monitor: one flexible visit a night (placed by the gap filler)
+==========================  ===========  ==========================================================
+
+Rows and columns
+----------------
+One row per *candidate*: an observable stretch (every one, not only the longest) of a request's
+time window, or a merged candidate. Times are UTC Julian dates, lengths days.
+
+``request_id``           the request (an event's series or visit, one slot of a sequence, one
+                         night's monitor visit); candidates of one request share it. At most
+                         one candidate per ``group`` should be scheduled (``group`` joins the
+                         requests that a merged candidate serves).
+``request``              ``series``, ``rv_visit``, ``rv_sequence`` or ``monitor``
+``placement``            ``fixed``: the block is exactly [start, end]; ``movable``: a visit of
+                         ``length_d`` starting anywhere in [``earliest_start_jd_utc``,
+                         ``latest_start_jd_utc``], proposed at ``start_jd_utc`` (lowest airmass)
+``target_index``, ``target``, ``event`` (the main event), ``serves`` (``;``-list of the events
+the candidate serves), ``label``, ``night`` (label of the event's night), ``slot``/``n_slots``
+(visit k of n of a sequence, else 0/1)
+``event_jd_utc``, ``event_sigma_d``   the event moment seen from the Earth, its 1-sigma uncertainty
+``window_start_jd_utc``, ``window_end_jd_utc``  the whole window the request asks for: series
+                         T1 - baseline - k sigma .. T4 + baseline + k sigma (or the visible
+                         table's window when no contacts are known), rv_visit the RV phase
+                         window +- k sigma, rv_sequence slot its share of the swing
+``stretch_start_jd_utc``, ``stretch_end_jd_utc``  the observable stretch of the window
+``start_jd_utc``, ``end_jd_utc``, ``length_d``  the proposed block
+``t1_jd_utc`` .. ``t4_jd_utc``  contacts of a series (NaN when not known or not reached)
+``covers``, ``not_covered``  parts of a series the block holds / misses
+                         (:mod:`planner.scheduling.series_parts`); empty for visits
+``science_fraction``     value share of the science kept (series parts; 1 for a visit)
+``observable_fraction``  observable share of the window (all stretches together)
+``merged_with``          request id of the second request a merged candidate serves (-1 if none)
+``priority``, ``period_d``, ``moon_sep_deg``, ``moon_illumination``, the score columns
+                         (:data:`~planner.scheduling.score.SCORE_COLUMNS`; ``score`` is the value)
+
+Contacts of a series come from the sky-projected separation of the eccentric orbit
+(:func:`planner.orbits.contacts.contact_offsets_d`) when a/R*, i and Rp/R* are given, else
+T1/T4 = event -+ ``duration_h`` / 2. Offsets are computed in BJD_TDB and added to the event's UTC
+time (the light time changes by a few seconds over a day at most).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..orbits import contacts as orbit_contacts
+from ..sky.windows import DEFAULT_BASELINE_H, DEFAULT_EVENT_LENGTH_H, DEFAULT_K_SIGMA, window_stretches
+from . import series_parts
+from .blocks import MIN_PER_DAY
+from .request_merge import merge_requests
+from .score import score_components
+
+SERIES, RV_VISIT, RV_SEQUENCE, MONITOR = "series", "rv_visit", "rv_sequence", "monitor"
+REQUEST_KINDS = (SERIES, RV_VISIT, RV_SEQUENCE, MONITOR)
+#: Length of an RV visit when the catalogue gives no ``visit_h`` [common practice: one spectrum
+#: of tens of minutes with its overheads].
+DEFAULT_VISIT_H = 0.5
+#: Candidate starts tried for a movable visit inside its allowed range (lowest airmass wins).
+PLACEMENT_SAMPLES = 13
+CONJUNCTIONS = ("primary_conjunction", "secondary_conjunction")
+
+REQUEST_COLUMNS = (
+    "request_id", "group", "request", "placement", "target_index", "target", "event", "serves", "label", "night",
+    "slot", "n_slots", "event_jd_utc", "event_sigma_d", "window_start_jd_utc", "window_end_jd_utc",
+    "stretch_start_jd_utc", "stretch_end_jd_utc", "start_jd_utc", "end_jd_utc", "length_d",
+    "earliest_start_jd_utc", "latest_start_jd_utc", "t1_jd_utc", "t2_jd_utc", "t3_jd_utc", "t4_jd_utc",
+    "covers", "not_covered", "science_fraction", "observable_fraction", "priority", "period_d",
+    "moon_sep_deg", "moon_illumination", "merged_with",
+)
+
+
+@dataclass(frozen=True)
+class RequestSettings:
+    """Baseline (h) wanted either side of a series, windows widened by ``k_sigma`` 1-sigma
+    timing uncertainties either side, and the shortest fixed block worth scheduling (minutes)."""
+
+    baseline_h: float = DEFAULT_BASELINE_H
+    k_sigma: float = DEFAULT_K_SIGMA
+    min_block_min: float = 10.0
+
+
+def _col(frame, name, default):
+    return frame[name].to_numpy() if name in frame else np.full(len(frame), default)
+
+
+def request_kinds(visible: pd.DataFrame, targets: pd.DataFrame) -> np.ndarray:
+    """Request kind of each visible event (object array; ``""`` where it asks for nothing)."""
+    ti = visible["target_index"].to_numpy(int)
+    observe = _col(targets, "observe", "photometry;rv").astype(str)[ti]
+    phot = np.char.find(observe.astype(str), "photometry") >= 0
+    rv = np.char.find(observe.astype(str), "rv") >= 0
+    ev = visible["event"].to_numpy(object).astype(str)
+    ecl = visible["eclipses"].to_numpy(object) if "eclipses" in visible else np.full(len(visible), pd.NA)
+    no_eclipse = np.array([x is not pd.NA and x is not None and not bool(x) for x in ecl], dtype=bool)
+    conj = np.isin(ev, CONJUNCTIONS)
+    kind = np.full(ev.shape, "", dtype=object)
+    kind[(conj | (ev == "periodic")) & phot & ~no_eclipse] = SERIES
+    kind[np.isin(ev, ("rv_max", "rv_min", "apastron")) & rv] = RV_VISIT
+    kind[(ev == "apastron") & phot & ~rv] = SERIES
+    kind[(ev == "periastron") & rv] = RV_SEQUENCE
+    kind[(ev == "periastron") & phot & ~rv] = SERIES
+    return kind
+
+
+def _series_contacts(v, targets):
+    """(n, 4) contact times (UTC JD) of the series rows ``v``; NaN where unknown."""
+    n = len(v)
+    out = np.full((n, 4), np.nan)
+    ti = v["target_index"].to_numpy(int)
+    jd = v["jd_utc"].to_numpy(float)
+    ev = v["event"].to_numpy(object).astype(str)
+    geo = np.zeros(n, bool)
+    if {"a_rstar", "inc_deg", "rp_rstar"} <= set(targets.columns):
+        a = targets["a_rstar"].to_numpy(float)[ti]
+        inc = np.radians(targets["inc_deg"].to_numpy(float)[ti])
+        k = targets["rp_rstar"].to_numpy(float)[ti]
+        geo = np.isin(ev, CONJUNCTIONS) & np.isfinite(a) & np.isfinite(inc) & np.isfinite(k)
+        for secondary, name in ((False, CONJUNCTIONS[0]), (True, CONJUNCTIONS[1])):
+            sel = geo & (ev == name)
+            if sel.any():
+                e = np.nan_to_num(targets["e"].to_numpy(float)[ti[sel]])
+                w = np.radians(np.nan_to_num(targets["omega_deg"].to_numpy(float)[ti[sel]], nan=90.0))
+                off = orbit_contacts.contact_offsets_d(targets["period_d"].to_numpy(float)[ti[sel]], a[sel],
+                                                       inc[sel], k[sel], e, w, secondary=secondary)
+                out[sel] = jd[sel, None] + off
+    dur = v["duration_d"].to_numpy(float) if "duration_d" in v else np.full(n, np.nan)
+    by_duration = ~geo & np.isfinite(dur)
+    out[by_duration, 0] = jd[by_duration] - dur[by_duration] / 2.0
+    out[by_duration, 3] = jd[by_duration] + dur[by_duration] / 2.0
+    return out
+
+
+def _windows(v, kind, targets, settings):
+    """(w0, w1, contacts (n, 4)) of each request row."""
+    n = len(v)
+    ti = v["target_index"].to_numpy(int)
+    jd = v["jd_utc"].to_numpy(float)
+    sig = np.nan_to_num(v["sigma_d"].to_numpy(float)) * settings.k_sigma
+    base = settings.baseline_h / 24.0
+    w0 = v["window_start_jd_utc"].to_numpy(float).copy()
+    w1 = v["window_end_jd_utc"].to_numpy(float).copy()
+    contacts = np.full((n, 4), np.nan)
+    s = kind == SERIES
+    if s.any():
+        contacts[s] = _series_contacts(v[s], targets)
+        known = s & np.isfinite(contacts[:, 0]) & np.isfinite(contacts[:, 3])
+        w0[known] = contacts[known, 0] - base - sig[known]
+        w1[known] = contacts[known, 3] + base + sig[known]
+    p = targets["period_d"].to_numpy(float)[ti]
+    e = np.nan_to_num(_col(targets, "e", 0.0).astype(float)[ti])
+    w = np.radians(np.nan_to_num(_col(targets, "omega_deg", 90.0).astype(float)[ti], nan=90.0))
+    ev = v["event"].to_numpy(object).astype(str)
+    frac = _col(targets, "rv_fraction_k", 0.1).astype(float)[ti]
+    for name, maximum in (("rv_max", True), ("rv_min", False)):
+        sel = (kind == RV_VISIT) & (ev == name)
+        if sel.any():
+            lo, hi = orbit_contacts.rv_window_offsets_d(p[sel], e[sel], w[sel], frac[sel], maximum=maximum)
+            w0[sel], w1[sel] = jd[sel] + lo - sig[sel], jd[sel] + hi + sig[sel]
+    sel = (kind == RV_VISIT) & (ev == "apastron")
+    half = DEFAULT_EVENT_LENGTH_H / 48.0
+    w0[sel], w1[sel] = jd[sel] - half - sig[sel], jd[sel] + half + sig[sel]
+    sel = kind == RV_SEQUENCE
+    if sel.any():  # one swing per target
+        uniq, inv = np.unique(ti[sel], return_inverse=True)
+        first = np.flatnonzero(sel)[np.unique(inv, return_index=True)[1]]
+        lo, hi = orbit_contacts.rv_swing_offsets_d(p[first], e[first], w[first])
+        w0[sel], w1[sel] = jd[sel] + lo[inv] - sig[sel], jd[sel] + hi[inv] + sig[sel]
+    return w0, w1, contacts
+
+
+def _sequence_slots(rows: pd.DataFrame, targets) -> pd.DataFrame:
+    """Each rv_sequence row split into its visit slots (one request each)."""
+    if rows.empty:
+        return rows.assign(slot=np.zeros(0, int), n_slots=np.zeros(0, int))
+    ti = rows["target_index"].to_numpy(int)
+    visit_d = rows["length_d"].to_numpy(float)
+    gap_d = _col(targets, "rv_gap_h", 1.0).astype(float)[ti] / 24.0
+    want = _col(targets, "rv_visits", 3).astype(int)[ti]
+    w0, w1 = rows["window_start_jd_utc"].to_numpy(float), rows["window_end_jd_utc"].to_numpy(float)
+    fits = np.maximum(1, np.floor((w1 - w0 + gap_d) / (visit_d + gap_d))).astype(int)
+    n_slots = np.minimum(want, fits)
+    rep = np.repeat(np.arange(len(rows)), n_slots)
+    slot = np.arange(rep.size) - np.repeat(np.cumsum(n_slots) - n_slots, n_slots)
+    out = rows.iloc[rep].reset_index(drop=True)
+    width = (w1 - w0)[rep] / n_slots[rep]
+    start = w0[rep] + slot * width
+    last = slot == n_slots[rep] - 1
+    out["window_start_jd_utc"] = start
+    out["window_end_jd_utc"] = np.where(last, start + width, start + width - gap_d[rep])
+    out["slot"], out["n_slots"] = slot + 1, n_slots[rep]
+    return out
+
+
+def build_requests(visible: pd.DataFrame, targets: pd.DataFrame, intervals: pd.DataFrame | None,
+                   altitude_deg=None, settings: RequestSettings = RequestSettings(), weights=None) -> pd.DataFrame:
+    """The request table (:data:`REQUEST_COLUMNS` and the score columns; module docstring).
+
+    ``visible``: event visibility table; ``intervals``: observable intervals (every stretch of
+    every window becomes a candidate); without them the visible table's one observable stretch
+    is used. ``altitude_deg(target_index, jd_utc)`` places movable visits at the lowest airmass.
+    Monitor requests are not rows of this table: :func:`monitor_requests` gives them.
+    """
+    from .score import DEFAULT_WEIGHTS
+
+    weights = weights or DEFAULT_WEIGHTS
+    kind = request_kinds(visible, targets)
+    keep = kind != ""
+    v = visible[keep].reset_index(drop=True)
+    kind = kind[keep]
+    n = len(v)
+    ti = v["target_index"].to_numpy(int)
+    w0, w1, contacts = _windows(v, kind, targets, settings)
+    visit_h = _col(targets, "visit_h", np.nan).astype(float)[ti]
+    length = np.where(kind == SERIES, np.nan, np.where(np.isfinite(visit_h), visit_h, DEFAULT_VISIT_H) / 24.0)
+    base = pd.DataFrame({
+        "request": kind, "target_index": ti.astype(np.int64), "target": v["target"].to_numpy(object),
+        "event": v["event"].to_numpy(object), "serves": v["event"].to_numpy(object),
+        "label": v["label"].to_numpy(object), "night": v["night"].astype(object).to_numpy(),
+        "slot": np.zeros(n, int), "n_slots": np.ones(n, int),
+        "event_jd_utc": v["jd_utc"].to_numpy(float), "event_sigma_d": v["sigma_d"].to_numpy(float),
+        "window_start_jd_utc": w0, "window_end_jd_utc": w1, "length_d": length,
+        "t1_jd_utc": contacts[:, 0], "t2_jd_utc": contacts[:, 1], "t3_jd_utc": contacts[:, 2],
+        "t4_jd_utc": contacts[:, 3],
+        "moon_sep_deg": v["moon_sep_deg"].to_numpy(float), "moon_illumination": v["moon_illumination"].to_numpy(float),
+        "_obs0": v["observable_start_jd_utc"].to_numpy(float), "_obs1": v["observable_end_jd_utc"].to_numpy(float),
+    })
+    base["_obs_fraction"] = v["observable_fraction"].to_numpy(float)
+    seq = base["request"] == RV_SEQUENCE
+    base = pd.concat([base[~seq], _sequence_slots(base[seq].reset_index(drop=True), targets)], ignore_index=True)
+    # request ids in a fixed order, whatever the order of the input rows
+    base = base.sort_values(["target_index", "event_jd_utc", "event", "slot"], kind="stable").reset_index(drop=True)
+    base["request_id"] = np.arange(len(base), dtype=np.int64)
+    cands = _stretches(base, intervals)
+    cands = _fixed_series(cands, targets, settings)
+    cands = _movable_visits(cands, altitude_deg)
+    cands["group"] = cands["request_id"]
+    cands["priority"] = targets["priority"].to_numpy(float)[cands["target_index"].to_numpy(int)]
+    cands["period_d"] = targets["period_d"].to_numpy(float)[cands["target_index"].to_numpy(int)]
+    cands = _score(cands, altitude_deg, weights)
+    order = ["stretch_start_jd_utc", "stretch_end_jd_utc", "target_index", "event", "request_id"]
+    cands = merge_requests(cands.sort_values(order, kind="stable"))
+    return cands.sort_values(order, kind="stable").reset_index(drop=True)
+
+
+def _stretches(base, intervals):
+    """One row per observable stretch of each request's window, with the observable fraction."""
+    w0, w1 = base["window_start_jd_utc"].to_numpy(float), base["window_end_jd_utc"].to_numpy(float)
+    if intervals is not None:
+        row, s, e = window_stretches(base["target_index"].to_numpy(int), w0, w1, intervals)
+    else:  # the visible table's one stretch, cut to the request's window
+        s = np.maximum(base["_obs0"].to_numpy(float), w0)
+        e = np.minimum(base["_obs1"].to_numpy(float), w1)
+        row = np.flatnonzero(np.isfinite(s) & np.isfinite(e) & (e > s))
+        s, e = s[row], e[row]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        frac = np.bincount(row, weights=e - s, minlength=len(base)) / (w1 - w0)
+    if intervals is None:  # the visible table knows the window's observable share
+        frac = np.where(np.isfinite(base["_obs_fraction"].to_numpy(float)), base["_obs_fraction"].to_numpy(float), frac)
+    out = base.iloc[row].reset_index(drop=True).drop(columns=["_obs0", "_obs1", "_obs_fraction"])
+    out["stretch_start_jd_utc"], out["stretch_end_jd_utc"] = s, e
+    out["observable_fraction"] = np.clip(frac[row], 0.0, 1.0)
+    return out
+
+
+def _fixed_series(c, targets, settings):
+    """Series stretches: parts covered, science kept; stretches worth nothing are dropped."""
+    series = (c["request"] == SERIES).to_numpy()
+    c = c.assign(placement=np.where(series, "fixed", "movable"), covers="", not_covered="", science_fraction=1.0,
+                 start_jd_utc=np.nan, end_jd_utc=np.nan)
+    c["covers"] = c["covers"].astype(object)
+    c["not_covered"] = c["not_covered"].astype(object)
+    s_idx = np.flatnonzero(series)
+    if s_idx.size:
+        sub = c.iloc[s_idx]
+        t = [sub[f"t{j}_jd_utc"].to_numpy(float) for j in (1, 2, 3, 4)]
+        s, e = sub["stretch_start_jd_utc"].to_numpy(float), sub["stretch_end_jd_utc"].to_numpy(float)
+        parts = series_parts.covered_parts(s, e, *t, sub["event_jd_utc"].to_numpy(float), settings.baseline_h / 24.0)
+        known = np.isfinite(t[0]) & np.isfinite(t[3])
+        sci = series_parts.science_fraction(parts, known, sub["observable_fraction"].to_numpy(float))
+        full_only = _col(targets, "full_coverage", False).astype(bool)[sub["target_index"].to_numpy(int)]
+        sci = np.where(full_only & (sci < series_parts.FULL), 0.0, sci)
+        c.loc[s_idx, "covers"] = series_parts.covers_text(parts, known)
+        c.loc[s_idx, "not_covered"] = series_parts.missing_text(parts, known, np.isfinite(t[1]))
+        c.loc[s_idx, "science_fraction"] = sci
+        c.loc[s_idx, "start_jd_utc"], c.loc[s_idx, "end_jd_utc"] = s, e
+        c.loc[s_idx, "length_d"] = e - s
+    long_enough = (c["stretch_end_jd_utc"] - c["stretch_start_jd_utc"]) * MIN_PER_DAY >= max(settings.min_block_min, 1e-6)
+    worth = ~series | ((c["science_fraction"] > 0) & long_enough).to_numpy()
+    return c[worth].reset_index(drop=True)
+
+
+def _movable_visits(c, altitude_deg):
+    """Movable visits: allowed start range inside the stretch, proposed start at the lowest airmass."""
+    mov = (c["placement"] == "movable").to_numpy()
+    s, e = c["stretch_start_jd_utc"].to_numpy(float), c["stretch_end_jd_utc"].to_numpy(float)
+    length = c["length_d"].to_numpy(float)
+    lo = s
+    hi = np.where(mov, e - length, s)
+    ok = ~mov | (hi >= lo)
+    c = c.assign(earliest_start_jd_utc=lo, latest_start_jd_utc=hi)[ok].reset_index(drop=True)
+    mov, lo, hi, length = mov[ok], lo[ok], hi[ok], length[ok]
+    start = c["start_jd_utc"].to_numpy(float).copy()
+    m = np.flatnonzero(mov)
+    if m.size:
+        f = np.linspace(0.0, 1.0, PLACEMENT_SAMPLES)
+        starts = lo[m, None] + (hi - lo)[m, None] * f
+        pick = np.full(m.size, PLACEMENT_SAMPLES // 2)
+        if altitude_deg is not None:
+            idx = np.broadcast_to(c["target_index"].to_numpy(int)[m, None], starts.shape)
+            alt = np.asarray(altitude_deg(idx, starts + 0.5 * length[m, None]), float)
+            pick = np.argmax(np.where(np.isfinite(alt), alt, -np.inf), axis=1)
+        start[m] = starts[np.arange(m.size), pick]
+    c["start_jd_utc"] = start
+    c["end_jd_utc"] = np.where(mov, start + length, c["end_jd_utc"].to_numpy(float))
+    return c
+
+
+def _score(c, altitude_deg, weights):
+    """Score columns of each candidate at its proposed block (value: priority x rarity x points)."""
+    from .blocks import altitudes, mean_airmass, sample_times
+    from .score import airmass_from_alt
+
+    alt = altitudes(altitude_deg, c["target_index"].to_numpy(int),
+                    sample_times(c["start_jd_utc"].to_numpy(float), c["end_jd_utc"].to_numpy(float)))
+    window = (c["window_end_jd_utc"] - c["window_start_jd_utc"]).to_numpy(float)
+    sc = score_components(c["priority"].to_numpy(float), c["period_d"].to_numpy(float),
+                          c["science_fraction"].to_numpy(float), mean_airmass(airmass_from_alt(alt)),
+                          c["moon_sep_deg"].to_numpy(float), c["moon_illumination"].to_numpy(float),
+                          c["event_sigma_d"].to_numpy(float), window, weights)
+    for col in sc.columns:
+        c[col] = sc[col].to_numpy()
+    return c
+
+
+def monitor_requests(availability: pd.DataFrame | None, targets: pd.DataFrame) -> pd.DataFrame:
+    """Monitor requests: one row per target with ``visit_h`` and observable interval of a night.
+
+    Columns ``target_index, target, night, start_jd_utc, end_jd_utc`` (the interval in which the
+    visit may start and end), ``length_d`` and ``request`` = ``monitor``; the gap filler places one
+    visit per target and night, ``visit_gap_h`` after the previous.
+    """
+    if availability is None or availability.empty or "visit_h" not in targets:
+        return pd.DataFrame({c: [] for c in ("target_index", "target", "night", "start_jd_utc", "end_jd_utc",
+                                             "length_d", "request")})
+    visit_d = targets["visit_h"].to_numpy(float)[availability["target_index"].to_numpy(int)] / 24.0
+    keep = np.isfinite(visit_d)
+    out = availability[keep][["target_index", "target", "night", "start_jd_utc", "end_jd_utc"]].reset_index(drop=True)
+    out["length_d"] = visit_d[keep]
+    out["request"] = MONITOR
+    return out

@@ -1,0 +1,212 @@
+"""Observing requests: each event asks for the observation its science needs.
+
+One test per problem of the request issue (each failed before the request stage existed), run
+through the whole pipeline on small catalogues of invented targets at an invented site, with
+events placed in the night by construction. Where a value is checked it comes from outside the
+planner: the RV curve of radvel (Fulton et al. 2018, PASP 130, 044504, radvel.kepler.rv_drive),
+the conjunction times of radvel.orbit.timeperi_to_timetrans, the impact parameters of Winn 2010
+("Transits and Occultations", in *Exoplanets*, ed. S. Seager, eqs. 7-8), and the sidereal time
+and horizontal coordinates of astropy (used to place the targets).
+"""
+
+from __future__ import annotations
+
+import datetime as dt
+
+import astropy.units as u
+import numpy as np
+import pytest
+import radvel.kepler
+import radvel.orbit
+from astropy.coordinates import AltAz, EarthLocation, SkyCoord
+from astropy.time import Time
+
+import planner
+from planner.inputs.catalogue import parse_catalogue
+from planner.outputs import sheets
+
+NIGHT = dt.date(2026, 12, 7)
+LAT, LON = 37.62, -3.12
+SITE = f"""name = "Test Ridge (invented)"
+latitude_deg = {LAT}
+longitude_deg = {LON}
+elevation_m = 1500
+timezone = "Europe/Madrid"
+min_altitude_deg = 30
+darkness = "astronomical"
+moon_min_separation_deg = 0
+"""
+HEADER = ("name,ra,dec,period_d,e,omega_deg,tc,tc_err_d,time_system,k_ms,priority,events,duration_h,"
+          "a_rstar,inc_deg,rp_rstar")
+# no observe column: the defaults decide (photometry where a duration or geometry is given, rv
+# where k_ms is), as in most catalogues
+#: Contacts and windows are UTC times made from BJD offsets; block edges are bisected to 0.05 s.
+#: One second is far below any part of an eclipse and above that rounding.
+TIME_TOL_D = 1.0 / 86400.0
+
+
+def site_file(tmp_path, horizon=None):
+    path = tmp_path / "site.toml"
+    text = SITE + (f"horizon = {horizon}\n" if horizon else "")
+    path.write_text(text)
+    return planner.read_site(path)
+
+
+@pytest.fixture(scope="module")
+def dark():
+    """(dark start, dark end) of the test night, UTC JD, from the night engine."""
+    import tempfile
+    import pathlib
+
+    with tempfile.TemporaryDirectory() as tmp:
+        site = site_file(pathlib.Path(tmp))
+    n = planner.night_table(site, NIGHT, 1)
+    return float(n["dark_start_jd_utc"].iloc[0]), float(n["dark_end_jd_utc"].iloc[0])
+
+
+def ra_culminating_at(jd_utc):
+    """Right ascension (deg) on the meridian of the site at ``jd_utc`` (astropy sidereal time)."""
+    return float(Time(jd_utc, format="jd", scale="utc").sidereal_time("apparent", longitude=LON * u.deg).deg)
+
+
+def plan(tmp_path, rows, site=None):
+    cat = parse_catalogue(HEADER + "\n" + "\n".join(rows) + "\n")
+    return planner.make_plan(cat, site or site_file(tmp_path), NIGHT, 1)
+
+
+def served(schedule):
+    """(target, event) pairs served by the schedule's blocks."""
+    col = schedule["serves"] if "serves" in schedule else schedule["event"]
+    return {(t, e) for t, s in zip(schedule["target"], col) for e in str(s).split(";")}
+
+
+def test_rv_maximum_is_a_short_visit_and_leaves_the_night_to_an_eclipse(tmp_path, dark):
+    mid = 0.5 * (dark[0] + dark[1])
+    ra = ra_culminating_at(mid)
+    # RV target: rv_max at midnight (tc chosen so), an eclipsing binary's eclipse 1 h later
+    p, e, w_deg, k = 20.0, 0.3, 40.0, 60.0
+    w = np.radians(w_deg)
+    tp = 2461000.5
+    nu = -w  # rv maximum
+    big_e = 2 * np.arctan(np.sqrt((1 - e) / (1 + e)) * np.tan(nu / 2))
+    t_max = tp + p * np.mod(big_e - e * np.sin(big_e), 2 * np.pi) / (2 * np.pi)
+    shift = mid - t_max  # moves the whole orbit so that the maximum falls at midnight
+    tc = radvel.orbit.timeperi_to_timetrans(tp + shift, p, e, w)
+    rows = [f"Rv-1,{ra:.4f},20,{p},{e},{w_deg},{tc:.6f},0.0005,JD_UTC,{k},3,rv_max,,,,",
+            f"Ecl-1,{ra + 2:.4f},22,3.3,0,,{mid + 1 / 24:.6f},0.0003,JD_UTC,,2,,2.0,,,"]
+    sched = plan(tmp_path, rows).schedule
+    rv = sched[(sched.target == "Rv-1") & (sched.event == "rv_max")]
+    assert len(rv) == 1
+    assert (rv.end_jd_utc - rv.start_jd_utc).iloc[0] <= 0.5 / 24 + TIME_TOL_D  # default visit_h 0.5 h
+    # the visit lies where radvel's RV is within 10 % of K of the maximum (JD_UTC epochs; the
+    # 69 s of TT - UTC move the RV by far less than the 1 % of K allowed here)
+    t = np.linspace(rv.start_jd_utc.iloc[0], rv.end_jd_utc.iloc[0], 50) - shift
+    v = radvel.kepler.rv_drive(t, np.array([p, tp, e, w, k]), use_c_kepler_solver=False)
+    assert np.all(v >= k * (1 + e * np.cos(w)) - 0.1 * k - 0.01 * k)
+    assert ("Ecl-1", "primary_conjunction") in served(sched)
+
+
+def test_conjunction_that_does_not_eclipse_gets_no_series(tmp_path, dark):
+    # e = 0.5, omega = 90 deg: b_tra = 0.5 and b_occ = 1.5 (Winn 2010 eqs. 7-8) > 1 + k = 1.1
+    mid = 0.5 * (dark[0] + dark[1])
+    p, e, w_deg, a, k = 12.0, 0.5, 90.0, 20.0, 0.1
+    w = np.radians(w_deg)
+    inc_deg = np.degrees(np.arccos(0.5 * (1 + e * np.sin(w)) / (a * (1 - e**2))))
+    b_tra = a * np.cos(np.radians(inc_deg)) * (1 - e**2) / (1 + e * np.sin(w))
+    b_occ = a * np.cos(np.radians(inc_deg)) * (1 - e**2) / (1 - e * np.sin(w))
+    assert abs(b_tra - 0.5) < 1e-9 and b_occ > 1 + k
+    t_pri = radvel.orbit.timeperi_to_timetrans(0.0, p, e, w)
+    t_sec = radvel.orbit.timeperi_to_timetrans(0.0, p, e, w, secondary=True)
+    tc = mid - np.mod(t_sec - t_pri, p)  # the secondary conjunction falls at midnight
+    rows = [f"Grazer-1,{ra_culminating_at(mid):.4f},20,{p},{e},{w_deg},{tc:.6f},0.0005,JD_UTC,,2,"
+            f"primary_conjunction;secondary_conjunction,,{a},{inc_deg:.8f},{k}"]
+    pl = plan(tmp_path, rows)
+    sec = pl.events[pl.events.event == "secondary_conjunction"]
+    assert len(sec) == 1 and abs(sec.jd_utc.iloc[0] - mid) < 0.01
+    assert not (pl.schedule.event == "secondary_conjunction").any()
+    from planner.scheduling.requests import request_kinds
+
+    assert list(request_kinds(sec, pl.targets)) == [""]
+
+
+def _az_at(ra, dec, jd):
+    loc = EarthLocation(lat=LAT * u.deg, lon=LON * u.deg, height=1500 * u.m)
+    frame = AltAz(obstime=Time(jd, format="jd", scale="utc"), location=loc)
+    return SkyCoord(ra * u.deg, dec * u.deg).transform_to(frame).az.deg
+
+
+def test_eclipse_in_the_shorter_stretch_of_a_split_window_is_kept(tmp_path, dark):
+    # The target sets (30 deg) 1.3 h after the eclipse (hour angle 3.2 h at the eclipse, 4.47 h
+    # at 30 deg for dec +20 at latitude 37.62: cos H = (sin 30 - sin phi sin dec) / (cos phi cos dec)); a tree in the horizon profile hides it
+    # from 0.9 h to 0.6 h before the eclipse. Window +-(0.5 h + 1 h baseline + 2 x 1 h sigma):
+    # the long stretch before the tree holds only baseline, the short one after it the eclipse.
+    ev = dark[1] - 3.0 / 24
+    dec = 20.0
+    ra = ra_culminating_at(ev) - 15.0 * 3.2
+    az0, az1 = _az_at(ra, dec, ev - 0.9 / 24), _az_at(ra, dec, ev - 0.6 / 24)
+    horizon = [[0, 0], [float(round(az0 - 0.01, 3)), 0], [float(round(az0, 3)), 89], [float(round(az1, 3)), 89],
+               [float(round(az1 + 0.01, 3)), 0]]
+    site = site_file(tmp_path, horizon)
+    rows = [f"Split-1,{ra:.4f},{dec},2.9,0,,{ev:.6f},0.0417,JD_UTC,,2,,1.0,,,"]
+    pl = plan(tmp_path, rows, site)
+    iv = pl.intervals
+    assert len(iv) == 2  # the night's observable time is split by the tree
+    longest = iv.loc[iv.duration_h.idxmax()]
+    assert not (longest.start_jd_utc <= ev <= longest.end_jd_utc)  # the eclipse is in the shorter one
+    block = pl.schedule[pl.schedule.target == "Split-1"]
+    assert len(block) == 1
+    assert block.start_jd_utc.iloc[0] <= ev <= block.end_jd_utc.iloc[0]
+    assert block.end_jd_utc.iloc[0] < longest.end_jd_utc + 3.0 / 24  # it is not the long stretch
+    assert block.start_jd_utc.iloc[0] > longest.end_jd_utc
+
+
+def test_long_transit_with_ingress_before_dawn_is_scheduled_as_ingress_only(tmp_path, dark):
+    # A 12-hour transit: T1 2 h before the end of darkness, mid-transit 4 h after it.
+    t1 = dark[1] - 2.0 / 24
+    tc = t1 + 6.0 / 24
+    ra = ra_culminating_at(dark[1] - 1.5 / 24)
+    rows = [f"Long-1,{ra:.4f},40,180.5,0,,{tc:.6f},0.0003,JD_UTC,,3,primary_conjunction,12.0,,,"]
+    sched = plan(tmp_path, rows).schedule
+    block = sched[sched.target == "Long-1"]
+    assert len(block) == 1
+    assert block.covers.iloc[0] == "pre;T1"
+    assert set(block.not_covered.iloc[0].split(";")) == {"mid", "T4", "post"}
+    assert abs(block.t1_jd_utc.iloc[0] - t1) <= TIME_TOL_D
+
+
+def test_periastron_and_rv_maximum_of_one_passage_are_both_served(tmp_path, dark):
+    # e = 0.9, omega = 60 deg: the RV maximum (nu = -60 deg) comes about 3.3 h before periastron.
+    mid = 0.5 * (dark[0] + dark[1])
+    p, e, w_deg = 30.0, 0.9, 60.0
+    w = np.radians(w_deg)
+    tp = mid + 1.0 / 24
+    tc = radvel.orbit.timeperi_to_timetrans(tp, p, e, w)
+    ra = ra_culminating_at(mid)
+    rows = [f"Swing-1,{ra:.4f},25,{p},{e},{w_deg},{tc:.6f},0.0005,JD_UTC,80,3,periastron;rv_max,,,,"]
+    sched = plan(tmp_path, rows).schedule
+    got = served(sched)
+    assert ("Swing-1", "periastron") in got and ("Swing-1", "rv_max") in got
+
+
+def test_block_after_mid_eclipse_says_which_contacts_it_covers(tmp_path, dark):
+    # A 6-hour eclipse whose middle is 1 h before darkness: egress and post-baseline observable.
+    ev = dark[0] - 1.0 / 24
+    ra = ra_culminating_at(dark[0] + 1.0 / 24)
+    rows = [f"Late-1,{ra:.4f},30,40.1,0,,{ev:.6f},0.0003,JD_UTC,,2,primary_conjunction,6.0,,,"]
+    pl = plan(tmp_path, rows)
+    block = pl.schedule[pl.schedule.target == "Late-1"]
+    assert len(block) == 1
+    text = sheets.night_sheet_text(pl.nights.iloc[0], pl.schedule, "Europe/Madrid")
+    assert "Covers egress (T4), post-baseline; not covered: pre-baseline, ingress (T1), mid-event." in text
+    assert "before and after" not in text
+
+
+def test_observe_defaults_follow_what_the_catalogue_gives():
+    cat = parse_catalogue(
+        "name,ra,dec,period_d,e,omega_deg,tc,t0,k_ms,duration_h,a_rstar,inc_deg,rp_rstar,label\n"
+        "Phot,10,20,3,0,,2461000.5,,,2.0,,,,\n"
+        "Geo,10,20,3,0.1,30,2461000.5,,,,10,88,0.1,\n"
+        "Lin,10,20,0.2,,,,2461000.5,,,,,,maximum\n"
+        "Spec,10,20,30,0.3,30,2461000.5,,40,,,,,\n"
+        "Both,10,20,3,0,,2461000.5,,40,2.0,,,,\n")
+    assert list(cat["observe"]) == ["photometry", "photometry", "photometry", "rv", "photometry;rv"]
