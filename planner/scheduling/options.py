@@ -19,15 +19,14 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from .blocks import WEEK_RULES
+
 #: Most start times tried for one movable visit (the proposed one included).
 MAX_STARTS = 7
 #: Value given up by a visit moved to the far end of its allowed range: 0.1 per cent, far below
 #: the score's own resolution, so it only breaks ties towards the lowest airmass.
 MOVE_PENALTY = 1e-3
 MOVABLE = ("rv_visit", "rv_sequence")
-#: Week rules: every instance may be observed; only the best night's instance of a target's
-#: event; only the first night that has one.
-WEEK_RULES = ("every", "best", "first")
 
 
 def _spread(proposed, lo, hi, length):
@@ -78,8 +77,8 @@ def apply_week_rule(options: pd.DataFrame, rule: str, nights_order) -> tuple[pd.
     """(options kept, exclusive group columns) for the week rule (:data:`WEEK_RULES`).
 
     ``every``: each request at most once. ``best``: also each target's event at most once in the
-    week, on whichever night the solver finds best. ``first``: only the options of the first
-    night that has any for that target's event (then at most once).
+    week, on whichever night the solver finds best. ``first``: at most once too; the caller
+    makes earlier nights worth a little more (:data:`planner.scheduling.choose.FIRST_NIGHT_FACTOR`).
     """
     if rule not in WEEK_RULES:
         from ..errors import PeriplanError
@@ -87,9 +86,4 @@ def apply_week_rule(options: pd.DataFrame, rule: str, nights_order) -> tuple[pd.
         raise PeriplanError(f"week rule {rule!r} is unknown; expected one of {', '.join(WEEK_RULES)}")
     if rule == "every" or options.empty:
         return options, ("group",)
-    if rule == "first":
-        rank = {lab: i for i, lab in enumerate(nights_order)}
-        n = options["night"].map(rank)
-        first = n.groupby(options["week_key"]).transform("min")
-        options = options[n == first].reset_index(drop=True)
     return options, ("group", "week_key")

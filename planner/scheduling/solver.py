@@ -9,14 +9,18 @@ of largest total value such that
 - in each *exclusive* group column at most one option per label is chosen (an event instance done
   once, one visit of a target per night, a request done once per week ...);
 - in each *spacing* group, chosen options start at least the group's gap apart (monitor visits
-  keep their minimum gap across nights; the visits of an RV sequence their spacing).
+  keep their minimum gap across nights; the visits of an RV sequence their spacing);
+- an option of an *excluding* label shuts out every option of the same label in a second column
+  (a monitor visit of a target and night, and any other block of that target that night).
 
 Formulation: x_i in {0, 1}, maximise sum v_i x_i subject to clique inequalities sum_{i in C} x_i <= 1.
 Blocks on a line form an interval graph, whose maximal cliques are the sets of blocks covering one
 moment; a sweep over the start times finds each maximal clique once (at most one per block), so
 the overlap rows are exact and few (Golumbic, *Algorithmic Graph Theory and Perfect Graphs*, 1980,
 ch. 8: interval graphs and their clique matrices). Spacing groups are interval graphs of the
-windows [start, start + gap) and are written the same way; exclusive groups are one row each.
+windows [start, start + gap) and are written the same way; exclusive groups are one row each;
+an exclusion is one row per shut-out option (its label's excluding options, themselves at most
+one, plus it).
 
 The programme is solved by HiGHS (Huangfu & Hall 2018, Math. Prog. Comp. 10, 119) through
 ``scipy.optimize.milp``, which proves optimality or reports the gap to its dual bound when the
@@ -102,7 +106,7 @@ def _window_cliques(start, gap):
     return [order[k:h].tolist() for k, h in zip(np.flatnonzero(keep), hi[keep]) if h - k > 1]
 
 
-def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(), spacing=None,
+def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(), spacing=None, excludes=None,
                    time_limit_s: float = DEFAULT_TIME_LIMIT_S, rel_gap: float = DEFAULT_REL_GAP):
     """(chosen, report): a boolean mask over ``options`` and a :class:`SolveReport`.
 
@@ -110,8 +114,11 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
     end > start) and ``value`` (>= 0), and the group columns named in ``exclusive`` (labels; an
     empty label or NA puts an option in no group). ``spacing`` is None or a pair of column names
     ``(group, gap_d)``: options sharing a non-empty group label must start at least the gap
-    (days, the group's largest value) apart. ``overhead_d`` (days) must separate consecutive
-    blocks on a telescope. Options of value <= 0 are never chosen.
+    (days, the group's largest value) apart. ``excludes`` is None or a pair of columns
+    ``(leader, member)``: options whose ``leader`` label is L exclude every option whose
+    ``member`` label is L (the leaders of a label must also share an exclusive group).
+    ``overhead_d`` (days) must separate consecutive blocks on a telescope. Options of value
+    <= 0 are never chosen.
     """
     t0 = time.perf_counter()
     n = len(options)
@@ -140,6 +147,14 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
             if label != "" and len(members) > 1 and gap > 0:
                 m = members.to_numpy()
                 rows += [m[c].tolist() for c in _window_cliques(start[m], gap)]
+    if excludes is not None:
+        leader = options[excludes[0]].astype("string").fillna("").to_numpy(object)
+        member = options[excludes[1]].astype("string").fillna("").to_numpy(object)
+        leaders = pd.Series(np.arange(n)).groupby(leader).apply(list).to_dict()
+        for j in np.flatnonzero(member != ""):
+            lead = leaders.get(member[j], []) if member[j] in leaders else []
+            if lead:
+                rows.append(list(lead) + [int(j)])
     chosen, report = _solve(value, rows, time_limit_s, rel_gap)
     return chosen, dataclasses.replace(report, seconds=time.perf_counter() - t0)
 
