@@ -17,7 +17,7 @@ from .windows import altitude_limit_deg
 
 #: Reason codes and their words, in the order limits are checked.
 REASONS = {
-    "no_darkness": "the Sun is not below the site's darkness limit",
+    "no_darkness": "in daylight or twilight (the Sun above the site's darkness limit)",
     "declination": "outside the mount's declination limits",
     "altitude": "below the minimum altitude (or above the airmass limit)",
     "horizon": "behind the site's horizon profile",
