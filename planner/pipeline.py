@@ -18,7 +18,8 @@ import pandas as pd
 from . import numerics
 from .orbits.events import predict_events
 from .scheduling.requests import RequestSettings, build_requests
-from .scheduling.schedule import ScheduleOptions, plan_week
+from .scheduling.losses import unscheduled
+from .scheduling.schedule import ScheduleOptions, plan_week_report
 from .sky import night as night_mod
 from .sky import positions, windows
 from .timescales.epochs import utc_to_tdb_jd
@@ -56,10 +57,13 @@ class Plan:
     events: pd.DataFrame        # planner.windows.event_visibility output, events in the nights only
     intervals: pd.DataFrame     # planner.windows.observable_intervals
     requests: pd.DataFrame      # planner.scheduling.requests.build_requests
-    schedule: pd.DataFrame      # planner.schedule.plan_week
-    never_rising: pd.DataFrame  # planner.windows.never_rising
-    tracks: object              # planner.visibility.SkyTracks of the Sun and Moon
+    schedule: pd.DataFrame      # planner.scheduling.schedule.plan_week
+    never_rising: pd.DataFrame  # planner.sky.windows.never_rising
+    tracks: object              # planner.sky.positions.SkyTracks of the Sun and Moon
     settings: PlanSettings
+    candidates: pd.DataFrame = dataclasses.field(default_factory=pd.DataFrame)   # every block chosen from
+    unscheduled: pd.DataFrame = dataclasses.field(default_factory=pd.DataFrame)  # planner.scheduling.losses
+    report: object = None       # planner.scheduling.solver.SolveReport: optimal, or the gap to the bound
 
     def altitude_deg(self, target_index, jd_utc):
         """Airless altitude (deg) of targets (row numbers) at UTC Julian dates, broadcast."""
@@ -154,6 +158,9 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
                                    settings.schedule.weights)
 
     stage("schedule")
-    plan.schedule = plan_week(visible, intervals, targets, nights, altitude_deg=plan.altitude_deg,
-                              moon_sep_deg=plan.moon_sep_deg, options=settings.schedule, requests=plan.requests)
+    plan.schedule, plan.candidates, plan.report = plan_week_report(
+        visible, intervals, targets, nights, altitude_deg=plan.altitude_deg, moon_sep_deg=plan.moon_sep_deg,
+        options=settings.schedule, requests=plan.requests)
+    plan.unscheduled = unscheduled(visible, plan.candidates, plan.schedule, targets, site, nights, tracks,
+                                   plan.never_rising, settings.schedule.overhead_min / 1440.0, settings.schedule.repeats)
     return plan

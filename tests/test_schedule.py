@@ -97,43 +97,6 @@ def feasible(start, end, chosen, gap):
     return all(end[a] + gap <= start[b] for a, b in zip(order, order[1:]))
 
 
-def test_best_intervals_is_optimal_against_brute_force():
-    # Reference: brute force over all 2^n subsets (n <= 9), 400 seeded random cases.
-    rng = np.random.default_rng(20261207)
-    for _ in range(400):
-        n = int(rng.integers(1, 10))
-        start = rng.uniform(0.0, 10.0, n)
-        length = rng.uniform(0.2, 3.0, n)
-        if n > 2:  # shared edges, to exercise ties: block 1 starts where block 0 ends
-            start[1] = start[0] + length[0]
-        end = start + length
-        if n > 2 and end[1] > start[2]:
-            end[2] = end[1]  # blocks 1 and 2 end together
-        weight = np.round(rng.uniform(0.0, 100.0, n), int(rng.integers(0, 3)))
-        gap = float(rng.choice([0.0, 0.1, 0.25, 1.0]))
-        chosen = schedule.best_intervals(start, end, weight, gap)
-        assert feasible(start, end, chosen, gap)
-        got = float(weight[chosen].sum())
-        assert abs(got - brute_force_best(start, end, weight, gap)) <= SCORE_TOL_PTS
-
-
-def test_best_intervals_overhead_decides_compatibility():
-    # Blocks 0 and 1 leave a 5-minute gap: compatible without overhead, not with 10 minutes.
-    start = np.array([0.0, 65.0]) / 1440.0
-    end = np.array([60.0, 125.0]) / 1440.0
-    w = np.array([3.0, 2.0])
-    assert list(schedule.best_intervals(start, end, w, 0.0)) == [0, 1]
-    assert list(schedule.best_intervals(start, end, w, 5.0 / 1440.0)) == [0, 1]  # exactly the gap
-    assert list(schedule.best_intervals(start, end, w, 10.0 / 1440.0)) == [0]
-
-
-def test_best_intervals_skips_worthless_blocks_and_refuses_empty_ones():
-    assert list(schedule.best_intervals([0.0], [1.0], [0.0])) == []
-    assert schedule.best_intervals([], [], []).size == 0
-    with pytest.raises(PeriplanError, match="end after it starts"):
-        schedule.best_intervals([1.0], [1.0], [5.0])
-
-
 def _random_week(rng, targets, n_per_night=6):
     rows = []
     names = list(targets["name"])
@@ -349,7 +312,7 @@ def test_bad_tables_and_options_are_refused_with_the_column(targets):
                            nights_table())
     with pytest.raises(PeriplanError, match="dark_start_jd_utc"):
         schedule.plan_week(visible_frame_empty(), None, targets, nights_table().drop(columns="dark_start_jd_utc"))
-    with pytest.raises(PeriplanError, match="repeat rule 'twice'"):
+    with pytest.raises(PeriplanError, match="week rule 'twice'"):
         schedule.ScheduleOptions(repeats="twice")
     with pytest.raises(PeriplanError, match="overhead_min"):
         schedule.ScheduleOptions(overhead_min=-1.0)

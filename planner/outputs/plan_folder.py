@@ -12,6 +12,12 @@ Files (all in ``out_dir``):
 ``plan.ics``                   one calendar event per block (:mod:`planner.ical`)
 ``summary.txt``                the terminal summary
 ``unobservable.csv``           targets that never rise high enough at the site, with the reason
+``unscheduled.csv``            every request not in the plan, with its reason in words and as a code
+                               (:mod:`planner.scheduling.losses`)
+``schedule-info.json``         how the schedule was chosen: the solver's status (proven optimal,
+                               or the gap to its bound), total value, bound, seconds, settings
+``log-template.csv``           the observation log pre-filled with the planned blocks, outcome
+                               ``planned`` (:mod:`planner.outputs.log_template`)
 ``plan-files.txt``             the manifest: the names of the files above that this plan wrote
 =============================  ===============================================================
 
@@ -38,6 +44,7 @@ import shutil
 import tempfile
 
 import numpy as np
+import pandas as pd
 
 from ..errors import PeriplanError
 from ..sky import windows
@@ -46,7 +53,8 @@ from ..sky import windows
 CHART_STEP_D = 5.0 / 1440.0
 #: The manifest: names of the files the plan in the folder wrote, one a line.
 MANIFEST_NAME = "plan-files.txt"
-FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt", "unobservable.csv", "index.html", MANIFEST_NAME)
+FIXED_NAMES = ("schedule.csv", "plan.ics", "week.png", "summary.txt", "unobservable.csv", "unscheduled.csv",
+               "schedule-info.json", "log-template.csv", "index.html", MANIFEST_NAME)
 _PLAN_FILE = re.compile(r"^(night-\d{4}-\d{2}-\d{2}\.(txt|html)|altitude-\d{4}-\d{2}-\d{2}\.png|rv-.+\.png"
                         r"|target-.+\.html)$")
 _MANIFEST_HEADER = ("# Files of the periplan plan in this folder. A forced re-run replaces exactly these;\n"
@@ -120,6 +128,7 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
     returned paths end with the manifest's.
     """
     from . import ical, sheet_pointing, sheets
+    from .log_template import write_log_template
     from .tables import render
 
     out_dir = os.fspath(out_dir)
@@ -155,7 +164,8 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
                 path(f"night-{label}.{ext}")
         pointed = sheet_pointing.with_pointing_columns(schedule, plan.targets, plan.site)
         jobs.append((sheets.write_night_sheets, (staging, pointed, nights), {"tz": tz, "site_name": plan.site.name,
-                                                                       "targets": plan.targets}))
+                                                                       "targets": plan.targets,
+                                                                       "unscheduled": plan.unscheduled}))
         jobs.append((ical.write_ics, (path("plan.ics"), schedule), {"site_name": plan.site.name}))
         if len(plan.never_rising):
             text = render(plan.never_rising.drop(columns="target_index"), "csv",
@@ -163,6 +173,9 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
             jobs.append((_write_text, (path("unobservable.csv"), text), {}))
         if summary_text is not None:
             jobs.append((_write_text, (path("summary.txt"), summary_text), {}))
+        jobs.append((_write_text, (path("unscheduled.csv"), unscheduled_csv(plan)), {}))
+        jobs.append((_write_text, (path("schedule-info.json"), schedule_info_json(plan)), {}))
+        jobs.append((write_log_template, (path("log-template.csv"), schedule), {}))
         _draw(jobs, workers)
         current = MANIFEST_NAME
         _write_text(path(MANIFEST_NAME), _MANIFEST_HEADER + "".join(f"{n}\n" for n in made if n != MANIFEST_NAME))
@@ -331,3 +344,35 @@ def _draw(jobs, workers):
                 future.result()
     except BrokenProcessPool:
         raise PeriplanError("a plan file could not be made (its process stopped); nothing was written") from None
+
+
+def unscheduled_csv(plan) -> str:
+    """CSV text of the plan's unscheduled requests (header only when every request is served)."""
+    from ..scheduling.losses import UNSCHEDULED_COLUMNS
+    from .tables import render
+
+    table = plan.unscheduled if len(plan.unscheduled) else pd.DataFrame({c: [] for c in UNSCHEDULED_COLUMNS})
+    return render(table, "csv", {"priority": "g", "best_value": ".1f"})
+
+
+def schedule_info_json(plan) -> str:
+    """JSON text saying how the schedule was chosen (solver status, value, bound, gap, settings)."""
+    import dataclasses
+    import json
+
+    r = plan.report
+    options = plan.settings.schedule
+    info = {
+        "solver": "HiGHS (scipy.optimize.milp)",
+        "status": r.status if r else "not solved", "proven_optimal": bool(r and r.optimal),
+        "total_value": r.objective if r else 0.0, "bound": r.bound if r else 0.0,
+        "relative_gap": r.gap if r else 0.0, "seconds": round(r.seconds, 3) if r else 0.0,
+        "options": r.n_options if r else 0, "constraints": r.n_rows if r else 0,
+        "time_limit_s": options.time_limit_s_per_night * max(len(plan.nights), 1),
+        "week_rule": options.repeats, "overhead_min": options.overhead_min,
+        "baseline_h": plan.settings.baseline_h, "k_sigma": plan.settings.k_sigma,
+        "site": plan.site.name, "nights": [str(n) for n in plan.nights["night"]],
+        "blocks": int(len(plan.schedule)), "unscheduled_requests": int(len(plan.unscheduled)),
+        "score_weights": dataclasses.asdict(options.weights),
+    }
+    return json.dumps(info, indent=1) + "\n"

@@ -259,10 +259,30 @@ def _block_lines(b, tz):
     return head, " ".join(detail)
 
 
-def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_name: str | None = None) -> str:
+#: Unscheduled requests of at least this priority are listed on their night's sheet [our choice].
+MISSED_MIN_PRIORITY = 3.0
+#: At most this many of them, highest priority first.
+MISSED_MAX_LINES = 6
+#: Reasons not worth a line on a sheet: the observer could not have done anything that night.
+_MISSED_SKIP = ("no_darkness", "never_rises", "outside_nights")
+
+
+def missed_lines(unscheduled: pd.DataFrame | None, label: str) -> list[str]:
+    """One line per unscheduled high-priority request of the night ``label``, with its reason."""
+    if unscheduled is None or unscheduled.empty:
+        return []
+    u = unscheduled[(unscheduled["night"].astype(str) == label) & (unscheduled["priority"] >= MISSED_MIN_PRIORITY)
+                    & ~unscheduled["reason_code"].isin(_MISSED_SKIP)]
+    u = u.sort_values("priority", ascending=False, kind="stable").head(MISSED_MAX_LINES)
+    return [f"{r.target} {str(r.event).replace('_', ' ')} (priority {r.priority:g}): {r.reason}" for r in u.itertuples()]
+
+
+def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_name: str | None = None,
+                     missed: list[str] = ()) -> str:
     """Plain-text observing list of one night (a row of the night table and its schedule rows).
 
-    Opens with :data:`CAUTION`; times are HH:MM in UTC and, with ``tz``, local.
+    Opens with :data:`CAUTION`; times are HH:MM in UTC and, with ``tz``, local. ``missed``
+    (:func:`missed_lines`) lists the night's high-priority requests left out, and why.
     """
     lines = [_title(night, site_name), "=" * len(_title(night, site_name)), "", CAUTION, ""]
     rows = sky_rows(night)
@@ -292,6 +312,8 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
             lines.append(f"   Why: score {b['score']:.1f} = " + " x ".join(reasons(b)) + ".")
             if isinstance(b["notes"], str) and b["notes"]:
                 lines.append(f"   Notes: {b['notes']}.")
+    if missed:
+        lines += ["", "Not scheduled tonight (high priority):"] + [f"  - {m}" for m in missed]
     lines += ["", CAUTION, ""]
     return "\n".join(_wrap(lines))
 
@@ -316,7 +338,8 @@ th, td { border: 1px solid #999; padding: 0.25em 0.6em; text-align: left; vertic
 """
 
 
-def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_name: str | None = None) -> str:
+def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_name: str | None = None,
+                     missed: list[str] = ()) -> str:
     """HTML observing list of one night, with print styling; every shown text is HTML-escaped."""
     e = html.escape
     title = _title(night, site_name)
@@ -352,12 +375,16 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
         if isinstance(b["notes"], str) and b["notes"]:
             out.append(f'<p class="notes">Notes: {e(b["notes"])}.</p>')
         out.append("</div>")
+    if missed:
+        out.append('<h2 class="missed">Not scheduled tonight (high priority)</h2>')
+        out.append("<ul>" + "".join(f"<li>{e(m)}</li>" for m in missed) + "</ul>")
     out += [f'<p class="caution">{e(CAUTION)}</p>', "</body>", "</html>", ""]
     return "\n".join(out)
 
 
 def write_night_sheets(out_dir, schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None,
-                       site_name: str | None = None, targets: pd.DataFrame | None = None) -> list[str]:
+                       site_name: str | None = None, targets: pd.DataFrame | None = None,
+                       unscheduled: pd.DataFrame | None = None) -> list[str]:
     """Write ``night-YYYY-MM-DD.txt`` and ``.html`` for every night into ``out_dir``; returns the paths.
 
     With ``targets`` (the catalogue's target table), a magnitude column of the catalogue is shown
@@ -371,7 +398,7 @@ def write_night_sheets(out_dir, schedule: pd.DataFrame, nights: pd.DataFrame, tz
         blocks = schedule[schedule["night"].astype(str) == label]
         for ext, build in (("txt", night_sheet_text), ("html", night_sheet_html)):
             path = os.path.join(os.fspath(out_dir), f"night-{label}.{ext}")
-            text = build(night, blocks, tz, site_name)
+            text = build(night, blocks, tz, site_name, missed_lines(unscheduled, label))
             with atomic_write(path) as fh:
                 fh.write(text)
             paths.append(path)
@@ -394,15 +421,29 @@ def write_schedule_csv(path, schedule: pd.DataFrame, tz: str | None = None):
     return path
 
 
-def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None) -> str:
-    """Terminal summary: one line per night (darkness, number of blocks, the blocks), then totals."""
+def idle_dark_h(night, blocks: pd.DataFrame) -> float:
+    """Hours of the night's darkness that no block uses (0 without darkness)."""
+    d0, d1 = night["dark_start_jd_utc"], night["dark_end_jd_utc"]
+    if not (np.isfinite(d0) and np.isfinite(d1)):
+        return 0.0
+    used = np.clip(np.minimum(blocks["end_jd_utc"].to_numpy(float), d1) - np.maximum(blocks["start_jd_utc"].to_numpy(float), d0),
+                   0.0, None).sum() if len(blocks) else 0.0
+    return max(0.0, (d1 - d0 - used) * 24.0)
+
+
+def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None, report=None) -> str:
+    """Terminal summary: one line per night (darkness, idle dark hours, the blocks), then totals.
+
+    ``report`` (the solver's :class:`~planner.scheduling.solver.SolveReport`) adds how the
+    blocks were chosen: proven optimal, or the gap to the solver's bound.
+    """
     lines = []
     for _, night in nights.iterrows():
         label = str(night["night"])
         here = schedule[schedule["night"].astype(str) == label].sort_values("start_jd_utc", kind="stable")
         dark = np.isfinite(night["dark_start_jd_utc"]) and np.isfinite(night["dark_end_jd_utc"])
         dark_text = (f"dark {_clock(night['dark_start_jd_utc'], tz)}-{_clock(night['dark_end_jd_utc'], tz)}"
-                     if dark else f"no {darkness_of(night)[0]}")
+                     f" ({idle_dark_h(night, here):.1f} h idle)" if dark else f"no {darkness_of(night)[0]}")
         if here.empty:
             lines.append(f"{label}  {dark_text}  nothing scheduled")
             continue
@@ -417,4 +458,6 @@ def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | No
     else:
         lines.append(f"{count(n, 'block')}, {count(schedule['target'].nunique(), 'target')}, "
                      f"{count(len(nights), 'night')}; times in {clock}.")
+    if report is not None and report.n_options:
+        lines.append(f"Choice of blocks: {report.describe()}.")
     return "\n".join(lines) + "\n"

@@ -18,7 +18,6 @@ import html
 import os
 
 import numpy as np
-import pandas as pd
 
 from ..scheduling.blocks import MIN_PER_DAY
 from ..timescales import clock
@@ -88,69 +87,28 @@ def _table(header, rows):
     return out
 
 
-def unscheduled_table(plan) -> pd.DataFrame:
-    """Event windows of the nights that got no block, with the reason, one row each.
+def _unscheduled_lines(plan) -> list[str]:
+    """The table of what got no block (:mod:`planner.scheduling.losses`): one row per target,
+    event and reason.
 
-    Columns ``night``, ``target``, ``event``, ``label``, ``event_jd_utc``, ``observable_fraction``,
-    ``reason``. A plan that carries its own ``unscheduled`` table (with a ``reason`` column) is
-    shown as it is; otherwise an event counts as scheduled when a block of its target and event
-    holds its moment, and the reason is "not observable" for a window with no observable part
-    (darkness, altitude, hour angle, Moon), else "not chosen" (another block of that night scored
-    more, or the week's repeat rule kept another night's).
-    """
-    own = getattr(plan, "unscheduled", None)
-    if isinstance(own, pd.DataFrame) and "reason" in own:
-        return own
-    ev, sched = plan.events, plan.schedule
-    cols = ["night", "target", "event", "label", "event_jd_utc", "observable_fraction", "reason"]
-    if ev is None or ev.empty:
-        return pd.DataFrame(columns=cols)
-    done = np.zeros(len(ev), bool)
-    if len(sched):
-        fixed = sched[sched["kind"] == "fixed"]
-        for ti, event, s, en in zip(fixed["target_index"].astype(int), fixed["event"].astype(str),
-                                    fixed["start_jd_utc"], fixed["end_jd_utc"]):
-            done |= ((ev["target_index"].to_numpy(int) == ti) & (ev["event"].astype(str).to_numpy() == event)
-                     & (ev["jd_utc"].to_numpy(float) >= s - 1.0) & (ev["jd_utc"].to_numpy(float) <= en + 1.0)
-                     & (ev["window_end_jd_utc"].to_numpy(float) >= s)
-                     & (ev["window_start_jd_utc"].to_numpy(float) <= en))
-    rest = ev[~done]
-    frac = rest["observable_fraction"].to_numpy(float)
-    reason = np.where(frac > 0, "not chosen: another block of the night scored more, or the repeat rule "
-                      "kept another night's", "not observable: no part of the window is dark and inside "
-                      "the site's limits")
-    names = plan.targets["name"].to_numpy(object)[rest["target_index"].to_numpy(int)]
-    return pd.DataFrame({"night": rest["night"].astype(str).to_numpy(), "target": names,
-                         "event": rest["event"].astype(str).to_numpy(), "label": rest["label"].to_numpy(object),
-                         "event_jd_utc": rest["jd_utc"].to_numpy(float),
-                         "observable_fraction": frac, "reason": reason}, columns=cols)
-
-
-def _unscheduled_lines(plan, tz) -> list[str]:
-    """The table of what got no block: one row per target, event and reason.
-
-    Each row counts the windows, names the nights (first to last) and gives the best observable
-    fraction among them, so a catalogue of thousands of targets still gives a page of a length
-    one can read; the targets that never rise come last.
+    Each row counts the requests, names the nights (first to last), gives the best value a
+    candidate block of them had and the reason in words (the first one's, for blocks lost to
+    others), so a catalogue of thousands of targets still gives a page one can read.
     """
     e = html.escape
-    un = unscheduled_table(plan)
+    un = plan.unscheduled
+    if un is None or un.empty:
+        return ["<p>Every request of the nights got a block.</p>"]
+    un = un.assign(what=[str(ev).replace("_", " ") for ev in un["event"]])
+    groups = un.groupby(["target", "what", "reason_code"], sort=True).agg(
+        requests=("night", "size"), first=("night", "min"), last=("night", "max"),
+        best=("best_value", "max"), reason=("reason", "first"))
     rows = []
-    if len(un):
-        un = un.assign(what=[event_words(ev, lab) for ev, lab in zip(un["event"], un.get("label", un["event"]))])
-        groups = un.groupby(["target", "what", "reason"], sort=True).agg(
-            windows=("night", "size"), first=("night", "min"), last=("night", "max"),
-            best=("observable_fraction", "max"))
-        g = groups.reset_index()
-        for t, what, why, k, lo, hi, best in zip(g["target"], g["what"], g["reason"], g["windows"], g["first"],
-                                                 g["last"], g["best"]):
-            rows.append([e(str(t)), e(what), f'<td class="num">{k}</td>',
-                         e(lo if lo == hi else f"{lo} to {hi}"), f'<td class="num">{e(_percent(best))}</td>', e(str(why))])
-    for t, r in zip(plan.never_rising["target"], plan.never_rising["reason"]):
-        rows.append([e(str(t)), "every event", "", "", '<td class="num">0%</td>', e(f"never rises high enough: {r}")])
-    if not rows:
-        return ["<p>Every event window of the nights got a block.</p>"]
-    return _table(["target", "event", "windows", "nights", "best observable", "reason"], rows)
+    for t, what, _code, k, lo, hi, best, why in groups.reset_index().itertuples(index=False):
+        value = f"{best:.0f}" if np.isfinite(best) else ""
+        rows.append([e(str(t)), e(what), f'<td class="num">{k}</td>', e(lo if lo == hi else f"{lo} to {hi}"),
+                     f'<td class="num">{e(value)}</td>', e(str(why))])
+    return _table(["target", "event", "requests", "nights", "best value", "reason"], rows)
 
 
 def index_html(plan, files) -> str:
@@ -194,7 +152,7 @@ def index_html(plan, files) -> str:
         rows.append(cells)
     body += _table(header, rows) if rows else ["<p>No block could be scheduled in these nights.</p>"]
     body.append('<h2 id="unscheduled">Not scheduled, and why</h2>')
-    body += _unscheduled_lines(plan, tz)
+    body += _unscheduled_lines(plan)
     body.append('<h2 id="targets">Targets with blocks</h2><ul>')
     for nm in sorted(set(sched["target"].astype(str))) if len(sched) else []:
         body.append(f'<li><a href="{e(page_name(plan, nm))}">{e(nm)}</a></li>')

@@ -17,7 +17,12 @@ from ..sky.night import night_of
 from ..timescales.clock import date_to_jd_utc
 from .score import DEFAULT_WEIGHTS, SCORE_COLUMNS, ScoreWeights
 
-REPEAT_RULES = ("every", "first", "best")
+#: Week rules of a target's repeated event: every instance; once in the week on its best night;
+#: the first night that has one.
+WEEK_RULES = ("every", "best", "first")
+#: Seconds the solver may spend per night of the plan, unless told otherwise [our choice: a
+#: week of 3,000 targets solves in well under this, see bench/bench_plan.py].
+DEFAULT_TIME_LIMIT_S_PER_NIGHT = 3.0
 FIXED, FLEXIBLE = "fixed", "flexible"
 MIN_PER_DAY = 1440.0
 #: Samples of altitude through a block (start, interior, end) for airmass and the notes.
@@ -50,7 +55,9 @@ class ScheduleOptions:
     """Settings of :func:`plan_week`.
 
     ``overhead_min``: setup/slew time (minutes) required between consecutive blocks.
-    ``repeats``: week rule for repeated target/events, one of :data:`REPEAT_RULES`.
+    ``repeats``: the default week rule of a target's repeated event, one of :data:`WEEK_RULES`
+    (a target's ``week_rule`` column overrides it). ``time_limit_s_per_night``: the solver's
+    time limit is this times the number of nights; the best plan found by then is used.
     ``min_block_min``: fixed candidates with a shorter observable stretch are dropped.
     ``twilight_margin_min``: a block starting or ending this close to the edges of the site's
     darkness gets a note. ``flex_step_min``: step of the search for a flexible visit's start.
@@ -64,11 +71,15 @@ class ScheduleOptions:
     min_block_min: float = 10.0
     twilight_margin_min: float = 30.0
     flex_step_min: float = 5.0
+    time_limit_s_per_night: float = DEFAULT_TIME_LIMIT_S_PER_NIGHT
     weights: ScoreWeights = field(default_factory=lambda: DEFAULT_WEIGHTS)
 
     def __post_init__(self):
-        if self.repeats not in REPEAT_RULES:
-            raise PeriplanError(f"repeat rule {self.repeats!r} is unknown; expected one of {', '.join(REPEAT_RULES)}")
+        if self.repeats not in WEEK_RULES:
+            raise PeriplanError(f"week rule {self.repeats!r} is unknown; expected one of {', '.join(WEEK_RULES)}")
+        if not (np.isfinite(self.time_limit_s_per_night) and self.time_limit_s_per_night > 0):
+            raise PeriplanError(f"the solver's time limit must be a positive number of seconds; "
+                                f"got {self.time_limit_s_per_night!r}")
         for name in ("overhead_min", "min_block_min", "twilight_margin_min"):
             v = getattr(self, name)
             if not (np.isfinite(v) and v >= 0):

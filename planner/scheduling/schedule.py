@@ -1,43 +1,28 @@
-"""The week's plan: request table -> non-overlapping blocks per night, one telescope.
+"""The week's plan: request table -> the best non-overlapping blocks of the week, explained.
 
 :func:`plan_week` is the scheduler. It takes the visible-event table, the observable intervals
 and the night table (all times Julian dates in UTC, plain floats), builds the request table
 (:mod:`planner.scheduling.requests`, or takes the caller's) and returns the schedule table
-(:data:`SCHEDULE_COLUMNS`, one row per block, sorted by night and start time).
+(:data:`SCHEDULE_COLUMNS`, one row per block, sorted by night and start time);
+:func:`plan_week_report` also returns the solver's report.
 
-Method, per night:
+Method:
 
 1. Candidates: every request candidate (each observable stretch of a series window worth a
-   block, each RV visit or sequence slot at its proposed start, each merged candidate) is one
-   block, scored by :func:`planner.scheduling.score.score_components`; it belongs to the night
-   that holds its middle (a wide window can reach into the night before or after the event's).
-2. Exact choice of blocks: weighted interval scheduling (:func:`best_intervals`), the
-   O(n log n) dynamic programme over blocks sorted by end time with a binary search for the last
-   compatible block (Kleinberg & Tardos, *Algorithm Design*, 2006, sec. 6.1). Two blocks are
-   compatible when the later one starts at least the setup/slew overhead after the earlier one
-   ends; tests/test_schedule.py checks the programme against brute force over all subsets.
-   A movable visit may start anywhere in its range, which the programme cannot express: each
-   night is solved twice, with every visit at its proposed start, and with the fixed blocks
-   alone and then the visits fitted around them (best value first, each at the free start
-   nearest its proposed one), and the better total is kept. A request is served at most
-   once across the week (:func:`planner.scheduling.week.choose_fixed`).
-3. Movable visits left out are given a second chance: highest value first, each is moved
-   inside its allowed start range to the free time nearest its proposed start (greedy).
-4. Monitor visits (targets with ``visit_h``) fill the gaps greedily: repeatedly place, among all
-   monitor targets that still fit, the visit with the highest score (placement at the lowest mean
-   airmass inside its free stretch), with the overhead either side, at most one visit per target
-   per night, starts at least ``visit_gap_h`` after the target's previous visit, and no visit for
-   a target that already has a block that night. Greedy, so not optimal; stated as such.
+   block, each RV visit or sequence slot with its allowed starts, each merged candidate) is
+   scored by :func:`planner.scheduling.score.score_components`; it belongs to the night that
+   holds its middle (a wide window can reach into the night before or after the event's).
+   Monitor visits (targets with ``visit_h``) are candidates at starts spread over each night's
+   observable stretch (:mod:`planner.scheduling.monitor`).
+2. One exact choice for the whole week (:mod:`planner.scheduling.choose`): a 0/1 programme
+   solved by HiGHS, with no overlap (overhead included), each request once, the week rule of
+   each target's event, one monitor or RV visit of a target a night and the monitor gap across
+   nights; its total value is the largest possible, or within the reported gap of the solver's
+   bound when the time limit stops it (tests/test_schedule.py compares with exhaustive search).
+3. Notes per block in words (partial coverage, movable visit, meridian, twilight, Sun).
 
-Across the week the repeat rule (:data:`REPEAT_RULES`) says what to do with several instances of
-the same target/event: ``"every"`` keeps them all (nights are independent); ``"first"`` keeps the
-earliest night's and drops the others before later nights are scheduled; ``"best"`` keeps the
-best-scored scheduled instance and re-plans the nights that lose one, until each target/event is
-scheduled at most once (each night stays optimal for what is left; the week as a whole is a
-heuristic, and in a rare case re-planning can leave a target/event with no instance).
-
-Deterministic: ties are broken by a fixed order (end, start, target index, event name, night), so
-the same input gives the same plan.
+Deterministic: the same input gives the same plan (the solver is run single-threaded on a
+model built in a fixed order).
 """
 
 from __future__ import annotations
@@ -52,15 +37,14 @@ from ..timescales.clock import hhmm_utc
 from .blocks import (AVAILABILITY_COLUMNS, FLEXIBLE, MIN_PER_DAY, NIGHT_COLUMNS, SCHEDULE_COLUMNS, VISIBLE_COLUMNS,
                      ScheduleOptions, night_index, require_columns)
 from .candidates import candidates_from_requests, fixed_candidates, with_altitudes
-from .flexible import fill_flexible
-from .intervals import best_intervals
+from .choose import choose_blocks
+from .monitor import monitor_candidates
 from .requests import RequestSettings, build_requests, monitor_requests
-from .week import choose_fixed
 
 log = logging.getLogger(__name__)
 
 __all__ = ["AVAILABILITY_COLUMNS", "NIGHT_COLUMNS", "SCHEDULE_COLUMNS", "VISIBLE_COLUMNS", "ScheduleOptions",
-           "best_intervals", "fixed_candidates", "plan_week"]
+           "fixed_candidates", "plan_week", "plan_week_report"]
 
 
 def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOptions) -> str:
@@ -113,8 +97,8 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
     visible : visible-event table (:data:`VISIBLE_COLUMNS`)
     availability : observable intervals of the targets with ``visit_h`` (:data:`AVAILABILITY_COLUMNS`)
         or None: where their monitor visits may go
-    targets : catalogue table (:func:`planner.catalogue.read_catalogue`), indexed 0..n-1 in the
-        order ``target_index`` refers to
+    targets : catalogue table (:func:`planner.read_catalogue`), indexed 0..n-1 in the order
+        ``target_index`` refers to
     nights : night table (:data:`NIGHT_COLUMNS`), one row per night; its order is the week's order
     altitude_deg, moon_sep_deg : optional functions ``f(target_index, jd_utc) -> deg`` (arrays of
         one shape in, that shape out) giving the target's altitude and its Moon separation
@@ -131,6 +115,15 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
     request kind; ``covers``/``not_covered`` the parts of a series. ``notes`` is a
     ``"; "``-joined list of plain-language notes. An empty table (right columns) when nothing fits.
     """
+    return plan_week_report(visible, availability, targets, nights, altitude_deg, moon_sep_deg, options,
+                            requests, intervals)[0]
+
+
+def plan_week_report(visible, availability, targets, nights, altitude_deg=None, moon_sep_deg=None,
+                     options: ScheduleOptions = ScheduleOptions(), requests=None, intervals=None):
+    """(schedule, candidates, report): :func:`plan_week`'s table, every candidate block it
+    chose from (requests and monitor visits, each with its ``night``) and the solver's
+    :class:`~planner.scheduling.solver.SolveReport` (optimal, or the gap to the bound)."""
     require_columns(nights, NIGHT_COLUMNS, "night")
     require_columns(visible, VISIBLE_COLUMNS, "visible-event")
     if availability is not None:
@@ -144,16 +137,14 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
     # than the event's: a block belongs to the night that holds its middle, so nights never overlap
     held = night_index(0.5 * (cands["start_jd_utc"] + cands["end_jd_utc"]).to_numpy(float), nights)
     cands["night"] = np.where(held >= 0, np.asarray(order + [""], dtype=object)[held], "")
-    in_week = cands["night"].isin(order).to_numpy()
-    cands = cands[in_week].reset_index(drop=True)
-    mask = choose_fixed(cands, order, options.overhead_min / MIN_PER_DAY, options.repeats)
-    chosen, alt_fixed = with_altitudes(cands[mask], altitude_deg)
-    alts = list(alt_fixed)
-    flex = fill_flexible(monitor_requests(availability, targets), targets, nights, chosen, altitude_deg,
-                         moon_sep_deg, options)
-    alts += [r.pop("_alt") for r in flex]
-    if flex:
-        chosen = pd.concat([chosen, pd.DataFrame(flex)[list(SCHEDULE_COLUMNS)]], ignore_index=True)
+    cands = cands[cands["night"].isin(order).to_numpy()].reset_index(drop=True)
+    monitors, alt_mon = monitor_candidates(monitor_requests(availability, targets), targets, nights, options,
+                                           altitude_deg, moon_sep_deg)
+    blocks, visits, report = choose_blocks(cands, monitors, targets, order, options.overhead_min / MIN_PER_DAY,
+                                           options.repeats, options.time_limit_s_per_night * max(len(order), 1))
+    chosen, alt_fixed = with_altitudes(blocks, altitude_deg)
+    alts = list(alt_fixed) + list(alt_mon[visits.index.to_numpy()])
+    chosen = pd.concat([chosen, visits[list(SCHEDULE_COLUMNS)]], ignore_index=True) if len(visits) else chosen
     night_rows = {str(r["night"]): r for _, r in nights.iterrows()}
     chosen["notes"] = [
         _notes(b, np.asarray(a, float), night_rows.get(str(b["night"])), options)
@@ -164,6 +155,7 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
     chosen = chosen.sort_values(["_n", "start_jd_utc", "target_index"], kind="stable").drop(columns="_n")
     chosen = chosen.reset_index(drop=True)
     chosen["target_index"] = chosen["target_index"].astype(np.int64)
-    log.info("scheduled %d blocks (%d of %d candidates, %d monitor visits) over %d nights",
-             len(chosen), int(mask.sum()), len(cands), len(flex), len(order))
-    return chosen[list(SCHEDULE_COLUMNS)]
+    log.info("scheduled %d blocks (%d of %d request candidates, %d monitor visits) over %d nights: %s",
+             len(chosen), len(blocks), len(cands), len(visits), len(order), report.describe())
+    everything = pd.concat([cands, monitors.drop(columns="gap_d")], ignore_index=True) if len(monitors) else cands
+    return chosen[list(SCHEDULE_COLUMNS)], everything, report

@@ -12,11 +12,14 @@ EXAMPLES = """\
 examples:
   periplan plan targets.csv --site site.toml --start 2026-12-07 --nights 7 --out plan-week50
   periplan plan targets.csv --site site.toml --out tonight --nights 1 --overhead-min 5
-  periplan plan targets.csv --site site.toml --start 2026-12-07 --repeats first --out week --force
+  periplan plan targets.csv --site site.toml --start 2026-12-07 --week-rule best --out week --force
+  periplan plan targets.csv --site site.toml --nights 14 --seconds-per-night 10 --out fortnight
 
 Writes into --out: schedule.csv, night-DATE.txt and .html (printable lists), altitude-DATE.png,
-week.png, rv-TARGET.png, plan.ics, summary.txt and plan-files.txt (the list of the plan's own
-files: --force replaces exactly these and never deletes any other file). Never point a telescope
+week.png, rv-TARGET.png, plan.ics, summary.txt, unscheduled.csv (every request left out, and
+why), schedule-info.json (proven optimal, or the gap to the solver's bound), log-template.csv
+(to fill in at the telescope) and plan-files.txt (the list of the plan's own files: --force
+replaces exactly these and never deletes any other file). Never point a telescope
 at or near the Sun; the observatory's own safety rules and local regulations come first.
 """
 
@@ -44,9 +47,15 @@ def add_plan_options(p, need_inputs: bool = True):
                    help="widen each window by K times its 1-sigma timing uncertainty (default 2)")
     p.add_argument("--overhead-min", type=float, default=None, metavar="MIN",
                    help="setup and slew time between blocks, minutes (default 10)")
-    p.add_argument("--repeats", choices=("every", "first", "best"), default="every",
-                   help="the same target/event on several nights: schedule every night's (default), "
-                        "only the first night's, or only the best-scored one")
+    p.add_argument("--week-rule", choices=("every", "best", "first"), default=None,
+                   help="a target's event on several nights: observe every night's instance (default), once "
+                        "in the week on its best night, or once at the first night that can take it; a "
+                        "target's week_rule column overrides this")
+    p.add_argument("--repeats", choices=("every", "first", "best"), default=None,
+                   help="old name of --week-rule, kept for this release (will be removed)")
+    p.add_argument("--seconds-per-night", type=float, default=None, metavar="S",
+                   help="time limit of the solver, seconds per night of the plan (default 3); the best plan "
+                        "found by then is used and its gap to the solver's bound reported")
 
 
 def register(sub):
@@ -71,8 +80,20 @@ def settings_from(args):
     if args.nights < 1:
         raise PeriplanError(f"--nights must be at least 1; got {args.nights}")
     require_nonnegative(args, "baseline_h", "k_sigma", "overhead_min")
-    sched = dataclasses.replace(base.schedule, repeats=args.repeats,
-                                **({} if args.overhead_min is None else {"overhead_min": args.overhead_min}))
+    if args.week_rule and args.repeats and args.week_rule != args.repeats:
+        raise PeriplanError(f"--week-rule {args.week_rule} and --repeats {args.repeats} disagree; give --week-rule only")
+    if args.repeats and not args.week_rule:
+        print("periplan: note: --repeats is now --week-rule; the old name works for this release only",
+              file=sys.stderr)
+    rule = args.week_rule or args.repeats or base.schedule.repeats
+    changes = {"repeats": rule}
+    if args.overhead_min is not None:
+        changes["overhead_min"] = args.overhead_min
+    if args.seconds_per_night is not None:
+        if not args.seconds_per_night > 0:
+            raise PeriplanError(f"--seconds-per-night must be a positive number of seconds; got {args.seconds_per_night:g}")
+        changes["time_limit_s_per_night"] = args.seconds_per_night
+    sched = dataclasses.replace(base.schedule, **changes)
     return PlanSettings(baseline_h=base.baseline_h if args.baseline_h is None else args.baseline_h,
                         k_sigma=base.k_sigma if args.k_sigma is None else args.k_sigma, schedule=sched)
 
@@ -104,7 +125,7 @@ def run_plan(catalog, site_path, args) -> int:
     first = first_night_for(args.start, site, now=now)
     bar = ProgressBar(len(STAGES) + 1)
     plan = make_plan(targets, site, first, args.nights, settings, progress=bar)
-    summary = sheets.week_summary_text(plan.schedule, plan.nights, tz=site.timezone)
+    summary = sheets.week_summary_text(plan.schedule, plan.nights, tz=site.timezone, report=plan.report)
     bar("writing files")
     paths = plan_folder.write_plan(plan, args.out, force=args.force, summary_text=summary)
     bar.done()

@@ -1,0 +1,89 @@
+"""Candidate blocks -> solver options: every way of serving each request, with its groups.
+
+A fixed candidate (a series stretch) is one option. A movable candidate (an RV visit or a slot of
+an RV sequence, which may start anywhere in [``earliest_start_jd_utc``, ``latest_start_jd_utc``])
+becomes up to :data:`MAX_STARTS` options: its proposed start (the lowest airmass, chosen by the
+request stage) and starts evenly spread over the allowed range. Each later start is worth a
+little less, at most :data:`MOVE_PENALTY` of the value at the far end of the range, so the solver
+keeps the proposed start whenever it is free and moves a visit only to make room. A monitor visit
+of a night is handled the same way over its free stretch (:func:`monitor_options`).
+
+Groups (columns of the options table, see :func:`planner.scheduling.solver.choose_options`):
+``group`` (the request: at most one of its options), ``week_key`` (target, event and visit
+slot of a sequence, for the week rules), ``monitor_night`` (one monitor visit of a target a night) and ``spacing``/``gap_d``
+(the minimum gap between a monitor target's visits, across nights).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from .blocks import WEEK_RULES
+
+#: Most start times tried for one movable visit (the proposed one included).
+MAX_STARTS = 7
+#: Value given up by a visit moved to the far end of its allowed range: 0.1 per cent, far below
+#: the score's own resolution, so it only breaks ties towards the lowest airmass.
+MOVE_PENALTY = 1e-3
+MOVABLE = ("rv_visit", "rv_sequence")
+
+
+def _spread(proposed, lo, hi, length):
+    """Start times of one movable visit: the proposed one first, then an even spread of the range."""
+    if not (np.isfinite(lo) and np.isfinite(hi) and hi > lo):
+        return np.array([proposed])
+    grid = np.linspace(lo, hi, MAX_STARTS - 1) if MAX_STARTS > 1 else np.zeros(0)
+    grid = grid[np.abs(grid - proposed) > 0.25 * length]  # a start barely moved adds nothing
+    return np.concatenate([[proposed], grid])
+
+
+def candidate_options(cands: pd.DataFrame, telescope: str = "telescope") -> pd.DataFrame:
+    """Options (one row per start) of the candidate blocks; ``candidate`` is the row they come from.
+
+    ``cands`` has the schedule's columns (:data:`planner.scheduling.blocks.SCHEDULE_COLUMNS`):
+    ``start_jd_utc``, ``end_jd_utc``, ``score`` (the value), ``group``, ``request``,
+    ``earliest_start_jd_utc``, ``latest_start_jd_utc``, ``target_index``, ``event``, ``night``;
+    a ``site`` column, when present, names the telescope.
+    """
+    c = cands.reset_index(drop=True)
+    start = c["start_jd_utc"].to_numpy(float)
+    length = c["end_jd_utc"].to_numpy(float) - start
+    value = c["score"].to_numpy(float)
+    movable = c["request"].isin(MOVABLE).to_numpy() if "request" in c else np.zeros(len(c), bool)
+    lo = c["earliest_start_jd_utc"].to_numpy(float) if "earliest_start_jd_utc" in c else np.full(len(c), np.nan)
+    hi = c["latest_start_jd_utc"].to_numpy(float) if "latest_start_jd_utc" in c else np.full(len(c), np.nan)
+    rows, starts, values = [], [], []
+    for k in range(len(c)):
+        s = _spread(start[k], lo[k], hi[k], length[k]) if movable[k] else np.array([start[k]])
+        span = max(hi[k] - lo[k], 1e-9) if movable[k] and np.isfinite(hi[k] - lo[k]) else 1.0
+        rows.append(np.full(s.size, k))
+        starts.append(s)
+        values.append(value[k] * (1.0 - MOVE_PENALTY * np.abs(s - start[k]) / span))
+    k = np.concatenate(rows) if rows else np.zeros(0, int)
+    s = np.concatenate(starts) if starts else np.zeros(0)
+    group = c["group"].astype(str).to_numpy(object) if "group" in c else np.arange(len(c)).astype(str)
+    tel = c["site"].astype(str).to_numpy(object) if "site" in c else np.full(len(c), telescope, dtype=object)
+    return pd.DataFrame({
+        "candidate": k.astype(np.int64), "telescope": tel[k], "start_jd_utc": s, "end_jd_utc": s + length[k],
+        "value": np.concatenate(values) if values else np.zeros(0), "group": "g" + group[k],
+        "week_key": (c["target_index"].astype(str) + "|" + c["event"].astype(str) + "|"
+                     + (c["slot"].astype(str) if "slot" in c else "0")).to_numpy(object)[k],
+        "night": c["night"].astype(str).to_numpy(object)[k],
+    })
+
+
+def apply_week_rule(options: pd.DataFrame, rule: str, nights_order) -> tuple[pd.DataFrame, tuple]:
+    """(options kept, exclusive group columns) for the week rule (:data:`WEEK_RULES`).
+
+    ``every``: each request at most once. ``best``: also each target's event at most once in the
+    week, on whichever night the solver finds best. ``first``: at most once too; the caller
+    makes earlier nights worth a little more (:data:`planner.scheduling.choose.FIRST_NIGHT_FACTOR`).
+    """
+    if rule not in WEEK_RULES:
+        from ..errors import PeriplanError
+
+        raise PeriplanError(f"week rule {rule!r} is unknown; expected one of {', '.join(WEEK_RULES)}")
+    if rule == "every" or options.empty:
+        return options, ("group",)
+    return options, ("group", "week_key")
