@@ -28,6 +28,7 @@ __version__ = "0.1.0"
 _API = {
     "read_catalogue": "planner.inputs.catalogue",
     "read_site": "planner.inputs.site",
+    "read_log": "planner.inputs.observation_log",
     "predict_events": "planner.api",
     "night_table": "planner.sky.night",
     "display_frame": "planner.outputs.tables",

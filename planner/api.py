@@ -33,14 +33,15 @@ def predict_events(targets: pd.DataFrame, start, end, kinds=None) -> pd.DataFram
 
 
 def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int, settings: PlanSettings | None = None,
-              *, baseline=None, k_sigma=None, overhead=None, repeats=None, progress=None):
+              *, baseline=None, k_sigma=None, overhead=None, repeats=None, progress=None, log=None):
     """The :class:`~planner.pipeline.Plan` of ``n_nights`` nights from ``first_night``.
 
     ``first_night`` is a ``datetime.date`` (or ``YYYY-MM-DD``): the local date of the first
     evening. ``baseline`` (hours, or a time Quantity) is the out-of-event time wanted either side,
     ``k_sigma`` the widening of each window in 1-sigma timing uncertainties, ``overhead``
     (minutes, or a time Quantity) the setup/slew time between blocks, ``repeats`` the week rule;
-    each given one replaces the value in ``settings`` (default :class:`PlanSettings`).
+    each given one replaces the value in ``settings`` (default :class:`PlanSettings`). ``log``
+    is an observation log (:func:`planner.read_log`): what it says was observed is planned around.
     """
     settings = settings or PlanSettings()
     sched = settings.schedule
@@ -52,4 +53,4 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int, settings:
         settings, schedule=sched,
         **({} if baseline is None else {"baseline_h": value_in(baseline, "h", "baseline")}),
         **({} if k_sigma is None else {"k_sigma": float(k_sigma)}))
-    return _make_plan(targets, site, first_night, n_nights, settings, progress=progress)
+    return _make_plan(targets, site, first_night, n_nights, settings, progress=progress, log=log)

@@ -24,7 +24,7 @@ from .sky import night as night_mod
 from .sky import positions, windows
 from .timescales.epochs import utc_to_tdb_jd
 
-log = logging.getLogger(__name__)
+logger = logging.getLogger(__name__)
 
 #: Stages reported to a progress callback, in order.
 STAGES = ("nights", "events", "intervals", "visibility", "requests", "schedule")
@@ -91,6 +91,22 @@ def moon_separation_deg(targets, tracks, target_index, jd_utc):
     return positions.separation_deg(vec, tracks.moon_vector(jd))
 
 
+def _in_nights(visible: pd.DataFrame, nights: pd.DataFrame) -> pd.DataFrame:
+    """The events whose window reaches into the nights; one whose moment falls just outside them
+    (a long transit, a wide timing uncertainty) is labelled with the night its window reaches."""
+    lo, hi = float(nights["noon_jd_utc"].min()), float(nights["next_noon_jd_utc"].max())
+    w0, w1 = visible["window_start_jd_utc"].to_numpy(float), visible["window_end_jd_utc"].to_numpy(float)
+    reaches = (w1 > lo) & (w0 < hi)
+    out = visible[visible["night"].notna().to_numpy() | reaches].reset_index(drop=True)
+    outside = out["night"].isna().to_numpy()
+    if outside.any():
+        inside = np.clip(np.where(out["jd_utc"].to_numpy(float)[outside] < lo, out["window_end_jd_utc"].to_numpy(float)[outside],
+                                  out["window_start_jd_utc"].to_numpy(float)[outside]), lo, hi - 1e-9)
+        labels = nights["night"].to_numpy(object)[night_mod.night_of(inside, nights)]
+        out.loc[outside, "night"] = labels
+    return out
+
+
 def first_night_for(start, site, now: dt.datetime | None = None) -> dt.date:
     """The first night's label: ``start`` as a date, or by default the night still to observe.
 
@@ -116,17 +132,19 @@ def first_night_for(start, site, now: dt.datetime | None = None) -> dt.date:
 
 
 def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
-              settings: PlanSettings = PlanSettings(), progress=None) -> Plan:
+              settings: PlanSettings = PlanSettings(), progress=None, log: pd.DataFrame | None = None) -> Plan:
     """The week's :class:`Plan` for ``n_nights`` nights from ``first_night`` (a date label).
 
     ``targets`` from :func:`planner.catalogue.read_catalogue`, ``site`` from
     :func:`planner.site.read_site`. ``progress``, when given, is called with each name of
-    :data:`STAGES` as that stage starts. Deterministic: the same inputs give the same plan.
+    :data:`STAGES` as that stage starts. ``log``, an observation log
+    (:func:`planner.inputs.observation_log.read_log`), takes out what was observed and adapts the
+    rest (:mod:`planner.scheduling.log_requests`). Deterministic: the same inputs give the same plan.
     """
     from astropy.time import Time
 
     def stage(name):
-        log.info("stage: %s", name)
+        logger.info("stage: %s", name)
         if progress is not None:
             progress(name)
 
@@ -147,7 +165,7 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
     stage("visibility")
     visible = windows.event_visibility(events, targets, site, nights, baseline_h=settings.baseline_h,
                                        k_sigma=settings.k_sigma, tracks=tracks, intervals=intervals)
-    visible = visible[visible["night"].notna()].reset_index(drop=True)
+    visible = _in_nights(visible, nights)
 
     plan = Plan(site=site, targets=targets, nights=nights, events=visible, intervals=intervals,
                 requests=pd.DataFrame(), schedule=pd.DataFrame(), never_rising=windows.never_rising(targets, site),
@@ -160,7 +178,7 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
     stage("schedule")
     plan.schedule, plan.candidates, plan.report = plan_week_report(
         visible, intervals, targets, nights, altitude_deg=plan.altitude_deg, moon_sep_deg=plan.moon_sep_deg,
-        options=settings.schedule, requests=plan.requests)
+        options=settings.schedule, requests=plan.requests, log=log)
     plan.unscheduled = unscheduled(visible, plan.candidates, plan.schedule, targets, site, nights, tracks,
                                    plan.never_rising, settings.schedule.overhead_min / 1440.0, settings.schedule.repeats)
     return plan

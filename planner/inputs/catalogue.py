@@ -87,6 +87,7 @@ import pandas as pd
 from ..errors import InputError, InputErrors
 from . import binary_checks
 from . import catalogue_checks as checks
+from .campaign_checks import check_campaign
 from .catalogue_checks import EPOCH_COLUMNS, parse_angle
 from .textfile import decode_text, read_bytes
 
@@ -102,10 +103,10 @@ NUMERIC_COLUMNS = (
     "period_d", "period_err_d", "e", "e_err", "omega_deg", "omega_err_deg", "tp", "tc", "t0",
     "tp_err_d", "tc_err_d", "t0_err_d", "time_offset_d", "k_ms", "gamma_ms", "priority",
     "duration_h", "a_rstar", "inc_deg", "b", "rp_rstar", "a_au", "mass1_msun", "mass2_msun",
-    "visit_h", "visit_gap_h", "rv_fraction_k", "rv_visits", "rv_gap_h",
+    "visit_h", "visit_gap_h", "rv_fraction_k", "rv_visits", "rv_gap_h", "phase_bins",
 ) + binary_checks.NUMERIC_COLUMNS
 TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes", "observe",
-                "full_coverage") + binary_checks.TEXT_COLUMNS
+                "full_coverage", "week_rule", "campaign_events") + binary_checks.TEXT_COLUMNS
 KNOWN_COLUMNS = TEXT_COLUMNS + NUMERIC_COLUMNS
 
 OUTPUT_COLUMNS = (
@@ -113,7 +114,7 @@ OUTPUT_COLUMNS = (
     "omega_deg", "omega_err_deg", "epoch_kind", "epoch_bjd_tdb", "epoch_err_d", "tp_bjd_tdb",
     "time_system", "k_ms", "gamma_ms", "priority", "events", "duration_h", "a_rstar", "inc_deg",
     "rp_rstar", "label", "visit_h", "visit_gap_h", "events_given", "observe", "rv_fraction_k", "rv_visits",
-    "rv_gap_h", "full_coverage",
+    "rv_gap_h", "full_coverage", "week_rule", "phase_bins", "campaign_events",
 ) + BINARY_COLUMNS
 
 
@@ -381,6 +382,7 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
     events, labels = checks.check_events(cells, linear, e, rv=np.isfinite(observing["k_ms"]) & (observing["k_ms"] > 0),
                                          eclipse=eclipse)
     requests = checks.check_requests(cells, linear, duration, a_rstar, observing["k_ms"])
+    campaign = check_campaign(cells)
 
     tp = np.where(epoch_kind == "tc", np.nan, epoch_bjd)
     orbit_tc = (epoch_kind == "tc") & ~linear & np.isfinite(e) & np.isfinite(omega)
@@ -406,7 +408,7 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
         "epoch_kind": epoch_kind.astype(str), "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
         "tp_bjd_tdb": tp, "time_system": system, "events": events, "duration_h": duration,
         "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing, **binary,
-        "events_given": cells.given("events"), **requests,
+        "events_given": cells.given("events"), **requests, **campaign,
     }, columns=list(OUTPUT_COLUMNS))
     if (kind2 != "").any() and not cells.errors:
         from ..orbits.binary_events import epoch_tension_sigma

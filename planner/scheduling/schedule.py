@@ -38,10 +38,11 @@ from .blocks import (AVAILABILITY_COLUMNS, FLEXIBLE, MIN_PER_DAY, NIGHT_COLUMNS,
                      ScheduleOptions, night_index, require_columns)
 from .candidates import candidates_from_requests, fixed_candidates, with_altitudes
 from .choose import choose_blocks
+from .log_requests import apply_log, phase_candidates
 from .monitor import monitor_candidates
 from .requests import RequestSettings, build_requests, monitor_requests
 
-log = logging.getLogger(__name__)
+logger = logging.getLogger(__name__)
 
 __all__ = ["AVAILABILITY_COLUMNS", "NIGHT_COLUMNS", "SCHEDULE_COLUMNS", "VISIBLE_COLUMNS", "ScheduleOptions",
            "fixed_candidates", "plan_week", "plan_week_report"]
@@ -120,10 +121,14 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
 
 
 def plan_week_report(visible, availability, targets, nights, altitude_deg=None, moon_sep_deg=None,
-                     options: ScheduleOptions = ScheduleOptions(), requests=None, intervals=None):
+                     options: ScheduleOptions = ScheduleOptions(), requests=None, intervals=None, log=None):
     """(schedule, candidates, report): :func:`plan_week`'s table, every candidate block it
     chose from (requests and monitor visits, each with its ``night``) and the solver's
-    :class:`~planner.scheduling.solver.SolveReport` (optimal, or the gap to the bound)."""
+    :class:`~planner.scheduling.solver.SolveReport` (optimal, or the gap to the bound).
+
+    ``log``, an observation log (:func:`planner.inputs.observation_log.read_log`), changes the
+    requests as :mod:`planner.scheduling.log_requests` says (done events drop out, monitor gaps
+    count from the last visit, empty phase bins become RV visits)."""
     require_columns(nights, NIGHT_COLUMNS, "night")
     require_columns(visible, VISIBLE_COLUMNS, "visible-event")
     if availability is not None:
@@ -140,6 +145,13 @@ def plan_week_report(visible, availability, targets, nights, altitude_deg=None, 
     cands = cands[cands["night"].isin(order).to_numpy()].reset_index(drop=True)
     monitors, alt_mon = monitor_candidates(monitor_requests(availability, targets), targets, nights, options,
                                            altitude_deg, moon_sep_deg)
+    phase, _ = phase_candidates(log, targets, availability if availability is not None else intervals, nights,
+                                options, altitude_deg, moon_sep_deg)
+    if len(phase):
+        cands = pd.concat([cands, phase[phase["night"].isin(order)]], ignore_index=True)
+    cands, monitors = apply_log(cands, monitors, log, targets, visible)
+    alt_mon = alt_mon[monitors.index.to_numpy()] if len(monitors) else alt_mon[:0]
+    monitors = monitors.reset_index(drop=True)
     blocks, visits, report = choose_blocks(cands, monitors, targets, order, options.overhead_min / MIN_PER_DAY,
                                            options.repeats, options.time_limit_s_per_night * max(len(order), 1))
     chosen, alt_fixed = with_altitudes(blocks, altitude_deg)
@@ -155,7 +167,7 @@ def plan_week_report(visible, availability, targets, nights, altitude_deg=None, 
     chosen = chosen.sort_values(["_n", "start_jd_utc", "target_index"], kind="stable").drop(columns="_n")
     chosen = chosen.reset_index(drop=True)
     chosen["target_index"] = chosen["target_index"].astype(np.int64)
-    log.info("scheduled %d blocks (%d of %d request candidates, %d monitor visits) over %d nights: %s",
+    logger.info("scheduled %d blocks (%d of %d request candidates, %d monitor visits) over %d nights: %s",
              len(chosen), len(blocks), len(cands), len(visits), len(order), report.describe())
     everything = pd.concat([cands, monitors.drop(columns="gap_d")], ignore_index=True) if len(monitors) else cands
     return chosen[list(SCHEDULE_COLUMNS)], everything, report

@@ -53,6 +53,11 @@ def add_plan_options(p, need_inputs: bool = True):
                         "target's week_rule column overrides this")
     p.add_argument("--repeats", choices=("every", "first", "best"), default=None,
                    help="old name of --week-rule, kept for this release (will be removed)")
+    if need_inputs:
+        p.add_argument("--log", metavar="LOG",
+                       help="observation log (CSV, see README): logged-done events drop out, partial ones keep "
+                            "the parts not yet covered, monitor gaps count from the last visit, phase_bins "
+                            "targets get visits in their empty bins")
     p.add_argument("--seconds-per-night", type=float, default=None, metavar="S",
                    help="time limit of the solver, seconds per night of the plan (default 3); the best plan "
                         "found by then is used and its gap to the solver's bound reported")
@@ -121,10 +126,15 @@ def run_plan(catalog, site_path, args) -> int:
         raise PeriplanError(f"--out {exc}") from None
     site = read_site(site_path)
     targets = catalogue.read_catalogue(catalog)
+    log = None
+    if getattr(args, "log", None):
+        from ...inputs.observation_log import read_log
+
+        log = read_log(args.log, targets)
     now = _now()
     first = first_night_for(args.start, site, now=now)
     bar = ProgressBar(len(STAGES) + 1)
-    plan = make_plan(targets, site, first, args.nights, settings, progress=bar)
+    plan = make_plan(targets, site, first, args.nights, settings, progress=bar, log=log)
     summary = sheets.week_summary_text(plan.schedule, plan.nights, tz=site.timezone, report=plan.report)
     bar("writing files")
     paths = plan_folder.write_plan(plan, args.out, force=args.force, summary_text=summary)

@@ -1,0 +1,55 @@
+"""Catalogue columns of a campaign: a target's week rule, phase coverage and events wanted.
+
+=====================  =================================================================
+``week_rule``          ``every`` (each instance of an event), ``best`` (once in the week, on
+                       its best night) or ``first`` (once, as early as possible); empty: the
+                       plan's default week rule
+``phase_bins``         ask for RV phase coverage in this many mean-anomaly bins (a whole
+                       number >= 2): with an observation log, the empty bins become RV visits
+``campaign_events``    events wanted over the whole campaign, ``event:N`` separated by ``;``
+                       (``primary_conjunction:4``): with a log, requests of an event stop
+                       once N of them are logged done
+=====================  =================================================================
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..orbits.geometry import ALL_EVENTS, canonical_event
+from .catalogue_checks import Cells
+
+WEEK_RULE_WORDS = ("every", "best", "first")
+CAMPAIGN_COLUMNS = ("week_rule", "phase_bins", "campaign_events")
+
+
+def check_campaign(cells: Cells) -> dict:
+    """Engine columns ``week_rule`` (text, "" = default), ``phase_bins`` (0 = none) and
+    ``campaign_events`` (a dict event -> count per target)."""
+    rows = cells.rows
+    rules = []
+    for row, text in zip(rows, cells.text("week_rule")):
+        word = text.strip().lower()
+        if word and word not in WEEK_RULE_WORDS:
+            cells.err(row, "week_rule", f"{text!r} is not a week rule; expected every, best or first", text)
+            word = ""
+        rules.append(word)
+    bins = cells.numeric("phase_bins", default=0.0)
+    bad = ~((bins == 0) | ((bins >= 2) & (np.mod(bins, 1.0) == 0)))
+    for row, v in zip(rows[bad], cells.text("phase_bins")[bad]):
+        cells.err(row, "phase_bins", f"{v} is not a whole number of phase bins >= 2", v)
+    wanted = []
+    for row, text in zip(rows, cells.text("campaign_events")):
+        counts = {}
+        for item in (p.strip() for p in text.split(";") if p.strip()):
+            name, _, n = item.partition(":")
+            event = canonical_event(name.strip().lower()) or ""
+            if event not in ALL_EVENTS or not n.strip().isdigit() or int(n) < 1:
+                cells.err(row, "campaign_events", f"{item!r} is not event:count; expected e.g. "
+                          "primary_conjunction:4 or transit:3;periastron:1", text)
+                continue
+            counts[event] = int(n)
+        wanted.append(counts)
+    return {"week_rule": np.asarray(rules, dtype=object),
+            "phase_bins": np.where(bad, 0, bins).astype(np.int64),
+            "campaign_events": np.asarray(wanted + [None], dtype=object)[:-1]}

@@ -1,0 +1,202 @@
+"""What an observation log changes in the week's requests: done events drop out, the rest adapt.
+
+:func:`apply_log` takes the week's candidate blocks (request candidates and monitor visits) and an
+observation log (:func:`planner.inputs.observation_log.read_log`) and returns them as they stand
+after what was observed:
+
+- a series or visit of an event instance logged ``done`` drops out; one logged ``partial`` keeps
+  the candidates that add parts not yet covered, each worth its share of new parts (a candidate
+  covering ``T4;post`` after ``pre;T1;mid`` were logged keeps its value; one covering
+  ``pre;T1`` adds nothing and drops out);
+- a monitor target's visits keep ``visit_gap_h`` from its last logged visit;
+- a target asking for a number of events per campaign (``campaign_events``) gets no request of
+  that event once the log holds that many done;
+- a target asking for phase coverage (``phase_bins``) gets RV visits in the bins no logged
+  exposure fills (:func:`phase_candidates`), each worth more the larger the empty run it sits in.
+
+An event instance is matched by target, event and cycle when the log gives the cycle, else by
+the instance whose predicted time is nearest the middle of the logged observation (within half a
+period). Phases are taken on UTC Julian dates: the light time and TDB - UTC (at most 9.5 min)
+are small against a phase bin of any orbit worth binning.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..orbits import coverage
+from .coverage import parts_covered, reference_epoch
+from .blocks import SCHEDULE_COLUMNS, altitudes, mean_airmass, sample_times
+from .score import airmass_from_alt, score_components
+
+#: Length of a phase-coverage visit when the catalogue gives no ``visit_h`` [common practice: one
+#: spectrum of tens of minutes].
+PHASE_VISIT_H = 0.5
+USED = ("done", "partial")
+
+
+def _instances(log, visible):
+    """Per log row (events only), the visible instance key ``ti|event|minute`` it refers to."""
+    keys = {}
+    if log.empty or visible.empty:
+        return keys
+    for row in log[~log["purpose"].isin(["visit", "free"]) & log["outcome"].isin(USED)].itertuples():
+        mine = visible[(visible["target_index"] == row.target_index) & (visible["event"] == row.purpose)]
+        if mine.empty:
+            continue
+        if np.isfinite(row.cycle):
+            mine = mine[mine["cycle"] == row.cycle]
+        else:
+            mid = 0.5 * (row.start_jd_utc + row.end_jd_utc)
+            near = np.abs(mine["jd_utc"].to_numpy(float) - mid)
+            mine = mine.iloc[[int(np.argmin(near))]] if near.min() < 0.5 * mine["period_d"].iloc[0] else mine.iloc[:0]
+        for jd in mine["jd_utc"]:
+            key = f"{row.target_index}|{row.purpose}|{np.round(jd * 1440.0):.0f}"
+            keys.setdefault(key, []).append(row)
+    return keys
+
+
+def apply_log(cands: pd.DataFrame, monitors: pd.DataFrame, log: pd.DataFrame | None, targets: pd.DataFrame,
+              visible: pd.DataFrame):
+    """(candidates, monitors) left after the observation log; both tables keep their columns."""
+    if log is None or log.empty:
+        return cands, monitors
+    vis = visible.assign(period_d=targets["period_d"].to_numpy(float)[visible["target_index"].to_numpy(int)])
+    logged = _instances(log, vis)
+    keys = [f"{t}|{e}|{np.round(j * 1440.0):.0f}" for t, e, j in
+            zip(cands["target_index"], cands["event"], cands["event_jd_utc"].to_numpy(float))]
+    keep = np.ones(len(cands), bool)
+    score = cands["score"].to_numpy(float).copy()
+    for k, (key, c) in enumerate(zip(keys, cands.itertuples())):
+        rows = logged.get(key)
+        if not rows:
+            continue
+        if any(r.outcome == "done" for r in rows):
+            keep[k] = False
+            continue
+        # parts already observed: as logged, or worked out from the logged times and the contacts
+        had = set()
+        for r in rows:
+            parts = r.covers or parts_covered(r.start_jd_utc, r.end_jd_utc, c.event_jd_utc, c.t4_jd_utc - c.t1_jd_utc)
+            had |= set(parts.split(";")) - {""}
+        mine = set(str(c.covers).split(";")) - {""}
+        new = mine - had
+        if mine and not new:
+            keep[k] = False
+        elif mine:
+            score[k] *= len(new) / len(mine)
+    done = log[log["outcome"] == "done"]
+    for ti, wanted in enumerate(targets["campaign_events"] if "campaign_events" in targets else []):
+        for event, n in (wanted or {}).items():
+            if int(((done["target_index"] == ti) & (done["purpose"] == event)).sum()) >= n:
+                keep &= ~((cands["target_index"].to_numpy(int) == ti) & (cands["event"].to_numpy(object) == event))
+    out = cands.assign(score=score)[keep].reset_index(drop=True)
+    if len(monitors):
+        last = log[log["outcome"].isin(USED)].groupby("target_index")["start_jd_utc"].max()
+        prev = last.reindex(monitors["target_index"].to_numpy(int)).to_numpy(float)
+        ok = ~(monitors["start_jd_utc"].to_numpy(float) < prev + monitors["gap_d"].to_numpy(float))
+        monitors = monitors[ok]
+    return out, monitors
+
+
+def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals: pd.DataFrame, nights: pd.DataFrame,
+                     options, altitude_deg=None, moon_sep_deg=None):
+    """(candidates, altitudes): RV visits in the empty phase bins of targets with ``phase_bins``.
+
+    For each such target, night and observable interval, one visit of ``visit_h`` (default
+    :data:`PHASE_VISIT_H`) at the start of each empty bin's stretch inside the interval that can
+    hold it. Its value is the visit's score (priority, rarity, airmass, Moon) times the number of
+    bins of the empty run it sits in, so the largest gaps are filled first. ``group`` is one per
+    target and bin: a bin is filled once a week.
+    """
+    empty = pd.DataFrame({c: [] for c in SCHEDULE_COLUMNS}), np.zeros((0, 9))
+    if "phase_bins" not in targets or not (targets["phase_bins"] > 0).any() or intervals is None or intervals.empty:
+        return empty
+    phase0 = reference_epoch(targets)
+    used = log[log["outcome"].isin(USED)] if log is not None and len(log) else None
+    rows = []
+    for ti in np.flatnonzero(targets["phase_bins"].to_numpy(int) > 0):
+        t = targets.iloc[ti]
+        n_bins, p = int(t["phase_bins"]), float(t["period_d"])
+        mine = used[used["target_index"] == ti] if used is not None else None
+        if mine is not None and len(mine):
+            filled = coverage.covered_bins((mine["start_bjd_tdb"].to_numpy(float) - phase0[ti]) / p,
+                                           (mine["end_bjd_tdb"].to_numpy(float) - phase0[ti]) / p,
+                                           mine["single"].to_numpy(bool), n_bins)
+        else:
+            filled = np.zeros(n_bins, bool)
+        if filled.all():
+            continue
+        run = _run_lengths(filled)
+        length = (t["visit_h"] if np.isfinite(t.get("visit_h", np.nan)) else PHASE_VISIT_H) / 24.0
+        iv = intervals[intervals["target_index"] == ti]
+        for night, a, b in zip(iv["night"].astype(str), iv["start_jd_utc"].to_numpy(float),
+                               iv["end_jd_utc"].to_numpy(float)):
+            first, last = np.floor((a - phase0[ti]) / p * n_bins), np.ceil((b - phase0[ti]) / p * n_bins)
+            for k in np.arange(first, last + 1):
+                bin_ = int(k) % n_bins
+                if filled[bin_]:
+                    continue
+                s = max(a, phase0[ti] + k * p / n_bins)
+                e_bin = min(b, phase0[ti] + (k + 1) * p / n_bins)
+                if s + length <= e_bin:
+                    rows.append((ti, night, s, s + length, bin_, run[bin_]))
+    if not rows:
+        return empty
+    ti = np.array([r[0] for r in rows])
+    start = np.array([r[2] for r in rows])
+    end = np.array([r[3] for r in rows])
+    alt = altitudes(altitude_deg, ti, sample_times(start, end))
+    x = mean_airmass(airmass_from_alt(alt))
+    sep = np.asarray(moon_sep_deg(ti, 0.5 * (start + end)), float) if moon_sep_deg is not None else np.full(ti.size, np.nan)
+    lit = pd.Series(nights["moon_illumination"].to_numpy(float), index=nights["night"].astype(str))
+    night = np.array([r[1] for r in rows], dtype=object)
+    illum = lit.reindex(night).to_numpy(float)
+    nan = np.full(ti.size, np.nan)
+    sc = score_components(targets["priority"].to_numpy(float)[ti], targets["period_d"].to_numpy(float)[ti], nan, x,
+                          sep, illum, nan, nan, options.weights)
+    out = pd.DataFrame({c: np.full(ti.size, np.nan) for c in SCHEDULE_COLUMNS})
+    out = out.astype({c: object for c in ("night", "target", "event", "serves", "label", "kind", "request", "group",
+                                          "covers", "not_covered", "notes")})
+    bins = np.array([r[4] for r in rows])
+    out["night"], out["start_jd_utc"], out["end_jd_utc"] = night, start, end
+    out["target"], out["target_index"] = targets["name"].to_numpy(object)[ti], ti.astype(np.int64)
+    out["event"] = "visit"
+    out["serves"] = [f"phase bin {b + 1} of {int(targets['phase_bins'].iloc[i])}" for i, b in zip(ti, bins)]
+    out["label"] = out["serves"]
+    out["kind"], out["request"], out["request_id"] = "fixed", "rv_visit", -1
+    out["group"] = [f"phase|{i}|{b}" for i, b in zip(ti, bins)]
+    out["slot"], out["n_slots"], out["covers"], out["not_covered"], out["notes"] = 0, 1, "", "", ""
+    out["science_fraction"], out["priority"] = 1.0, targets["priority"].to_numpy(float)[ti]
+    out["period_d"] = targets["period_d"].to_numpy(float)[ti]
+    out["earliest_start_jd_utc"], out["latest_start_jd_utc"] = start, start
+    out["alt_low_deg"], out["airmass"], out["moon_sep_deg"], out["moon_illumination"] = alt.min(axis=1), x, sep, illum
+    for c in sc.columns:
+        out[c] = sc[c].to_numpy()
+    out["score"] = out["score"].to_numpy() * np.array([r[5] for r in rows], float)
+    return out, alt
+
+
+def _run_lengths(filled: np.ndarray) -> np.ndarray:
+    """Per bin, the number of bins of the empty run (going round the orbit) it belongs to; 0 if filled."""
+    n = filled.size
+    out = np.zeros(n, int)
+    if filled.all():
+        return out
+    if not filled.any():
+        return np.full(n, n)
+    start = int(np.argmax(filled))
+    k = 0
+    while k < n:
+        j = (start + k) % n
+        if filled[j]:
+            k += 1
+            continue
+        m = 0
+        while k + m < n and not filled[(start + k + m) % n]:
+            m += 1
+        for q in range(m):
+            out[(start + k + q) % n] = m
+        k += m
+    return out

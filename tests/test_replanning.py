@@ -1,0 +1,144 @@
+"""Re-planning from an observation log: done events drop out, the rest adapts.
+
+The plans are of the bundled demo scenario (invented targets at an invented site); what is
+checked is the behaviour the log must have, each expectation derived in the test from the first
+plan or from the elements (phases computed here from Tp and P, as the definition
+M = 2 pi (t - Tp) / P gives them), never a stored number.
+"""
+
+import datetime as dt
+
+import numpy as np
+import pandas as pd
+import pytest
+
+import planner
+from planner import cli
+from conftest import REPO, SAMPLE_TARGETS
+from planner.inputs.observation_log import parse_log
+from planner.outputs.log_template import log_template_frame
+
+SITE = REPO / "sample_targets" / "site.toml"
+FIRST = dt.date(2026, 12, 7)
+#: Times of the same block in two plans agree to the solver's grid (they are the same candidates).
+TIME_TOL_D = 1.0 / 86400.0
+
+
+@pytest.fixture(scope="module")
+def demo():
+    targets = planner.read_catalogue(SAMPLE_TARGETS)
+    site = planner.read_site(SITE)
+    return targets, site, planner.make_plan(targets, site, FIRST, 3)
+
+
+def keys(schedule):
+    return {(t, e, round(s * 1440)) for t, e, s in zip(schedule["target"], schedule["event"], schedule["start_jd_utc"])}
+
+
+def log_of(schedule, targets, outcome_by_night):
+    frame = log_template_frame(schedule)
+    frame["outcome"] = [outcome_by_night.get(n, "planned") for n in schedule["night"]]
+    return parse_log(frame.to_csv(index=False), targets, "log.csv")
+
+
+def test_replanning_after_a_logged_night_drops_exactly_the_done_events(demo):
+    targets, site, plan = demo
+    log = log_of(plan.schedule, targets, {"2026-12-07": "done"})
+    again = planner.make_plan(targets, site, FIRST, 3, log=log)
+    first_night = plan.schedule[plan.schedule["night"] == "2026-12-07"]
+    done_events = {(t, e, round(j * 1440)) for t, e, j in zip(first_night["target"], first_night["event"],
+                                                              first_night["event_jd_utc"].fillna(0)) if e != "visit"}
+    for t, e, j in zip(again.schedule["target"], again.schedule["event"], again.schedule["event_jd_utc"].fillna(0)):
+        assert (t, e, round(j * 1440)) not in done_events
+    # the other nights' blocks are untouched: the same candidates, nothing in their way
+    later = plan.schedule[plan.schedule["night"] != "2026-12-07"]
+    assert keys(later) <= keys(again.schedule)
+
+
+def test_a_lost_night_keeps_its_requests_and_a_done_one_frees_the_week(demo):
+    targets, site, plan = demo
+    lost = planner.make_plan(targets, site, FIRST, 3, log=log_of(plan.schedule, targets, {"2026-12-07": "lost"}))
+    assert keys(lost.schedule) == keys(plan.schedule)  # a lost observation counts for nothing
+
+
+def test_a_lost_rare_event_is_rescheduled_on_the_next_night_that_sees_it():
+    # A 20-hour transit centred on 2026-12-08 09:00 UTC, of a target near the pole (never below
+    # 32 deg at 37.6 N): the night of the 7th sees its ingress (23:00 UTC) with the baseline
+    # before it, the night of the 8th its egress (19:00 UTC) with the baseline after. Planned
+    # "first", it goes to the 7th; that night is clouded out (logged lost), and the plan made
+    # again from the 8th takes the egress half.
+    cat = pd.DataFrame({"name": ["Long Transit"], "ra": [10.0], "dec": [85.0], "period_d": [40.0], "e": [0.0],
+                        "tc": [2461382.875], "tc_err_d": [0.001], "duration_h": [20.0], "priority": [3],
+                        "events": ["primary_conjunction"], "observe": ["photometry"], "week_rule": ["first"]})
+    targets = planner.read_catalogue(cat)
+    site = planner.read_site(SITE)
+    plan = planner.make_plan(targets, site, FIRST, 2)
+    assert list(plan.schedule["night"]) == ["2026-12-07"] and "T1" in plan.schedule["covers"].iloc[0]
+    log = log_of(plan.schedule, targets, {"2026-12-07": "lost"})
+    later = planner.make_plan(targets, site, dt.date(2026, 12, 8), 1, log=log)
+    assert list(later.schedule["night"]) == ["2026-12-08"]
+    assert "T4" in later.schedule["covers"].iloc[0] and "post" in later.schedule["covers"].iloc[0]
+
+
+def test_monitor_visits_keep_their_gap_from_the_last_logged_visit(demo):
+    targets, site, plan = demo
+    gap_d = float(targets.loc[targets["name"] == "Lantisca-4", "visit_gap_h"].iloc[0]) / 24.0
+    visits = plan.schedule[(plan.schedule["target"] == "Lantisca-4") & (plan.schedule["kind"] == "flexible")]
+    second = visits[visits["night"] == "2026-12-08"]["start_jd_utc"].iloc[0]
+    # a visit logged late on the night before, closer than the gap to the planned one
+    late = second - gap_d + 2.0 / 24.0
+    iso = planner.display_frame(pd.DataFrame({**{c: [np.nan] for c in plan.schedule.columns},
+                                              "start_jd_utc": [late], "end_jd_utc": [late + 1 / 24]}),
+                                None)["start_utc"][0]
+    log = parse_log(f"target,start,purpose,outcome\nLantisca-4,{iso},visit,done\n", targets, "log.csv")
+    again = planner.make_plan(targets, site, FIRST, 3, log=log)
+    starts = again.schedule[(again.schedule["target"] == "Lantisca-4")
+                            & (again.schedule["kind"] == "flexible")]["start_jd_utc"].to_numpy()
+    assert np.all((starts < late) | (starts >= late + gap_d - TIME_TOL_D))
+
+
+def test_phase_bins_ask_for_visits_in_the_empty_bins_only():
+    cat = pd.read_csv(SAMPLE_TARGETS, comment="#")
+    cat["phase_bins"] = np.where(cat["name"] == "Lantisca-4", 10, np.nan)
+    targets = planner.read_catalogue(cat)
+    site = planner.read_site(SITE)
+    ti = int(np.flatnonzero(targets["name"] == "Lantisca-4")[0])
+    tp, p = float(targets["tp_bjd_tdb"][ti]), float(targets["period_d"][ti])
+    # the week's nights see phases 0.20-0.36 (bins 2 and 3) of this 39-day orbit: exposures in
+    # every bin but 3 leave that one empty
+    times = tp + p * (20 + np.array([0.05, 0.15, 0.25, 0.45, 0.55, 0.65, 0.75, 0.85, 0.95]))
+    log = parse_log("target,start,purpose,outcome\n" + "".join(f"Lantisca-4,{t:.6f},visit,done\n" for t in times),
+                    targets, "log.csv")
+    plan = planner.make_plan(targets, site, FIRST, 7, log=log)
+    phase_visits = plan.schedule[plan.schedule["label"].astype(str).str.startswith("phase bin")]
+    assert len(phase_visits)
+    mid_bjd = 0.5 * (phase_visits["start_jd_utc"] + phase_visits["end_jd_utc"]).to_numpy()
+    bins = np.floor(np.mod((mid_bjd - tp) / p, 1.0) * 10).astype(int)
+    assert set(bins) == {3}  # 9.5 min of light time against a 3.9-day bin: no edge case here
+    assert len(phase_visits) == 1  # a bin is filled once
+
+
+def test_campaign_event_count_stops_requests_once_reached(demo):
+    targets, site, plan = demo
+    cat = pd.read_csv(SAMPLE_TARGETS, comment="#")
+    cat["campaign_events"] = np.where(cat["name"] == "Halcon EB-12", "primary_conjunction:1", "")
+    targets2 = planner.read_catalogue(cat)
+    assert (plan.schedule["target"] + plan.schedule["event"]).eq("Halcon EB-12primary_conjunction").any()
+    log = parse_log("target,start,end,purpose,outcome\nHalcon EB-12,2026-11-01T20:00:00Z,2026-11-01T23:00:00Z,"
+                    "primary_conjunction,done\n", targets2, "log.csv")
+    again = planner.make_plan(targets2, site, FIRST, 3, log=log)
+    assert not ((again.schedule["target"] == "Halcon EB-12") & (again.schedule["event"] == "primary_conjunction")).any()
+
+
+def test_bad_campaign_columns_are_one_line_errors(tmp_path, capsys):
+    cat = pd.read_csv(SAMPLE_TARGETS, comment="#")
+    cat["phase_bins"] = ["1.5"] + [""] * (len(cat) - 1)
+    cat["week_rule"] = [""] + ["sometimes"] + [""] * (len(cat) - 2)
+    path = tmp_path / "cat.csv"
+    cat.to_csv(path, index=False)
+    code = cli.main(["plan", str(path), "--site", str(SITE), "--out", str(tmp_path / "p")])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert code == 2 and not (tmp_path / "p").exists()
+    assert err == ["periplan: error: cat.csv, row 2, column phase_bins: 1.5 is not a whole number of phase bins >= 2",
+                   "periplan: error: cat.csv, row 3, column week_rule: 'sometimes' is not a week rule; expected "
+                   "every, best or first"]
