@@ -29,7 +29,7 @@ _HOURS_PER_DAY = 24.0
 def event_words(event, label=None) -> str:
     """The event in words: the catalogue's label for a periodic event, else :data:`EVENT_WORDS`."""
     event = str(event)
-    if event == "periodic" and isinstance(label, str) and label:
+    if event in ("periodic", "visit") and isinstance(label, str) and label:  # a visit's own label: phase bin 3 of 10
         return label.replace("_", " ")
     return EVENT_WORDS.get(event, event.replace("_", " "))
 

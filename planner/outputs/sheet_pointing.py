@@ -2,8 +2,8 @@
 
 For each block: the target's coordinates (ICRS, which matches the J2000 mean equator to 0.02
 arcsec: what a telescope's J2000 catalogue expects), its magnitude when the catalogue gives one,
-the azimuth and hour angle at the block's start, the lowest altitude during the block and the
-meridian transit (the contacts covered have a line of their own). Each item is present only when its columns are in the block row, so a schedule without
+the azimuth and hour angle at the block's start and the meridian transit (the lowest altitude
+is on the block's altitude line) (the contacts covered have a line of their own). Each item is present only when its columns are in the block row, so a schedule without
 them gives a sheet without them. Times are UTC Julian dates, shown as ``HH:MM`` UTC and local.
 """
 
@@ -70,8 +70,6 @@ def pointing_items(b, tz: str | None = None) -> list[tuple[str, str]]:
     if _finite(b, "az_start_deg") and _finite(b, "ha_start_h"):
         items.append(("at start", f"az {float(b['az_start_deg']):.0f} deg ({compass(b['az_start_deg'])}), "
                                   f"HA {hour_angle_text(b['ha_start_h'])}"))
-    if _finite(b, "lowest_alt_deg"):
-        items.append(("lowest", f"{float(b['lowest_alt_deg']):.0f} deg"))
     if _finite(b, "meridian_jd_utc"):
         m = float(b["meridian_jd_utc"])
         where = ("during the block" if b["start_jd_utc"] <= m <= b["end_jd_utc"]

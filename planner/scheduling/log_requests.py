@@ -106,8 +106,9 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
 
     For each such target, night and observable interval, one visit of ``visit_h`` (default
     :data:`PHASE_VISIT_H`) at the start of each empty bin's stretch inside the interval that can
-    hold it. Its value is the visit's score (priority, rarity, airmass, Moon) times the number of
-    bins of the empty run it sits in, so the largest gaps are filled first. ``group`` is one per
+    hold it. Its value is the visit's score (priority, rarity, airmass, Moon) times 1 + the share of
+    the orbit's bins in the empty run it sits in (1 to 2), so the largest gaps are filled first
+    without a visit outweighing the events of higher-priority targets. ``group`` is one per
     target and bin: a bin is filled once a week.
     """
     empty = pd.DataFrame({c: [] for c in SCHEDULE_COLUMNS}), np.zeros((0, 9))
@@ -174,7 +175,8 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
     out["alt_low_deg"], out["airmass"], out["moon_sep_deg"], out["moon_illumination"] = alt.min(axis=1), x, sep, illum
     for c in sc.columns:
         out[c] = sc[c].to_numpy()
-    out["score"] = out["score"].to_numpy() * np.array([r[5] for r in rows], float)
+    n_bins = targets["phase_bins"].to_numpy(float)[ti]
+    out["score"] = out["score"].to_numpy() * (1.0 + np.array([r[5] for r in rows], float) / n_bins)
     return out, alt
 
 
