@@ -11,7 +11,8 @@ probability ``--lost``, the same nights for both strategies.
   gaps count from the last visit); its first night is observed.
 
 Prints, for both, the phase coverage reached by each RV target and the night it became full,
-the events observed per priority class, and the run time. Goal: the re-planned campaign fills the
+the distinct events observed per priority class (the visits of one RV sequence count once), and
+the run time. Goal: the re-planned campaign fills the
 phase bins in fewer nights and never observes fewer high-priority events.
 """
 
@@ -78,8 +79,13 @@ def phase_progress(done_log, targets, nights_done):
 
 
 def events_by_priority(done_log, targets):
+    """Distinct event instances observed (the visits of one RV sequence are one event), by priority."""
     ev = done_log[~done_log["purpose"].isin(["visit", "free"])]
-    pri = targets["priority"].to_numpy(float)[ev["target_index"].to_numpy(int)]
+    ti = ev["target_index"].to_numpy(int)
+    mid = 0.5 * (ev["start_bjd_tdb"].to_numpy(float) + ev["end_bjd_tdb"].to_numpy(float))
+    cycle = np.round((mid - reference_epoch(targets)[ti]) / targets["period_d"].to_numpy(float)[ti])
+    distinct = pd.DataFrame({"ti": ti, "purpose": ev["purpose"].to_numpy(), "cycle": cycle}).drop_duplicates()
+    pri = targets["priority"].to_numpy(float)[distinct["ti"].to_numpy(int)]
     return pd.Series(pri).value_counts().sort_index(ascending=False).to_dict()
 
 

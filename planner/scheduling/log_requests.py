@@ -4,7 +4,8 @@
 observation log (:func:`planner.inputs.observation_log.read_log`) and returns them as they stand
 after what was observed:
 
-- a series or visit of an event instance logged ``done`` drops out; one logged ``partial`` keeps
+- a series or visit of an event instance logged ``done`` drops out (each logged visit of an RV
+  sequence fills one of its slots, in time order); one logged ``partial`` keeps
   the candidates that add parts not yet covered, each worth its share of new parts (a candidate
   covering ``T4;post`` after ``pre;T1;mid`` were logged keeps its value; one covering
   ``pre;T1`` adds nothing and drops out);
@@ -72,6 +73,10 @@ def apply_log(cands: pd.DataFrame, monitors: pd.DataFrame, log: pd.DataFrame | N
         rows = logged.get(key)
         if not rows:
             continue
+        if c.request == "rv_sequence":
+            # each logged visit of a passage fills one slot, in time order: the first m drop out
+            keep[k] = int(c.slot) > sum(r.outcome in USED for r in rows)  # slots count from 1
+            continue
         if any(r.outcome == "done" for r in rows):
             keep[k] = False
             continue
@@ -106,7 +111,7 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
 
     For each such target, night and observable interval, one visit of ``visit_h`` (default
     :data:`PHASE_VISIT_H`) at the start of each empty bin's stretch inside the interval that can
-    hold it. Its value is the visit's score (priority, rarity, airmass, Moon) times 1 + the share of
+    hold it. Its value is the visit's score (priority, airmass, Moon; no rarity) times 1 + the share of
     the orbit's bins in the empty run it sits in (1 to 2), so the largest gaps are filled first
     without a visit outweighing the events of higher-priority targets. ``group`` is one per
     target and bin: a bin is filled once a week.
@@ -155,8 +160,9 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
     night = np.array([r[1] for r in rows], dtype=object)
     illum = lit.reindex(night).to_numpy(float)
     nan = np.full(ti.size, np.nan)
-    sc = score_components(targets["priority"].to_numpy(float)[ti], targets["period_d"].to_numpy(float)[ti], nan, x,
-                          sep, illum, nan, nan, options.weights)
+    # no rarity factor: a phase bin comes back every orbit, and the events of the orbit (rare
+    # ones among them) must keep their precedence over the coverage visits
+    sc = score_components(targets["priority"].to_numpy(float)[ti], nan, nan, x, sep, illum, nan, nan, options.weights)
     out = pd.DataFrame({c: np.full(ti.size, np.nan) for c in SCHEDULE_COLUMNS})
     out = out.astype({c: object for c in ("night", "target", "event", "serves", "label", "kind", "request", "group",
                                           "covers", "not_covered", "notes")})
