@@ -46,10 +46,18 @@ def test_replanning_after_a_logged_night_drops_exactly_the_done_events(demo):
     log = log_of(plan.schedule, targets, {"2026-12-07": "done"})
     again = planner.make_plan(targets, site, FIRST, 3, log=log)
     first_night = plan.schedule[plan.schedule["night"] == "2026-12-07"]
-    done_events = {(t, e, round(j * 1440)) for t, e, j in zip(first_night["target"], first_night["event"],
-                                                              first_night["event_jd_utc"].fillna(0)) if e != "visit"}
+    single = first_night[~first_night["request"].isin(["rv_sequence", "monitor"])]
+    done_events = {(t, e, round(j * 1440)) for t, e, j in zip(single["target"], single["event"],
+                                                              single["event_jd_utc"].fillna(0))}
     for t, e, j in zip(again.schedule["target"], again.schedule["event"], again.schedule["event_jd_utc"].fillna(0)):
         assert (t, e, round(j * 1440)) not in done_events
+    # a sequence's logged visits fill its first slots: only later slots of that passage remain
+    for t, e, j in zip(*(first_night.loc[first_night["request"] == "rv_sequence", c] for c in
+                         ("target", "event", "event_jd_utc"))):
+        logged = int(((first_night["target"] == t) & (first_night["event"] == e)).sum())
+        rest = again.schedule[(again.schedule["target"] == t) & (again.schedule["event"] == e)
+                              & (np.round(again.schedule["event_jd_utc"] * 1440) == round(j * 1440))]
+        assert (rest["slot"] > logged).all()
     # the other nights' blocks are untouched: the same candidates, nothing in their way
     later = plan.schedule[plan.schedule["night"] != "2026-12-07"]
     assert keys(later) <= keys(again.schedule)
