@@ -35,6 +35,9 @@ from .score import airmass_from_alt, score_components
 #: spectrum of tens of minutes].
 PHASE_VISIT_H = 0.5
 USED = ("done", "partial")
+#: Weight of a phase-coverage visit against an event visit of the same target [our choice: half,
+#: so an event visit of the target wins its night unless the phase gap is the larger part of the orbit].
+PHASE_WEIGHT = 0.5
 
 
 def _instances(log, visible):
@@ -182,7 +185,7 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
     for c in sc.columns:
         out[c] = sc[c].to_numpy()
     n_bins = targets["phase_bins"].to_numpy(float)[ti]
-    out["score"] = out["score"].to_numpy() * (1.0 + np.array([r[5] for r in rows], float) / n_bins)
+    out["score"] = out["score"].to_numpy() * PHASE_WEIGHT * (1.0 + np.array([r[5] for r in rows], float) / n_bins)
     return out, alt
 
 
