@@ -16,6 +16,7 @@ import numpy as np
 import pandas as pd
 
 from . import numerics
+from .errors import PeriplanError
 from .orbits.events import predict_events
 from .scheduling.requests import RequestSettings, build_requests
 from .scheduling.losses import unscheduled
@@ -141,28 +142,94 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
     (:func:`planner.inputs.observation_log.read_log`), takes out what was observed and adapts the
     rest (:mod:`planner.scheduling.log_requests`). Deterministic: the same inputs give the same plan.
     """
+    plan = _prepare(targets, site, first_night, n_nights, settings, progress)
+    _stage(progress, "schedule")
+    plan.schedule, plan.candidates, plan.report = plan_week_report(
+        plan.events, plan.intervals, targets, plan.nights, altitude_deg=plan.altitude_deg,
+        moon_sep_deg=plan.moon_sep_deg, options=settings.schedule, requests=plan.requests, log=log)
+    plan.unscheduled = _losses(plan, plan.schedule)
+    return plan
+
+
+def make_campaign(targets: pd.DataFrame, sites, first_night, n_nights: int,
+                  settings: PlanSettings = PlanSettings(), progress=None, log: pd.DataFrame | None = None) -> list:
+    """One :class:`Plan` per site, their blocks chosen together (one model of every telescope).
+
+    Each event instance goes to the site that serves it best, once, unless its target asks for
+    more sites (a catalogue column ``sites``: the most sites that may observe one instance).
+    Every plan holds its site's blocks; their ``report`` is the joint solve's. Sites must have
+    different names.
+    """
+    from .scheduling.choose import choose_blocks
+    from .scheduling.schedule import assemble, week_candidates
+
+    names = [s.name for s in sites]
+    if len(set(names)) < len(names):
+        dup = next(n for n in names if names.count(n) > 1)
+        raise PeriplanError(f"two sites are both named {dup!r}; give each site file its own name")
+    if len(sites) == 1:
+        return [make_plan(targets, sites[0], first_night, n_nights, settings, progress, log)]
+    plans, weeks = [], []
+    for site in sites:
+        plan = _prepare(targets, site, first_night, n_nights, settings, progress)
+        week = week_candidates(plan.events, plan.intervals, targets, plan.nights, plan.altitude_deg, plan.moon_sep_deg,
+                               settings.schedule, plan.requests, log=log)
+        week.cands["site"] = site.name
+        week.monitors["site"] = site.name
+        plans.append(plan)
+        weeks.append(week)
+    _stage(progress, "schedule")
+    cands = pd.concat([w.cands for w in weeks], ignore_index=True)
+    monitors = pd.concat([w.monitors.assign(_row=np.arange(len(w.monitors))) for w in weeks], ignore_index=True)
+    order = list(plans[0].nights["night"].astype(str))
+    options = settings.schedule
+    blocks, visits, report = choose_blocks(cands, monitors, targets, order, options.overhead_min / 1440.0,
+                                           options.repeats,
+                                           options.time_limit_s_per_night * max(len(order), 1) * len(sites))
+    for plan, week in zip(plans, weeks):
+        mine = visits[visits["site"] == plan.site.name]
+        local = week.monitors.loc[mine["_row"].to_numpy()] if len(mine) else week.monitors.iloc[:0]
+        plan.schedule = assemble(blocks[blocks["site"] == plan.site.name].reset_index(drop=True), local, week,
+                                 plan.nights, plan.altitude_deg, options).assign(site=plan.site.name)
+        plan.candidates, plan.report = week.everything(), report
+    every = pd.concat([p.schedule for p in plans], ignore_index=True)
+    for plan in plans:
+        plan.unscheduled = _losses(plan, every)
+    return plans
+
+
+def _stage(progress, name):
+    logger.info("stage: %s", name)
+    if progress is not None:
+        progress(name)
+
+
+def _losses(plan, schedule):
+    """The plan's unscheduled requests; ``schedule`` holds every site's blocks (served elsewhere = served)."""
+    options = plan.settings.schedule
+    return unscheduled(plan.events, plan.candidates, schedule, plan.targets, plan.site, plan.nights, plan.tracks,
+                       plan.never_rising, options.overhead_min / 1440.0, options.repeats)
+
+
+def _prepare(targets, site, first_night, n_nights, settings, progress) -> Plan:
+    """A :class:`Plan` up to its requests (nights, events, intervals, visibility, requests)."""
     from astropy.time import Time
 
-    def stage(name):
-        logger.info("stage: %s", name)
-        if progress is not None:
-            progress(name)
-
-    stage("nights")
+    _stage(progress, "nights")
     # Sun and Moon tracks reach past the nights by the event margin (plus the light time), so that
     # events just outside the week can still be placed
     tracks = night_mod.tracks_for_nights(site, first_night, n_nights, margin_d=EVENT_MARGIN_D + 0.05)
     nights = night_mod.night_table(site, first_night, n_nights, tracks=tracks)
 
-    stage("events")
+    _stage(progress, "events")
     span = Time([nights["noon_jd_utc"].min() - EVENT_MARGIN_D, nights["next_noon_jd_utc"].max() + EVENT_MARGIN_D],
                 format="jd", scale="utc").tdb.jd
     events = predict_events(targets, span[0], span[1])
 
-    stage("intervals")
+    _stage(progress, "intervals")
     intervals = windows.observable_intervals(targets, site, nights, tracks=tracks)
 
-    stage("visibility")
+    _stage(progress, "visibility")
     visible = windows.event_visibility(events, targets, site, nights, baseline_h=settings.baseline_h,
                                        k_sigma=settings.k_sigma, tracks=tracks, intervals=intervals)
     visible = _in_nights(visible, nights)
@@ -170,15 +237,8 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
     plan = Plan(site=site, targets=targets, nights=nights, events=visible, intervals=intervals,
                 requests=pd.DataFrame(), schedule=pd.DataFrame(), never_rising=windows.never_rising(targets, site),
                 tracks=tracks, settings=settings)
-    stage("requests")
+    _stage(progress, "requests")
     plan.requests = build_requests(visible, targets, intervals, plan.altitude_deg,
                                    RequestSettings(settings.baseline_h, settings.k_sigma, settings.schedule.min_block_min),
                                    settings.schedule.weights)
-
-    stage("schedule")
-    plan.schedule, plan.candidates, plan.report = plan_week_report(
-        visible, intervals, targets, nights, altitude_deg=plan.altitude_deg, moon_sep_deg=plan.moon_sep_deg,
-        options=settings.schedule, requests=plan.requests, log=log)
-    plan.unscheduled = unscheduled(visible, plan.candidates, plan.schedule, targets, site, nights, tracks,
-                                   plan.never_rising, settings.schedule.overhead_min / 1440.0, settings.schedule.repeats)
     return plan

@@ -6,6 +6,8 @@
                        plan's default week rule
 ``phase_bins``         ask for RV phase coverage in this many mean-anomaly bins (a whole
                        number >= 2): with an observation log, the empty bins become RV visits
+``sites``              with several sites, the most sites that may observe one instance of an
+                       event (a whole number >= 1, default 1: the site that serves it best)
 ``campaign_events``    events wanted over the whole campaign, ``event:N`` separated by ``;``
                        (``primary_conjunction:4``): with a log, requests of an event stop
                        once N of them are logged done
@@ -20,12 +22,12 @@ from ..orbits.geometry import ALL_EVENTS, canonical_event
 from .catalogue_checks import Cells
 
 WEEK_RULE_WORDS = ("every", "best", "first")
-CAMPAIGN_COLUMNS = ("week_rule", "phase_bins", "campaign_events")
+CAMPAIGN_COLUMNS = ("week_rule", "phase_bins", "sites", "campaign_events")
 
 
 def check_campaign(cells: Cells) -> dict:
-    """Engine columns ``week_rule`` (text, "" = default), ``phase_bins`` (0 = none) and
-    ``campaign_events`` (a dict event -> count per target)."""
+    """Engine columns ``week_rule`` (text, "" = default), ``phase_bins`` (0 = none), ``sites``
+    (default 1) and ``campaign_events`` (a dict event -> count per target)."""
     rows = cells.rows
     rules = []
     for row, text in zip(rows, cells.text("week_rule")):
@@ -38,6 +40,10 @@ def check_campaign(cells: Cells) -> dict:
     bad = ~((bins == 0) | ((bins >= 2) & (np.mod(bins, 1.0) == 0)))
     for row, v in zip(rows[bad], cells.text("phase_bins")[bad]):
         cells.err(row, "phase_bins", f"{v} is not a whole number of phase bins >= 2", v)
+    sites = cells.numeric("sites", default=1.0)
+    bad_sites = ~((sites >= 1) & (np.mod(sites, 1.0) == 0))
+    for row, v in zip(rows[bad_sites], cells.text("sites")[bad_sites]):
+        cells.err(row, "sites", f"{v} is not a whole number of sites >= 1", v)
     wanted = []
     for row, text in zip(rows, cells.text("campaign_events")):
         counts = {}
@@ -52,4 +58,5 @@ def check_campaign(cells: Cells) -> dict:
         wanted.append(counts)
     return {"week_rule": np.asarray(rules, dtype=object),
             "phase_bins": np.where(bad, 0, bins).astype(np.int64),
+            "sites": np.where(bad_sites, 1, sites).astype(np.int64),
             "campaign_events": np.asarray(wanted + [None], dtype=object)[:-1]}

@@ -103,7 +103,7 @@ NUMERIC_COLUMNS = (
     "period_d", "period_err_d", "e", "e_err", "omega_deg", "omega_err_deg", "tp", "tc", "t0",
     "tp_err_d", "tc_err_d", "t0_err_d", "time_offset_d", "k_ms", "gamma_ms", "priority",
     "duration_h", "a_rstar", "inc_deg", "b", "rp_rstar", "a_au", "mass1_msun", "mass2_msun",
-    "visit_h", "visit_gap_h", "rv_fraction_k", "rv_visits", "rv_gap_h", "phase_bins",
+    "visit_h", "visit_gap_h", "rv_fraction_k", "rv_visits", "rv_gap_h", "phase_bins", "sites",
 ) + binary_checks.NUMERIC_COLUMNS
 TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes", "observe",
                 "full_coverage", "week_rule", "campaign_events") + binary_checks.TEXT_COLUMNS
@@ -114,7 +114,7 @@ OUTPUT_COLUMNS = (
     "omega_deg", "omega_err_deg", "epoch_kind", "epoch_bjd_tdb", "epoch_err_d", "tp_bjd_tdb",
     "time_system", "k_ms", "gamma_ms", "priority", "events", "duration_h", "a_rstar", "inc_deg",
     "rp_rstar", "label", "visit_h", "visit_gap_h", "events_given", "observe", "rv_fraction_k", "rv_visits",
-    "rv_gap_h", "full_coverage", "week_rule", "phase_bins", "campaign_events",
+    "rv_gap_h", "full_coverage", "week_rule", "phase_bins", "sites", "campaign_events",
 ) + BINARY_COLUMNS
 
 

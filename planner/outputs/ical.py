@@ -68,7 +68,8 @@ def plan_calendar(schedule: pd.DataFrame, dtstamp_utc: dt.datetime | None = None
     DTSTART/DTEND are the block's start and end in UTC (written with a trailing ``Z``, RFC 5545
     sec. 3.3.5 form 2), SUMMARY is ``target: event`` (underscores of event names as spaces),
     DESCRIPTION holds target, event, its UTC time and 1-sigma uncertainty, the score and its
-    points, the notes and the Sun caution. ``dtstamp_utc`` (aware datetime) is written as every
+    points, the notes and the Sun caution; LOCATION is the block's ``site`` (several sites) or
+    ``site_name``. ``dtstamp_utc`` (aware datetime) is written as every
     event's DTSTAMP; default: now (pass a fixed value for byte-identical reruns).
     """
     from icalendar import Calendar, Event
@@ -92,8 +93,9 @@ def plan_calendar(schedule: pd.DataFrame, dtstamp_utc: dt.datetime | None = None
         what = "flexible visit" if b["kind"] == "flexible" else label.replace("_", " ")
         ev.add("summary", f"{b['target']}: {what}")
         ev.add("description", _description(b))
-        if site_name:
-            ev.add("location", site_name)
+        where = b["site"] if isinstance(b.get("site"), str) and b.get("site") else site_name
+        if where:
+            ev.add("location", where)
         cal.add_component(ev)
     return cal
 

@@ -376,3 +376,40 @@ def schedule_info_json(plan) -> str:
         "score_weights": dataclasses.asdict(options.weights),
     }
     return json.dumps(info, indent=1) + "\n"
+
+
+#: Files of a campaign of several sites written beside the sites' own plan folders.
+CAMPAIGN_NAMES = ("schedule.csv", "plan.ics", "summary.txt")
+
+
+def write_campaign(plans, out_dir, force: bool = False, summary_text: str | None = None) -> list[str]:
+    """Write a campaign of several sites: one plan folder per site, and beside them one
+    ``schedule.csv`` (UTC times, with a ``site`` column), one ``plan.ics`` and ``summary.txt``.
+
+    Each site's folder (named from the site's name, :func:`planner.outputs.file_names.unique_file_parts`)
+    is a whole plan folder (:func:`write_plan`, its own manifest and all-or-nothing writes).
+    Returns the paths written.
+    """
+    from . import ical, sheets
+    from .atomic import atomic_write
+    from .file_names import unique_file_parts
+
+    out_dir = os.fspath(out_dir)
+    parts = unique_file_parts([p.site.name for p in plans])
+    found = [n for n in CAMPAIGN_NAMES if os.path.exists(os.path.join(out_dir, n))]
+    found += [parts[p.site.name] + "/" for p in plans if existing_plan_files(os.path.join(out_dir, parts[p.site.name]))]
+    if found and not force:
+        raise OutputExists(out_dir, found)
+    paths = []
+    for plan in plans:
+        paths += write_plan(plan, os.path.join(out_dir, parts[plan.site.name]), force=force)
+    schedule = pd.concat([p.schedule for p in plans], ignore_index=True)
+    if len(schedule):
+        schedule = schedule.sort_values(["start_jd_utc", "site"], kind="stable").reset_index(drop=True)
+    paths.append(sheets.write_schedule_csv(os.path.join(out_dir, "schedule.csv"), schedule, None))
+    paths.append(ical.write_ics(os.path.join(out_dir, "plan.ics"), schedule))
+    if summary_text is not None:
+        with atomic_write(os.path.join(out_dir, "summary.txt")) as fh:
+            fh.write(summary_text)
+        paths.append(os.path.join(out_dir, "summary.txt"))
+    return paths

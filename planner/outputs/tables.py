@@ -114,6 +114,8 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
         "request": schedule["request"].to_numpy(object), "covers": schedule["covers"].to_numpy(object),
         "not_covered": schedule["not_covered"].to_numpy(object),
     })
+    if "site" in schedule:  # a campaign of several sites: which telescope observes the block
+        frame.insert(1, "site", schedule["site"].to_numpy(object))
     for c in ("t1", "t2", "t3", "t4"):
         frame[f"{c}_utc"] = iso(f"{c}_jd_utc", False)
     frame["event_utc"] = iso("event_jd_utc", False)

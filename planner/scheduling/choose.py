@@ -82,9 +82,21 @@ def choose_blocks(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataF
         opts["telescope"] = cands["site"].astype(str).to_numpy(object)[opts["candidate"].to_numpy()]
     if "site" in monitors:
         mon["telescope"] = monitors["site"].astype(str).to_numpy(object)
+    exclusive, capacity = ("group", "week_key"), None
+    if "site" in cands:  # several sites: an event instance is observed once, or at the sites it asks for
+        c = cands.iloc[opts["candidate"].to_numpy()]
+        finite = np.isfinite(c["event_jd_utc"].to_numpy(float))
+        key = (c["target_index"].astype(str) + "|" + c["event"].astype(str) + "|" + c["request"].astype(str) + "|"
+               + c["slot"].astype(str) + "|" + np.round(c["event_jd_utc"].fillna(0) * 1440).astype(np.int64).astype(str))
+        opts["instance"] = np.where(finite, key.to_numpy(object), "")
+        sites = targets["sites"].to_numpy(float) if "sites" in targets else np.ones(len(targets))
+        opts["sites_wanted"] = sites[c["target_index"].to_numpy(int)]
+        mon["instance"], mon["sites_wanted"] = "", 1.0
+        exclusive, capacity = ("group", "week_key", "instance"), {"instance": "sites_wanted"}
     every = pd.concat([opts, mon], ignore_index=True)
-    chosen, report = choose_options(every, overhead_d, exclusive=("group", "week_key"), spacing=("spacing", "gap_d"),
-                                    excludes=("monitor_night", "block_night"), time_limit_s=time_limit_s)
+    chosen, report = choose_options(every, overhead_d, exclusive=exclusive, spacing=("spacing", "gap_d"),
+                                    excludes=("monitor_night", "block_night"), capacity=capacity,
+                                    time_limit_s=time_limit_s)
     pick = every[chosen]
     req = pick[pick["source"] == "request"]
     blocks = cands.iloc[req["candidate"].to_numpy()].copy()

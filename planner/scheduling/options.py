@@ -64,6 +64,8 @@ def candidate_options(cands: pd.DataFrame, telescope: str = "telescope") -> pd.D
     s = np.concatenate(starts) if starts else np.zeros(0)
     group = c["group"].astype(str).to_numpy(object) if "group" in c else np.arange(len(c)).astype(str)
     tel = c["site"].astype(str).to_numpy(object) if "site" in c else np.full(len(c), telescope, dtype=object)
+    if "site" in c:  # request ids are a site's own: one site's request 5 is not another's
+        group = tel + "|" + group
     return pd.DataFrame({
         "candidate": k.astype(np.int64), "telescope": tel[k], "start_jd_utc": s, "end_jd_utc": s + length[k],
         "value": np.concatenate(values) if values else np.zeros(0), "group": "g" + group[k],

@@ -28,6 +28,7 @@ model built in a fixed order).
 from __future__ import annotations
 
 import logging
+from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
@@ -129,6 +130,36 @@ def plan_week_report(visible, availability, targets, nights, altitude_deg=None, 
     ``log``, an observation log (:func:`planner.inputs.observation_log.read_log`), changes the
     requests as :mod:`planner.scheduling.log_requests` says (done events drop out, monitor gaps
     count from the last visit, empty phase bins become RV visits)."""
+    week = week_candidates(visible, availability, targets, nights, altitude_deg, moon_sep_deg, options, requests,
+                           intervals, log)
+    order = list(nights["night"].astype(str))
+    blocks, visits, report = choose_blocks(week.cands, week.monitors, targets, order, options.overhead_min / MIN_PER_DAY,
+                                           options.repeats, options.time_limit_s_per_night * max(len(order), 1))
+    schedule = assemble(blocks, visits, week, nights, altitude_deg, options)
+    logger.info("scheduled %d blocks (%d request candidates, %d monitor candidates) over %d nights: %s",
+                len(schedule), len(week.cands), len(week.monitors), len(order), report.describe())
+    return schedule, week.everything(), report
+
+
+@dataclass
+class WeekCandidates:
+    """The candidate blocks of one site's nights: request candidates, monitor visits (with
+    ``gap_d``) and the altitudes through each monitor visit."""
+
+    cands: pd.DataFrame
+    monitors: pd.DataFrame
+    alt_monitors: np.ndarray
+
+    def everything(self) -> pd.DataFrame:
+        if not len(self.monitors):
+            return self.cands
+        return pd.concat([self.cands, self.monitors.drop(columns="gap_d")], ignore_index=True)
+
+
+def week_candidates(visible, availability, targets, nights, altitude_deg=None, moon_sep_deg=None,
+                    options: ScheduleOptions = ScheduleOptions(), requests=None, intervals=None,
+                    log=None) -> WeekCandidates:
+    """Every candidate block of the nights, after the observation log (see :func:`plan_week_report`)."""
     require_columns(nights, NIGHT_COLUMNS, "night")
     require_columns(visible, VISIBLE_COLUMNS, "visible-event")
     if availability is not None:
@@ -151,11 +182,14 @@ def plan_week_report(visible, availability, targets, nights, altitude_deg=None, 
         cands = pd.concat([cands, phase[phase["night"].isin(order)]], ignore_index=True)
     cands, monitors = apply_log(cands, monitors, log, targets, visible)
     alt_mon = alt_mon[monitors.index.to_numpy()] if len(monitors) else alt_mon[:0]
-    monitors = monitors.reset_index(drop=True)
-    blocks, visits, report = choose_blocks(cands, monitors, targets, order, options.overhead_min / MIN_PER_DAY,
-                                           options.repeats, options.time_limit_s_per_night * max(len(order), 1))
+    return WeekCandidates(cands, monitors.reset_index(drop=True), alt_mon)
+
+
+def assemble(blocks, visits, week: WeekCandidates, nights, altitude_deg, options) -> pd.DataFrame:
+    """The schedule table of the chosen blocks and monitor visits of one site: altitudes, notes, order."""
+    order = list(nights["night"].astype(str))
     chosen, alt_fixed = with_altitudes(blocks, altitude_deg)
-    alts = list(alt_fixed) + list(alt_mon[visits.index.to_numpy()])
+    alts = list(alt_fixed) + list(week.alt_monitors[visits.index.to_numpy()])
     chosen = pd.concat([chosen, visits[list(SCHEDULE_COLUMNS)]], ignore_index=True) if len(visits) else chosen
     night_rows = {str(r["night"]): r for _, r in nights.iterrows()}
     chosen["notes"] = [
@@ -167,7 +201,4 @@ def plan_week_report(visible, availability, targets, nights, altitude_deg=None, 
     chosen = chosen.sort_values(["_n", "start_jd_utc", "target_index"], kind="stable").drop(columns="_n")
     chosen = chosen.reset_index(drop=True)
     chosen["target_index"] = chosen["target_index"].astype(np.int64)
-    logger.info("scheduled %d blocks (%d of %d request candidates, %d monitor visits) over %d nights: %s",
-             len(chosen), len(blocks), len(cands), len(visits), len(order), report.describe())
-    everything = pd.concat([cands, monitors.drop(columns="gap_d")], ignore_index=True) if len(monitors) else cands
-    return chosen[list(SCHEDULE_COLUMNS)], everything, report
+    return chosen[list(SCHEDULE_COLUMNS)]

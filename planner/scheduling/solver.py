@@ -107,7 +107,7 @@ def _window_cliques(start, gap):
 
 
 def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(), spacing=None, excludes=None,
-                   time_limit_s: float = DEFAULT_TIME_LIMIT_S, rel_gap: float = DEFAULT_REL_GAP):
+                   capacity=None, time_limit_s: float = DEFAULT_TIME_LIMIT_S, rel_gap: float = DEFAULT_REL_GAP):
     """(chosen, report): a boolean mask over ``options`` and a :class:`SolveReport`.
 
     ``options`` has columns ``telescope``, ``start_jd_utc``, ``end_jd_utc`` (UTC Julian dates,
@@ -117,6 +117,8 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
     (days, the group's largest value) apart. ``excludes`` is None or a pair of columns
     ``(leader, member)``: options whose ``leader`` label is L exclude every option whose
     ``member`` label is L (the leaders of a label must also share an exclusive group).
+    ``capacity`` maps an exclusive column to a column of per-option capacities: a label of that
+    column may then have up to its largest capacity chosen (an event followed from two sites).
     ``overhead_d`` (days) must separate consecutive blocks on a telescope. Options of value
     <= 0 are never chosen.
     """
@@ -130,13 +132,18 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
     if not (np.all(np.isfinite(start)) and np.all(end > start) and np.all(np.isfinite(value))):
         raise PeriplanError("every option needs finite times with end after start and a finite value")
     rows: list[list[int]] = []
+    bounds: dict[int, float] = {}  # row -> upper bound, where it is not 1
     for tel in pd.unique(options["telescope"]):
         idx = np.flatnonzero((options["telescope"] == tel).to_numpy())
         rows += [idx[c].tolist() for c in _overlap_cliques(start[idx], end[idx] + overhead_d)]
     for col in exclusive:
         labels = options[col].astype("string").fillna("").to_numpy(object)
+        caps = options[capacity[col]].to_numpy(float) if capacity and col in capacity else None
         for label, members in pd.Series(np.arange(n)).groupby(labels):
-            if label != "" and len(members) > 1:
+            cap = 1.0 if caps is None else float(np.nanmax(caps[members.to_numpy()]))
+            if label != "" and len(members) > cap:
+                if cap != 1.0:
+                    bounds[len(rows)] = cap
                 rows.append(members.tolist())
     if spacing is not None:
         group_col, gap_col = spacing
@@ -155,11 +162,11 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
             lead = leaders.get(member[j], []) if member[j] in leaders else []
             if lead:
                 rows.append(list(lead) + [int(j)])
-    chosen, report = _solve(value, rows, time_limit_s, rel_gap)
+    chosen, report = _solve(value, rows, time_limit_s, rel_gap, bounds)
     return chosen, dataclasses.replace(report, seconds=time.perf_counter() - t0)
 
 
-def _solve(value, rows, time_limit_s, rel_gap):
+def _solve(value, rows, time_limit_s, rel_gap, bounds=None):
     from scipy.optimize import Bounds, LinearConstraint, milp
     from scipy.sparse import csr_array
 
@@ -170,7 +177,10 @@ def _solve(value, rows, time_limit_s, rel_gap):
         return useful, SolveReport("optimal", total, total, 0.0, 0.0, n, 0)
     indptr = np.cumsum([0] + [len(r) for r in rows])
     a = csr_array((np.ones(indptr[-1]), np.concatenate(rows), indptr), shape=(len(rows), n))
-    res = milp(-np.where(useful, value, 0.0), constraints=LinearConstraint(a, -np.inf, 1.0),
+    upper = np.ones(len(rows))
+    for r, b in (bounds or {}).items():
+        upper[r] = b
+    res = milp(-np.where(useful, value, 0.0), constraints=LinearConstraint(a, -np.inf, upper),
                integrality=np.ones(n), bounds=Bounds(0.0, useful.astype(float)),
                options={"time_limit": float(time_limit_s), "mip_rel_gap": float(rel_gap), "presolve": True})
     if res.x is None:

@@ -30,7 +30,9 @@ def add_plan_options(p, need_inputs: bool = True):
         p.add_argument("catalog", metavar="CATALOG",
                        help="catalogue of targets and elements: CSV, or an ECSV, VOTable or FITS table "
                             "(by extension)")
-        p.add_argument("--site", required=True, metavar="SITE", help="site file (TOML)")
+        p.add_argument("--site", required=True, metavar="SITE", action="append",
+                       help="site file (TOML); give it again for a campaign of several sites or telescopes "
+                            "(each block goes to one site, each event to the site that serves it best)")
     p.add_argument("--start", metavar="YYYY-MM-DD",
                    help="local date of the first night's evening (default: the night under way until its "
                         "darkness ends, then the coming night; blocks of a night under way that began "
@@ -124,7 +126,9 @@ def run_plan(catalog, site_path, args) -> int:
         raise PeriplanError(f"--out {exc}; add --force to replace it or choose another folder") from None
     except PeriplanError as exc:
         raise PeriplanError(f"--out {exc}") from None
-    site = read_site(site_path)
+    site_paths = site_path if isinstance(site_path, list) else [site_path]
+    sites = [read_site(p) for p in site_paths]
+    site = sites[0]
     targets = catalogue.read_catalogue(catalog)
     log = None
     if getattr(args, "log", None):
@@ -133,6 +137,8 @@ def run_plan(catalog, site_path, args) -> int:
         log = read_log(args.log, targets)
     now = _now()
     first = first_night_for(args.start, site, now=now)
+    if len(sites) > 1:
+        return _run_campaign(targets, sites, first, settings, log, args)
     bar = ProgressBar(len(STAGES) + 1)
     plan = make_plan(targets, site, first, args.nights, settings, progress=bar, log=log)
     summary = sheets.week_summary_text(plan.schedule, plan.nights, tz=site.timezone, report=plan.report)
@@ -153,6 +159,32 @@ def run_plan(catalog, site_path, args) -> int:
     nights = count(len(plan.nights), "night") if used == len(plan.nights) else f"{used} of {count(len(plan.nights), 'night')}"
     print(f"\n{count(len(plan.schedule), 'block')} on {nights} at {site.name}; "
           f"{count(len(paths), 'file')} in {args.out}/")
+    print("Never point the telescope at or near the Sun; the observatory's own safety rules and local "
+          "regulations come first.")
+    return 0
+
+
+def _run_campaign(targets, sites, first, settings, log, args) -> int:
+    """``plan`` with several sites: one joint choice, a plan folder per site, one schedule and calendar."""
+    from ...outputs import plan_folder, sheets
+    from ...outputs.wording import count
+    from ...pipeline import STAGES, make_campaign
+    from ..progress import ProgressBar
+
+    bar = ProgressBar(len(STAGES) * len(sites) + 1)
+    plans = make_campaign(targets, sites, first, args.nights, settings, progress=bar, log=log)
+    summary = "".join(f"== {p.site.name} ==\n" + sheets.week_summary_text(p.schedule, p.nights, tz=p.site.timezone)
+                      for p in plans)
+    summary += f"Choice of blocks for all sites: {plans[0].report.describe()}.\n"
+    bar("writing files")
+    try:
+        paths = plan_folder.write_campaign(plans, args.out, force=args.force, summary_text=summary)
+    except plan_folder.OutputExists as exc:
+        raise PeriplanError(f"--out {exc}; add --force to replace it or choose another folder") from None
+    bar.done()
+    sys.stdout.write(summary)
+    n = sum(len(p.schedule) for p in plans)
+    print(f"\n{count(n, 'block')} at {count(len(sites), 'site')}; {count(len(paths), 'file')} in {args.out}/")
     print("Never point the telescope at or near the Sun; the observatory's own safety rules and local "
           "regulations come first.")
     return 0
