@@ -231,3 +231,77 @@ def test_the_eclipse_case_sets_both_outcomes(targets):
     # precondition of the case above: the two eclipse fractions put its value on either side of the sum
     margin = [_eclipse_case(targets, f)[3] - _eclipse_case(targets, f)[4].sum() for f in (1.0, 0.5)]
     assert margin[0] > 0 > margin[1]
+
+
+# --- (c) the week rules best and first leave no room unused ----------------------------------------
+
+SERIES_TARGETS = ((0, "Pulsar Ridge V1"), (2, "Keystone EB"), (3, "Small One"), (4, "Small Two"), (5, "Small Three"))
+
+
+def random_week(rng, per_night=5):
+    """Series windows of the fixed-event targets, each target's events recurring over the nights."""
+    rows = []
+    for k in range(len(NIGHT_LABELS)):
+        for _ in range(per_night):
+            ti, name = SERIES_TARGETS[int(rng.integers(0, len(SERIES_TARGETS)))]
+            s = rng.uniform(0.26, 0.66)
+            rows.append(visible_row(name, ti, k, s, s + rng.uniform(0.03, 0.10),
+                                    event=str(rng.choice(["periastron", "primary_conjunction"])),
+                                    sep=float(rng.uniform(5, 120)), fraction=float(rng.uniform(0.3, 1.0))))
+    return pd.DataFrame(rows)
+
+
+def fits(cand, blocks, overhead_d):
+    """Whether ``cand`` (a row) overlaps none of ``blocks``, the overhead kept on both sides."""
+    return bool(np.all((cand["end_jd_utc"] + overhead_d <= blocks["start_jd_utc"])
+                       | (blocks["end_jd_utc"] + overhead_d <= cand["start_jd_utc"])))
+
+
+def week_keys(frame):
+    return (frame["target_index"].astype(int).astype(str) + "|" + frame["event"].astype(str) + "|"
+            + frame["slot"].astype(str))
+
+
+@pytest.mark.parametrize("rule", ["best", "first"])
+def test_week_rules_leave_no_fitting_candidate_out_and_keep_the_every_night_value(targets, rule):
+    # Issue example: "best" and "first" left several nights with 2.7 of 11 dark hours used while
+    # blocks that fit there were left out. An optimal plan cannot do that (adding a block worth
+    # something would raise its total), and it is worth at least the every-night plan with each
+    # event kept only on its best night (that plan keeps the week rule).
+    rng = np.random.default_rng(20261207)
+    overhead_d = 10.0 / 1440.0
+    checked = repeated = 0
+    for case in range(6):
+        visible = random_week(rng)
+        monitor = availability_rows(1, "Lantern RV", nights=(case % 3,), start=0.27, end=0.73)
+        plan, cands, report = schedule.plan_week_report(visible, monitor, targets, nights_table(), altitude,
+                                                        options=schedule.ScheduleOptions(overhead_min=10.0,
+                                                                                         repeats=rule))
+        every = schedule.plan_week(visible, monitor, targets, nights_table(), altitude,
+                                   options=schedule.ScheduleOptions(overhead_min=10.0))
+        assert report.optimal, case
+        fixed = plan[plan["request"] != "monitor"]
+        assert not week_keys(fixed).duplicated().any(), case
+        # maximality: every left-out candidate worth something is shut out by a rule it would break
+        used_groups, used_keys = set(plan["group"]), set(week_keys(fixed))
+        watched = set(zip(plan.loc[plan["request"] == "monitor", "target_index"],
+                          plan.loc[plan["request"] == "monitor", "night"]))
+        rest = cands[(cands["request"] != "monitor") & (cands["score"] > 0)]
+        for _, c in rest.iterrows():
+            if c["group"] in used_groups or _week_key(c) in used_keys or (c["target_index"], c["night"]) in watched:
+                continue
+            assert not fits(c, plan, overhead_d), (case, c["target"], c["night"])
+            checked += 1
+        # value: at least the every-night plan with each event on its best night only
+        ev_fixed = every[every["request"] != "monitor"]
+        repeated += int(week_keys(ev_fixed).duplicated().any())
+        ev_value = pd.Series(solver_values(ev_fixed, rule), index=ev_fixed.index)
+        kept = ev_value.groupby(week_keys(ev_fixed)).max().sum()
+        kept += every.loc[every["request"] == "monitor", "score"].sum()
+        assert report.objective >= kept - TOTAL_TOL, case
+        assert report.objective == pytest.approx(solver_values(plan, rule).sum(), abs=TOTAL_TOL)
+        # and the total is the exhaustive optimum under the rule
+        assert report.objective == pytest.approx(exhaustive_best(with_gaps(cands, targets), overhead_d, rule),
+                                                 abs=TOTAL_TOL), case
+    assert repeated > 0  # the every-night plan repeats events: the rule had work to do
+    assert checked > 0  # some left-out candidates were free of every rule and had to be checked for room
