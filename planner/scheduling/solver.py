@@ -24,8 +24,9 @@ one, plus it).
 
 The programme is solved by HiGHS (Huangfu & Hall 2018, Math. Prog. Comp. 10, 119) through
 ``scipy.optimize.milp``, which proves optimality or reports the gap to its dual bound when the
-time limit stops it; the best plan found is used then. tests/test_solver.py compares totals with
-exhaustive search on random cases.
+time limit stops it; the best plan found is used then (when the limit comes before HiGHS
+has any plan, one taken greedily by value, which keeps every rule). tests/test_solver.py
+compares totals with exhaustive search on random cases.
 """
 
 from __future__ import annotations
@@ -173,6 +174,8 @@ def _solve(value, rows, time_limit_s, rel_gap):
     res = milp(-np.where(useful, value, 0.0), constraints=LinearConstraint(a, -np.inf, 1.0),
                integrality=np.ones(n), bounds=Bounds(0.0, useful.astype(float)),
                options={"time_limit": float(time_limit_s), "mip_rel_gap": float(rel_gap), "presolve": True})
+    if res.x is None and res.status == 1:  # stopped by the time limit before any plan of its own
+        return _greedy_plan(a, value, useful, res)
     if res.x is None:
         raise PeriplanError(f"the solver found no plan: {res.message}")
     chosen = res.x > 0.5
@@ -182,3 +185,27 @@ def _solve(value, rows, time_limit_s, rel_gap):
     gap = (bound - total) / bound if bound > 0 else 0.0
     status = "optimal" if res.status == 0 else ("time limit reached" if res.status == 1 else str(res.message))
     return chosen, SolveReport(status, total, bound, gap, 0.0, n, len(rows))
+
+
+def _greedy_plan(a, value, useful, res):
+    """(chosen, report) when the time limit stops HiGHS before it has a plan: options taken by
+    value, largest first, while every row keeps room (all rows are "at most one"), so the plan
+    keeps every rule. The bound is the solver's dual bound when it has one, else the sum of
+    every useful value (true, if loose)."""
+    cols = a.tocsc()
+    taken = np.zeros(a.shape[0], bool)
+    chosen = np.zeros(value.size, bool)
+    for i in np.argsort(-value, kind="stable"):
+        if not useful[i]:
+            break
+        rows_i = cols.indices[cols.indptr[i]:cols.indptr[i + 1]]
+        if not taken[rows_i].any():
+            taken[rows_i] = True
+            chosen[i] = True
+    total = float(value[chosen].sum())
+    dual = getattr(res, "mip_dual_bound", None)
+    bound = -float(dual) if dual is not None and np.isfinite(dual) else float(value[useful].sum())
+    bound = max(bound, total)
+    gap = (bound - total) / bound if bound > 0 else 0.0
+    return chosen, SolveReport("time limit reached before the solver had a plan (a plan taken by value is used)",
+                               total, bound, gap, 0.0, value.size, a.shape[0])
