@@ -459,3 +459,30 @@ def test_a_time_limit_that_stops_the_solver_early_still_gives_a_valid_plan_and_i
     _, full = choose_options(opts, 0.01, exclusive=("instance",), spacing=("monitor", "gap_d"), time_limit_s=60.0)
     assert full.optimal
     assert report.objective - TOTAL_TOL <= full.objective <= report.bound * (1 + 1e-4) + TOTAL_TOL
+
+
+def test_overlap_only_bound_equals_exhaustive_search_without_groups():
+    # With no groups the overlap rule is the whole programme, so its bound (weighted interval
+    # scheduling) must equal the exhaustive optimum (brute force over every subset, n <= 9).
+    import itertools
+
+    from planner.scheduling.solver import _interval_bound
+
+    rng = np.random.default_rng(5)
+    for case in range(150):
+        opts = random_options(rng, int(rng.integers(1, 10)))
+        overhead = float(rng.choice([0.0, 0.01]))
+        s, e, v = (opts[c].to_numpy(float) for c in ("start_jd_utc", "end_jd_utc", "value"))
+        tel = opts["telescope"].to_numpy(object)
+        best = 0.0
+        for k in range(1, len(opts) + 1):
+            for sub in itertools.combinations(range(len(opts)), k):
+                sub = np.array(sub)
+                apart = True
+                for t in set(tel[sub]):
+                    m = sub[tel[sub] == t]
+                    m = m[np.argsort(s[m])]
+                    apart &= bool(np.all(e[m][:-1] + overhead <= s[m][1:]))
+                if apart:
+                    best = max(best, v[sub].sum())
+        assert _interval_bound(tel, s, e + overhead, v) == pytest.approx(best, abs=TOTAL_TOL), case

@@ -156,11 +156,13 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
             lead = leaders.get(member[j], []) if member[j] in leaders else []
             if lead:
                 rows.append(list(lead) + [int(j)])
-    chosen, report = _solve(value, rows, time_limit_s, rel_gap)
+    tel = options["telescope"].to_numpy(object)
+    chosen, report = _solve(value, rows, time_limit_s, rel_gap,
+                            relaxed_bound=lambda: _interval_bound(tel, start, end + overhead_d, value))
     return chosen, dataclasses.replace(report, seconds=time.perf_counter() - t0)
 
 
-def _solve(value, rows, time_limit_s, rel_gap):
+def _solve(value, rows, time_limit_s, rel_gap, relaxed_bound=None):
     from scipy.optimize import Bounds, LinearConstraint, milp
     from scipy.sparse import csr_array
 
@@ -175,7 +177,7 @@ def _solve(value, rows, time_limit_s, rel_gap):
                integrality=np.ones(n), bounds=Bounds(0.0, useful.astype(float)),
                options={"time_limit": float(time_limit_s), "mip_rel_gap": float(rel_gap), "presolve": True})
     if res.x is None and res.status == 1:  # stopped by the time limit before any plan of its own
-        return _greedy_plan(a, value, useful, res)
+        return _greedy_plan(a, value, useful, res, relaxed_bound)
     if res.x is None:
         raise PeriplanError(f"the solver found no plan: {res.message}")
     chosen = res.x > 0.5
@@ -187,11 +189,28 @@ def _solve(value, rows, time_limit_s, rel_gap):
     return chosen, SolveReport(status, total, bound, gap, 0.0, n, len(rows))
 
 
-def _greedy_plan(a, value, useful, res):
+def _interval_bound(telescope, start, end_padded, value):
+    """Best total with the overlap rule alone (each telescope's weighted interval scheduling,
+    Kleinberg & Tardos, *Algorithm Design*, 2006, sec. 6.1): a bound on the full programme,
+    which only adds rules. Intervals [start, end_padded) (the overhead included) may touch."""
+    total = 0.0
+    for tel in pd.unique(telescope):
+        idx = np.flatnonzero((telescope == tel) & (value > 0))
+        order = idx[np.argsort(end_padded[idx], kind="stable")]
+        e, s, v = end_padded[order], start[order], value[order]
+        before = np.searchsorted(e, s, side="right")  # intervals ending by each start
+        best = np.zeros(order.size + 1)
+        for j in range(order.size):
+            best[j + 1] = max(best[j], v[j] + best[min(before[j], j)])
+        total += float(best[-1])
+    return total
+
+
+def _greedy_plan(a, value, useful, res, relaxed_bound=None):
     """(chosen, report) when the time limit stops HiGHS before it has a plan: options taken by
     value, largest first, while every row keeps room (all rows are "at most one"), so the plan
-    keeps every rule. The bound is the solver's dual bound when it has one, else the sum of
-    every useful value (true, if loose)."""
+    keeps every rule. The bound is the solver's dual bound when it has one, else the smaller of
+    ``relaxed_bound()`` (the overlap rule alone) and the sum of every useful value."""
     cols = a.tocsc()
     taken = np.zeros(a.shape[0], bool)
     chosen = np.zeros(value.size, bool)
@@ -204,7 +223,10 @@ def _greedy_plan(a, value, useful, res):
             chosen[i] = True
     total = float(value[chosen].sum())
     dual = getattr(res, "mip_dual_bound", None)
-    bound = -float(dual) if dual is not None and np.isfinite(dual) else float(value[useful].sum())
+    if dual is not None and np.isfinite(dual):
+        bound = -float(dual)
+    else:
+        bound = min(float(value[useful].sum()), relaxed_bound() if relaxed_bound else np.inf)
     bound = max(bound, total)
     gap = (bound - total) / bound if bound > 0 else 0.0
     return chosen, SolveReport("time limit reached before the solver had a plan (a plan taken by value is used)",
