@@ -176,8 +176,8 @@ def _solve(value, rows, time_limit_s, rel_gap, relaxed_bound=None):
     res = milp(-np.where(useful, value, 0.0), constraints=LinearConstraint(a, -np.inf, 1.0),
                integrality=np.ones(n), bounds=Bounds(0.0, useful.astype(float)),
                options={"time_limit": float(time_limit_s), "mip_rel_gap": float(rel_gap), "presolve": True})
-    if res.x is None and res.status == 1:  # stopped by the time limit before any plan of its own
-        return _greedy_plan(a, value, useful, res, relaxed_bound)
+    if res.status == 1:  # stopped by the time limit: the best plan found, or a greedy one if better
+        return _time_limited_plan(a, value, useful, res, relaxed_bound)
     if res.x is None:
         raise PeriplanError(f"the solver found no plan: {res.message}")
     chosen = res.x > 0.5
@@ -185,7 +185,7 @@ def _solve(value, rows, time_limit_s, rel_gap, relaxed_bound=None):
     bound = -float(res.mip_dual_bound) if getattr(res, "mip_dual_bound", None) is not None else total
     bound = max(bound, total)
     gap = (bound - total) / bound if bound > 0 else 0.0
-    status = "optimal" if res.status == 0 else ("time limit reached" if res.status == 1 else str(res.message))
+    status = "optimal" if res.status == 0 else str(res.message)
     return chosen, SolveReport(status, total, bound, gap, 0.0, n, len(rows))
 
 
@@ -206,11 +206,9 @@ def _interval_bound(telescope, start, end_padded, value):
     return total
 
 
-def _greedy_plan(a, value, useful, res, relaxed_bound=None):
-    """(chosen, report) when the time limit stops HiGHS before it has a plan: options taken by
-    value, largest first, while every row keeps room (all rows are "at most one"), so the plan
-    keeps every rule. The bound is the solver's dual bound when it has one, else the smaller of
-    ``relaxed_bound()`` (the overlap rule alone) and the sum of every useful value."""
+def _greedy_choice(a, value, useful):
+    """Options taken by value, largest first, while every row keeps room (all rows are "at most
+    one"), so the choice keeps every rule."""
     cols = a.tocsc()
     taken = np.zeros(a.shape[0], bool)
     chosen = np.zeros(value.size, bool)
@@ -221,13 +219,29 @@ def _greedy_plan(a, value, useful, res, relaxed_bound=None):
         if not taken[rows_i].any():
             taken[rows_i] = True
             chosen[i] = True
+    return chosen
+
+
+def _time_limited_plan(a, value, useful, res, relaxed_bound=None):
+    """(chosen, report) when the time limit stops HiGHS: its best plan, or the greedy choice
+    (:func:`_greedy_choice`) when HiGHS has none or a worse one. The bound is the smallest of
+    the solver's dual bound, ``relaxed_bound()`` (the overlap rule alone) and the sum of every
+    useful value: each is a true bound, so their minimum is one."""
+    greedy = _greedy_choice(a, value, useful)
+    solver = res.x > 0.5 if res.x is not None else None
+    if solver is not None and value[solver].sum() >= value[greedy].sum():
+        chosen, status = solver, "time limit reached"
+    else:
+        chosen = greedy
+        status = ("time limit reached before the solver had a plan (a plan taken by value is used)" if solver is None
+                  else "time limit reached (a plan taken by value, better than the solver's, is used)")
     total = float(value[chosen].sum())
+    bounds = [float(value[useful].sum())]
     dual = getattr(res, "mip_dual_bound", None)
     if dual is not None and np.isfinite(dual):
-        bound = -float(dual)
-    else:
-        bound = min(float(value[useful].sum()), relaxed_bound() if relaxed_bound else np.inf)
-    bound = max(bound, total)
+        bounds.append(-float(dual))
+    if relaxed_bound is not None:
+        bounds.append(relaxed_bound())
+    bound = max(min(bounds), total)
     gap = (bound - total) / bound if bound > 0 else 0.0
-    return chosen, SolveReport("time limit reached before the solver had a plan (a plan taken by value is used)",
-                               total, bound, gap, 0.0, value.size, a.shape[0])
+    return chosen, SolveReport(status, total, bound, gap, 0.0, value.size, a.shape[0])
