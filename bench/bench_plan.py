@@ -5,11 +5,19 @@ processes of their own (imports included), alternating, on the same random catal
 constraints: minimum altitude 30 deg, astronomical darkness, Moon separation 15 deg, at the
 invented benchmark site (37.62 N, 3.12 W). The reference process is bench/astroplan_week.py.
 Prints each run's wall time, the medians and their ratio (above 1: periplan is faster).
+
+After each periplan run the plan folder's ``schedule-info.json`` is read and its solver figures
+printed beside the timing: ``status`` (``optimal`` when HiGHS proved the plan optimal, else why
+it stopped), ``seconds`` (the solve, model building included), ``relative_gap`` (plan to the
+solver's bound, 0 when proven optimal), the time limit and the model's size. The week is one
+model, so these are figures for the whole week, not per night. The last lines compare the
+medians with the issue's targets: ratio at least 3, solve inside its time limit, gap at most 1 %.
 """
 
 from __future__ import annotations
 
 import argparse
+import json
 import os
 import pathlib
 import statistics
@@ -60,16 +68,42 @@ def main(argv=None):
                 "--nights", str(args.nights), "--out", os.path.join(tmp, "plan"), "--force"]
         ref = [sys.executable, str(HERE / "astroplan_week.py"), cat, site, args.start, str(args.nights)]
         times = {"periplan plan": [], "astroplan observability_table": []}
+        solves = []
         for i in range(args.repeat):
             for name, cmd in (("periplan plan", ours), ("astroplan observability_table", ref)):
                 times[name].append(timed(cmd))
-                print(f"run {i + 1} {name:32s} {times[name][-1]:7.2f} s", flush=True)
+                line = f"run {i + 1} {name:32s} {times[name][-1]:7.2f} s"
+                if name == "periplan plan":
+                    solves.append(solver_info(os.path.join(tmp, "plan")))
+                    line += "   " + describe(solves[-1])
+                print(line, flush=True)
         med = {k: statistics.median(v) for k, v in times.items()}
         files = len(os.listdir(os.path.join(tmp, "plan")))
     print(f"{args.targets} targets x {args.nights} nights; periplan wrote {files} files")
     for k, v in med.items():
         print(f"median {k:32s} {v:7.2f} s")
-    print(f"ratio astroplan / periplan = {med['astroplan observability_table'] / med['periplan plan']:.2f}")
+    ratio = med["astroplan observability_table"] / med["periplan plan"]
+    print(f"ratio astroplan / periplan = {ratio:.2f}")
+    solve_s = statistics.median(s["seconds"] for s in solves)
+    worst_gap = max(s["relative_gap"] for s in solves)
+    inside = all(s["seconds"] <= s["time_limit_s"] for s in solves)
+    print(f"solver: status {', '.join(sorted({s['status'] for s in solves}))}; median {solve_s:.2f} s of "
+          f"{solves[0]['time_limit_s']:.0f} s allowed; largest gap {100 * worst_gap:.3f}%; "
+          f"{solves[0]['options']} options, {solves[0]['constraints']} constraints, {solves[0]['blocks']} blocks")
+    print(f"targets: ratio >= 3: {'yes' if ratio >= 3 else 'NO'}; solve inside its limit: {'yes' if inside else 'NO'}; "
+          f"gap <= 1 %: {'yes' if worst_gap <= 0.01 else 'NO'}")
+
+
+def solver_info(plan_dir):
+    """The solver figures of one plan folder's schedule-info.json (a dict)."""
+    with open(os.path.join(plan_dir, "schedule-info.json"), encoding="utf-8") as fh:
+        return json.load(fh)
+
+
+def describe(info):
+    """One line: the solver's status, seconds, gap and time limit."""
+    return (f"solver {info['status']}, {info['seconds']:.2f} s (limit {info['time_limit_s']:.0f} s), "
+            f"gap {100 * info['relative_gap']:.3f}%")
 
 
 if __name__ == "__main__":

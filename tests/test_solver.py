@@ -12,7 +12,7 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from planner.scheduling.solver import _overlap_cliques, choose_options
+from planner.scheduling.solver import choose_options
 
 #: Totals are sums of a dozen values below 100: equal to 1e-6 unless a different set is chosen.
 TOTAL_TOL = 1e-6
@@ -95,12 +95,6 @@ def test_blocks_on_different_telescopes_may_overlap():
     assert choose_options(opts, exclusive=("instance",))[0].all()
     opts["instance"] = "x"  # the same event instance may be observed only once
     assert choose_options(opts, exclusive=("instance",))[0].sum() == 1
-
-
-def test_clique_sweep_finds_each_maximal_clique_once():
-    # [0,2) [1,3) [2.5,4): cliques {0,1} at 1.0 and {1,2} at 2.5 (Golumbic 1980, ch. 8)
-    cliques = _overlap_cliques(np.array([0.0, 1.0, 2.5]), np.array([2.0, 3.0, 4.0]))
-    assert sorted(map(sorted, cliques)) == [[0, 1], [1, 2]]
 
 
 def test_time_limit_reports_a_gap_or_optimality():

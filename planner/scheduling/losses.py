@@ -41,16 +41,23 @@ def _key(target_index, event, jd_utc):
     return [f"{t}|{e}|{m:.0f}" for t, e, m in zip(np.asarray(target_index, int), event, minute)]
 
 
-def _limit_reason(targets, site, tracks, ti, w0, w1):
-    """The limit that stops a target at most of its window's moments (code, words)."""
-    t = np.linspace(w0, w1, WINDOW_SAMPLES)
+def _limit_reasons(targets, site, tracks, ti, w0, w1):
+    """Per row, the limit that stops its target at most of its window's moments (code, words)."""
+    t = w0[:, None] + (w1 - w0)[:, None] * np.linspace(0.0, 1.0, WINDOW_SAMPLES)[None, :]
     inside = (t >= tracks.jd_utc[1]) & (t <= tracks.jd_utc[-2])
-    codes = limiting_constraint(targets, site, ti, t[inside], tracks) if inside.any() else np.zeros(0, object)
-    codes = [c for c in codes if c]
-    if not codes:
-        return "too_short", "something is observable, but no stretch long enough to be worth a block"
-    code = max(set(codes), key=codes.count)
-    return code, LIMIT_REASONS[code]
+    codes = np.full(t.shape, "", dtype=object)
+    if inside.any():
+        tis = np.broadcast_to(ti[:, None], t.shape)
+        codes[inside] = limiting_constraint(targets, site, tis[inside], t[inside], tracks)
+    out = []
+    for row in codes:
+        found = [c for c in row if c]
+        if not found:
+            out.append(("too_short", "something is observable, but no stretch long enough to be worth a block"))
+        else:
+            code = max(set(found), key=found.count)
+            out.append((code, LIMIT_REASONS[code]))
+    return out
 
 
 def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.DataFrame, targets: pd.DataFrame,
@@ -74,6 +81,7 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
             served.add(f"{ti}|{name}|{night}")
     ckeys = np.array(_key(candidates["target_index"], candidates["event"], candidates["event_jd_utc"]), dtype=object) \
         if len(candidates) else np.zeros(0, object)
+    by_key = pd.Series(np.arange(len(candidates))).groupby(ckeys).apply(list).to_dict() if len(candidates) else {}
     never_idx = set(never["target_index"].astype(int))
     dark = dict(zip(nights["night"].astype(str), np.isfinite(nights["dark_start_jd_utc"].to_numpy(float))))
     done_nights = {}
@@ -81,36 +89,52 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
         done_nights.setdefault((int(ti), ev), []).append(str(night))
     rules = (targets["week_rule"].astype(str).replace("", week_rule).to_numpy(object) if "week_rule" in targets
              else np.full(len(targets), week_rule, dtype=object))
-    rows = []
+    rows, pending = [], []
     keys = _key(v["target_index"], v["event"], v["jd_utc"])
+    score = candidates["score"].to_numpy(float) if len(candidates) else np.zeros(0)
+    event_utc = jd_utc_to_iso_z(v["jd_utc"].to_numpy(float))
+    c_start = candidates["start_jd_utc"].to_numpy(float) if len(candidates) else np.zeros(0)
+    c_end = candidates["end_jd_utc"].to_numpy(float) if len(candidates) else np.zeros(0)
+    both = "site" in candidates and "site" in schedule
+    c_site = candidates["site"].astype(str).to_numpy(object) if both else None
+    b_start = schedule["start_jd_utc"].to_numpy(float) if len(schedule) else np.zeros(0)
+    b_end = schedule["end_jd_utc"].to_numpy(float) if len(schedule) else np.zeros(0)
+    b_site = schedule["site"].astype(str).to_numpy(object) if both else None
+    b_target = schedule["target"].to_numpy(object) if len(schedule) else np.zeros(0, object)
+    b_event = schedule["event"].astype(str).to_numpy(object) if len(schedule) else np.zeros(0, object)
+    b_score = schedule["score"].to_numpy(float) if len(schedule) else np.zeros(0)
     for k, (key, r) in enumerate(zip(keys, v.itertuples())):
         ti = int(r.target_index)
         if key in served or f"{ti}|{r.event}|{r.night}" in served:
             continue
-        mine = candidates[ckeys == key] if len(candidates) else candidates
-        value = float(mine["score"].max()) if len(mine) else np.nan
+        members = by_key.get(key, [])
+        value = float(score[members].max()) if members else np.nan
         night = str(r.night)
         if ti in never_idx:
             code, words = "never_rises", "never rises high enough at the site"
         elif not dark.get(night, True):
             code, words = "no_darkness", "the night has no darkness at the site"
-        elif len(mine) == 0 and not (r.observable_h > 0):
-            code, words = _limit_reason(targets, site, tracks, ti, r.window_start_jd_utc, r.window_end_jd_utc)
-        elif len(mine) == 0:
+        elif not members and not (r.observable_h > 0):
+            code, words = "", ""  # the limit that stops it, found for all such rows at once below
+            pending.append((len(rows), ti, r.window_start_jd_utc, r.window_end_jd_utc))
+        elif not members:
             code, words = "too_short", "observable only in stretches too short or holding no contact with its baseline"
         elif rules[ti] != "every" and (ti, r.event) in done_nights and night not in done_nights[(ti, r.event)]:
             code, words = "better_night", f"done on {', '.join(sorted(set(done_nights[(ti, r.event)])))} instead"
         else:
-            best = mine.loc[mine["score"].idxmax()]
-            s0, s1 = best["start_jd_utc"] - overhead_d, best["end_jd_utc"] + overhead_d
-            rivals = schedule[(schedule["start_jd_utc"] < s1) & (schedule["end_jd_utc"] > s0)]
-            if "site" in schedule and "site" in best:
-                rivals = rivals[rivals["site"] == best["site"]]
-            named = ", ".join(f"{t} {e.replace('_', ' ')} ({s:.0f})" for t, e, s in
-                              zip(rivals["target"], rivals["event"], rivals["score"])) or "the week's other blocks"
+            best = members[int(np.argmax(score[members]))]
+            s0, s1 = c_start[best] - overhead_d, c_end[best] + overhead_d
+            hit = (b_start < s1) & (b_end > s0) & ((b_site == c_site[best]) if c_site is not None else True)
+            named = ", ".join(f"{t} {e.replace('_', ' ')} ({v:.0f})" for t, e, v in
+                              zip(b_target[hit], b_event[hit], b_score[hit])) or "the week's other blocks"
             code, words = "lost", f"lost to higher-value blocks: {named}"
         rows.append({"night": night, "target": r.target, "event": r.event, "request": r.request,
-                     "priority": float(targets["priority"].iloc[ti]), "event_utc": jd_utc_to_iso_z([r.jd_utc])[0],
+                     "priority": float(targets["priority"].iloc[ti]), "event_utc": event_utc[k],
                      "best_value": value, "reason_code": code, "reason": words})
+    if pending:
+        at, ti, w0, w1 = (np.array(x) for x in zip(*pending))
+        for k, (code, words) in zip(at, _limit_reasons(targets, site, tracks, ti.astype(int), w0.astype(float),
+                                                       w1.astype(float))):
+            rows[k]["reason_code"], rows[k]["reason"] = code, words
     out = pd.DataFrame(rows, columns=list(UNSCHEDULED_COLUMNS))
     return out.sort_values(["night", "priority"], ascending=[True, False], kind="stable").reset_index(drop=True)

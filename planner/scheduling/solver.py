@@ -13,19 +13,24 @@ of largest total value such that
 - an option of an *excluding* label shuts out every option of the same label in a second column
   (a monitor visit of a target and night, and any other block of that target that night).
 
-Formulation: x_i in {0, 1}, maximise sum v_i x_i subject to clique inequalities sum_{i in C} x_i <= 1.
-Blocks on a line form an interval graph, whose maximal cliques are the sets of blocks covering one
-moment; a sweep over the start times finds each maximal clique once (at most one per block), so
-the overlap rows are exact and few (Golumbic, *Algorithmic Graph Theory and Perfect Graphs*, 1980,
-ch. 8: interval graphs and their clique matrices). Spacing groups are interval graphs of the
-windows [start, start + gap) and are written the same way; exclusive groups are one row each;
+Formulation: x_i in {0, 1}, maximise sum v_i x_i. No overlap on a telescope is a path: the
+telescope's time points (every start and every end plus overhead, sorted) are the nodes of a
+network, each option an arc from its start to its end plus overhead, and an idle arc joins each
+point to the next; one unit of flow from the first point to the last picks a sequence of blocks
+that never overlap (flow conservation, two nonzeros per arc; the constraint matrix of a network
+is totally unimodular, Ahuja, Magnanti & Orlin, *Network Flows*, 1993, ch. 11, so the rule costs
+the search nothing by itself). The earlier clique form (one row per moment, hundreds of options in
+each for a large catalogue) held millions of nonzeros at 3,000 targets. Spacing groups are
+interval graphs of the windows [start, start + gap): a sweep writes their maximal cliques once
+(Golumbic, *Algorithmic Graph Theory and Perfect Graphs*, 1980, ch. 8); exclusive groups are one row each;
 an exclusion is one row per shut-out option (its label's excluding options, themselves at most
 one, plus it).
 
 The programme is solved by HiGHS (Huangfu & Hall 2018, Math. Prog. Comp. 10, 119) through
 ``scipy.optimize.milp``, which proves optimality or reports the gap to its dual bound when the
-time limit stops it; the best plan found is used then. tests/test_solver.py compares totals with
-exhaustive search on random cases.
+time limit stops it; the best plan found is used then (when the limit comes before HiGHS
+has any plan, one taken greedily by value, which keeps every rule). tests/test_solver.py
+compares totals with exhaustive search on random cases.
 """
 
 from __future__ import annotations
@@ -72,30 +77,6 @@ class SolveReport:
                 f"{self.bound:.1f} ({self.n_options} options, {self.seconds:.1f} s)")
 
 
-def _overlap_cliques(start, end_padded):
-    """Maximal sets of intervals [start, end_padded) sharing a moment (lists of positions).
-
-    Sweep over the sorted starts: a clique is emitted when an interval is about to end after at
-    least one has started since the last emission, so every maximal clique comes out once.
-    """
-    order = np.argsort(start, kind="stable")
-    active: list[int] = []
-    cliques = []
-    grown = False
-    for i in order:
-        s = start[i]
-        if grown and any(end_padded[j] <= s for j in active):
-            if len(active) > 1:
-                cliques.append(list(active))
-            grown = False
-        active = [j for j in active if end_padded[j] > s]
-        active.append(int(i))
-        grown = True
-    if grown and len(active) > 1:
-        cliques.append(active)
-    return cliques
-
-
 def _window_cliques(start, gap):
     """Maximal sets of starts lying within ``gap`` of the first: windows [s_i, s_i + gap)."""
     order = np.argsort(start, kind="stable")
@@ -132,19 +113,15 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
     if not (np.all(np.isfinite(start)) and np.all(end > start) and np.all(np.isfinite(value))):
         raise PeriplanError("every option needs finite times with end after start and a finite value")
     rows: list[list[int]] = []
-    bounds: dict[int, float] = {}  # row -> upper bound, where it is not 1
-    for tel in pd.unique(options["telescope"]):
-        idx = np.flatnonzero((options["telescope"] == tel).to_numpy())
-        rows += [idx[c].tolist() for c in _overlap_cliques(start[idx], end[idx] + overhead_d)]
+    upper: list[float] = []
     for col in exclusive:
         labels = options[col].astype("string").fillna("").to_numpy(object)
         caps = options[capacity[col]].to_numpy(float) if capacity and col in capacity else None
         for label, members in pd.Series(np.arange(n)).groupby(labels):
             cap = 1.0 if caps is None else float(np.nanmax(caps[members.to_numpy()]))
             if label != "" and len(members) > cap:
-                if cap != 1.0:
-                    bounds[len(rows)] = cap
                 rows.append(members.tolist())
+                upper.append(cap)
     if spacing is not None:
         group_col, gap_col = spacing
         labels = options[group_col].astype("string").fillna("").to_numpy(object)
@@ -153,42 +130,218 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
             gap = np.nanmax(gaps[members.to_numpy()]) if label != "" else 0.0
             if label != "" and len(members) > 1 and gap > 0:
                 m = members.to_numpy()
-                rows += [m[c].tolist() for c in _window_cliques(start[m], gap)]
+                for c in _window_cliques(start[m], gap):
+                    rows.append(m[c].tolist())
+                    upper.append(1.0)
     if excludes is not None:
         leader = options[excludes[0]].astype("string").fillna("").to_numpy(object)
         member = options[excludes[1]].astype("string").fillna("").to_numpy(object)
         leaders = pd.Series(np.arange(n)).groupby(leader).apply(list).to_dict()
         for j in np.flatnonzero(member != ""):
-            lead = leaders.get(member[j], []) if member[j] in leaders else []
+            lead = leaders.get(member[j], [])
             if lead:
                 rows.append(list(lead) + [int(j)])
-    chosen, report = _solve(value, rows, time_limit_s, rel_gap, bounds)
+                upper.append(1.0)
+    tel = options["telescope"].to_numpy(object)
+    chosen, report = _solve_parts(value, rows, np.asarray(upper, float), tel, start, end + overhead_d, time_limit_s,
+                                  rel_gap)
     return chosen, dataclasses.replace(report, seconds=time.perf_counter() - t0)
 
 
-def _solve(value, rows, time_limit_s, rel_gap, bounds=None):
+def _components(rows, telescope, start, end_padded):
+    """Label (int array) of the independent part of the model each option belongs to.
+
+    Options join one part when they overlap on one telescope (a run of blocks with no free moment
+    between them, overhead included: a night, usually) or share a row (a request over two nights,
+    a week rule, a monitor gap). Parts share nothing, so each is solved alone.
+    """
+    n = start.size
+    parent = np.arange(n)
+
+    def find(i):
+        while parent[i] != i:
+            parent[i] = parent[parent[i]]
+            i = parent[i]
+        return i
+
+    def union(i, j):
+        a, b = find(i), find(j)
+        if a != b:
+            parent[max(a, b)] = min(a, b)
+
+    for t in pd.unique(telescope):
+        idx = np.flatnonzero(telescope == t)
+        order = idx[np.argsort(start[idx], kind="stable")]
+        reach = -np.inf
+        for a, b in zip(order[:-1], order[1:]):
+            reach = max(reach, end_padded[a])
+            if start[b] < reach:  # b starts before the run so far is over: one run
+                union(a, b)
+    for r in rows:
+        for j in r[1:]:
+            union(r[0], j)
+    return np.array([find(i) for i in range(n)])
+
+
+def _solve_parts(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_gap):
+    """:func:`_solve` on each independent part (:func:`_components`), the time shared by size."""
+    part = _components(rows, telescope, start, end_padded)
+    labels, sizes = np.unique(part, return_counts=True)
+    chosen = np.zeros(value.size, bool)
+    total = bound = 0.0
+    statuses, n_rows = set(), 0
+    row_part = np.array([part[r[0]] for r in rows]) if rows else np.zeros(0, int)
+    for label, size in zip(labels, sizes):
+        idx = np.flatnonzero(part == label)
+        local = np.full(value.size, -1)
+        local[idx] = np.arange(idx.size)
+        keep = np.flatnonzero(row_part == label)
+        sub_rows = [local[np.asarray(rows[k])].tolist() for k in keep]
+        share = max(0.2, time_limit_s * size / value.size)
+        got, rep = _solve(value[idx], sub_rows, upper[keep], telescope[idx], start[idx], end_padded[idx], share,
+                          rel_gap, relaxed_bound=lambda i=idx: _interval_bound(telescope[i], start[i], end_padded[i],
+                                                                                value[i]))
+        chosen[idx] = got
+        total += rep.objective
+        bound += rep.bound
+        statuses.add(rep.status)
+        n_rows += rep.n_rows
+    status = "optimal" if statuses <= {"optimal"} else sorted(statuses - {"optimal"})[0]
+    gap = (bound - total) / bound if bound > 0 else 0.0
+    return chosen, SolveReport(status, total, max(bound, total), gap, 0.0, value.size, n_rows)
+
+
+def _flow_rows(telescope, start, end_padded):
+    """(sparse rows of the overlap rule, right-hand sides, number of idle arcs) as a network flow.
+
+    Per telescope: nodes are its sorted distinct time points; option i is an arc start_i ->
+    end_padded_i, idle arc k joins point k to point k + 1; conservation out - in = 1 at the first
+    point, -1 at the last, 0 between. Columns: the n options, then the idle arcs.
+    """
+    n = start.size
+    r_idx, c_idx, vals, rhs = [], [], [], []
+    n_idle, n_rows = 0, 0
+    for t in pd.unique(telescope):
+        idx = np.flatnonzero(telescope == t)
+        points = np.unique(np.concatenate([start[idx], end_padded[idx]]))
+        m = points.size
+        s_node = np.searchsorted(points, start[idx]) + n_rows
+        e_node = np.searchsorted(points, end_padded[idx]) + n_rows
+        idle = n + n_idle + np.arange(m - 1)
+        node = n_rows + np.arange(m - 1)
+        # out of a node: +1 (the option from its start, the idle arc to the next point); in: -1
+        r_idx += [s_node, e_node, node, node + 1]
+        c_idx += [idx, idx, idle, idle]
+        vals += [np.ones(idx.size), -np.ones(idx.size), np.ones(m - 1), -np.ones(m - 1)]
+        b = np.zeros(m)
+        b[0], b[-1] = 1.0, -1.0
+        rhs.append(b)
+        n_idle += m - 1
+        n_rows += m
+    return (np.concatenate(r_idx), np.concatenate(c_idx), np.concatenate(vals)), np.concatenate(rhs), n_idle, n_rows
+
+
+def _solve(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_gap, relaxed_bound=None):
     from scipy.optimize import Bounds, LinearConstraint, milp
-    from scipy.sparse import csr_array
+    from scipy.sparse import coo_array, csr_array
 
     n = value.size
     useful = value > 0
-    if not rows:  # nothing conflicts: take every option worth something
-        total = float(value[useful].sum())
-        return useful, SolveReport("optimal", total, total, 0.0, 0.0, n, 0)
-    indptr = np.cumsum([0] + [len(r) for r in rows])
-    a = csr_array((np.ones(indptr[-1]), np.concatenate(rows), indptr), shape=(len(rows), n))
-    upper = np.ones(len(rows))
-    for r, b in (bounds or {}).items():
-        upper[r] = b
-    res = milp(-np.where(useful, value, 0.0), constraints=LinearConstraint(a, -np.inf, upper),
-               integrality=np.ones(n), bounds=Bounds(0.0, useful.astype(float)),
+    (fr, fc, fv), rhs, n_idle, n_flow = _flow_rows(telescope, start, end_padded)
+    m = n + n_idle
+    flow = coo_array((fv, (fr, fc)), shape=(n_flow, m)).tocsr()
+    constraints = [LinearConstraint(flow, rhs, rhs)]
+    if rows:
+        indptr = np.cumsum([0] + [len(r) for r in rows])
+        a = csr_array((np.ones(indptr[-1]), np.concatenate(rows), indptr), shape=(len(rows), m))
+        constraints.append(LinearConstraint(a, -np.inf, upper))
+    else:
+        a = csr_array((0, m))
+    cost = np.zeros(m)
+    cost[:n] = -np.where(useful, value, 0.0)
+    integrality = np.zeros(m)
+    integrality[:n] = 1
+    ub = np.ones(m)
+    ub[:n] = useful.astype(float)
+    res = milp(cost, constraints=constraints, integrality=integrality, bounds=Bounds(0.0, ub),
                options={"time_limit": float(time_limit_s), "mip_rel_gap": float(rel_gap), "presolve": True})
+    n_rows = len(rows) + n_flow
+    if res.status == 1:  # stopped by the time limit: the best plan found, or a greedy one if better
+        return _time_limited_plan(a[:, :n], upper, telescope, start, end_padded, value, useful, res, relaxed_bound,
+                                  n_rows)
     if res.x is None:
         raise PeriplanError(f"the solver found no plan: {res.message}")
-    chosen = res.x > 0.5
+    chosen = res.x[:n] > 0.5
     total = float(value[chosen].sum())
     bound = -float(res.mip_dual_bound) if getattr(res, "mip_dual_bound", None) is not None else total
     bound = max(bound, total)
     gap = (bound - total) / bound if bound > 0 else 0.0
-    status = "optimal" if res.status == 0 else ("time limit reached" if res.status == 1 else str(res.message))
-    return chosen, SolveReport(status, total, bound, gap, 0.0, n, len(rows))
+    status = "optimal" if res.status == 0 else str(res.message)
+    return chosen, SolveReport(status, total, bound, gap, 0.0, n, n_rows)
+
+
+def _interval_bound(telescope, start, end_padded, value):
+    """Best total with the overlap rule alone (each telescope's weighted interval scheduling,
+    Kleinberg & Tardos, *Algorithm Design*, 2006, sec. 6.1): a bound on the full programme,
+    which only adds rules. Intervals [start, end_padded) (the overhead included) may touch."""
+    total = 0.0
+    for tel in pd.unique(telescope):
+        idx = np.flatnonzero((telescope == tel) & (value > 0))
+        order = idx[np.argsort(end_padded[idx], kind="stable")]
+        e, s, v = end_padded[order], start[order], value[order]
+        before = np.searchsorted(e, s, side="right")  # intervals ending by each start
+        best = np.zeros(order.size + 1)
+        for j in range(order.size):
+            best[j + 1] = max(best[j], v[j] + best[min(before[j], j)])
+        total += float(best[-1])
+    return total
+
+
+def _greedy_choice(a, upper, telescope, start, end_padded, value, useful):
+    """Options taken by value, largest first, while every row keeps room and the option's
+    telescope is free over its time (overhead included), so the choice keeps every rule."""
+    import bisect
+
+    cols = a.tocsc()
+    used = np.zeros(a.shape[0])
+    busy: dict = {}
+    chosen = np.zeros(value.size, bool)
+    for i in np.argsort(-value, kind="stable"):
+        if not useful[i]:
+            break
+        rows_i = cols.indices[cols.indptr[i]:cols.indptr[i + 1]]
+        if np.any(used[rows_i] + 1 > upper[rows_i]):
+            continue
+        spans = busy.setdefault(telescope[i], [])
+        k = bisect.bisect_left(spans, (start[i],))
+        if (k > 0 and spans[k - 1][1] > start[i]) or (k < len(spans) and spans[k][0] < end_padded[i]):
+            continue
+        spans.insert(k, (start[i], end_padded[i]))
+        used[rows_i] += 1
+        chosen[i] = True
+    return chosen
+
+
+def _time_limited_plan(a, upper, telescope, start, end_padded, value, useful, res, relaxed_bound, n_rows):
+    """(chosen, report) when the time limit stops HiGHS: its best plan, or the greedy choice
+    (:func:`_greedy_choice`) when HiGHS has none or a worse one. The bound is the smallest of
+    the solver's dual bound, ``relaxed_bound()`` (the overlap rule alone) and the sum of every
+    useful value: each is a true bound, so their minimum is one."""
+    greedy = _greedy_choice(a, upper, telescope, start, end_padded, value, useful)
+    solver = res.x[:value.size] > 0.5 if res.x is not None else None
+    if solver is not None and value[solver].sum() >= value[greedy].sum():
+        chosen, status = solver, "time limit reached"
+    else:
+        chosen = greedy
+        status = ("time limit reached before the solver had a plan (a plan taken by value is used)" if solver is None
+                  else "time limit reached (a plan taken by value, better than the solver's, is used)")
+    total = float(value[chosen].sum())
+    bounds = [float(value[useful].sum())]
+    dual = getattr(res, "mip_dual_bound", None)
+    if dual is not None and np.isfinite(dual):
+        bounds.append(-float(dual))
+    if relaxed_bound is not None:
+        bounds.append(relaxed_bound())
+    bound = max(min(bounds), total)
+    gap = (bound - total) / bound if bound > 0 else 0.0
+    return chosen, SolveReport(status, total, bound, gap, 0.0, value.size, n_rows)
