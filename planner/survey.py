@@ -25,7 +25,7 @@ import pandas as pd
 
 from .errors import PeriplanError
 from .orbits.events import predict_events, seen_in_span
-from .outputs.tables import events_frame
+from .outputs.tables import events_frame, with_visibility
 from .sky import windows
 from .timescales.epochs import bjd_bounds
 
@@ -106,14 +106,7 @@ def events_table(targets: pd.DataFrame, job: EventsJob) -> pd.DataFrame:
     vis = windows.event_visibility(events, targets, job.site, _nights_needed(events, job), baseline_h=job.baseline_h,
                                    k_sigma=job.k_sigma, tracks=job.tracks,
                                    jd_utc=t_utc.jd if len(events) else None)
-    table["night"] = vis["night"].to_numpy(object)
-    table["alt_deg"] = vis["alt_deg"].to_numpy(float)
-    table["moon_sep_deg"] = vis["moon_sep_deg"].to_numpy(float)
-    table["observable_fraction"] = vis["observable_fraction"].to_numpy(float)
-    table["night"] = table["night"].where(table["night"].notna(), "")
-    if job.visible is not None:
-        table = table[table["observable_fraction"] >= job.visible].reset_index(drop=True)
-    return table
+    return with_visibility(table, vis, job.visible)
 
 
 def _nights_needed(events, job):

@@ -85,6 +85,20 @@ def nights_frame(nights: pd.DataFrame, tz: str) -> pd.DataFrame:
 ALTITUDE_COLUMNS = ("alt_low_deg", "alt_event_deg", "alt_t1_deg", "alt_t2_deg", "alt_t3_deg", "alt_t4_deg")
 
 
+def with_visibility(table: pd.DataFrame, vis: pd.DataFrame, min_fraction: float | None = None) -> pd.DataFrame:
+    """The events display table with the night, altitude, Moon separation and observable fraction of
+    :func:`planner.sky.windows.event_visibility` (rows alike); only the rows observable at least to
+    ``min_fraction`` when given."""
+    table["night"] = vis["night"].to_numpy(object)
+    table["alt_deg"] = vis["alt_deg"].to_numpy(float)
+    table["moon_sep_deg"] = vis["moon_sep_deg"].to_numpy(float)
+    table["observable_fraction"] = vis["observable_fraction"].to_numpy(float)
+    table["night"] = table["night"].where(table["night"].notna(), "")
+    if min_fraction is not None:
+        table = table[table["observable_fraction"] >= min_fraction].reset_index(drop=True)
+    return table
+
+
 def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
     """The schedule for people and spreadsheets: ISO times in UTC and local time, minutes, notes.
 

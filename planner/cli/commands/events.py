@@ -10,7 +10,7 @@ import numpy as np
 from ...orbits import geometry
 from ...errors import PeriplanError
 from . import require_nonnegative
-from ...outputs.tables import FORMATS, render
+from ...outputs.tables import FORMATS, render, with_visibility
 from ...outputs.wording import count
 from .. import streamed
 
@@ -171,11 +171,4 @@ def _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, ar
     nights = night_table(site, first, n_nights, tracks=tracks)
     vis = event_visibility(events, targets, site, nights, baseline_h=baseline_h, k_sigma=k_sigma, tracks=tracks,
                            jd_utc=t_utc.jd if len(events) else None)
-    table["night"] = vis["night"].to_numpy(object)
-    table["alt_deg"] = vis["alt_deg"].to_numpy(float)
-    table["moon_sep_deg"] = vis["moon_sep_deg"].to_numpy(float)
-    table["observable_fraction"] = vis["observable_fraction"].to_numpy(float)
-    table["night"] = table["night"].where(table["night"].notna(), "")
-    if args.visible is not None:
-        table = table[table["observable_fraction"] >= args.visible].reset_index(drop=True)
-    return table
+    return with_visibility(table, vis, args.visible)
