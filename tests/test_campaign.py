@@ -28,6 +28,8 @@ from planner.scheduling.choose import FIRST_NIGHT_FACTOR
 from planner.scheduling.requests import request_kinds
 from planner.scheduling.solver import choose_options
 from planner.sky.limits import REASONS as LIMIT_REASONS
+from test_schedule import altitude, availability_rows  # the same invented sky as the scheduler tests
+from test_solver import random_options
 
 #: Totals are sums of at most ~30 scores of order 100: equal to 1e-6 unless a different set is chosen.
 TOTAL_TOL = 1e-6
@@ -73,18 +75,6 @@ def visible_row(target, ti, night_k, start, end, event="periastron", sep=70.0, f
             "night": NIGHT_LABELS[night_k], "alt_deg": 50.0, "window_start_jd_utc": s, "window_end_jd_utc": e,
             "observable_fraction": fraction, "observable_start_jd_utc": s, "observable_end_jd_utc": e,
             "moon_sep_deg": sep, "moon_illumination": 0.4, "jd_utc": 0.5 * (s + e)}
-
-
-def availability_rows(ti, name, nights=(0, 1, 2), start=0.27, end=0.73):
-    return pd.DataFrame([{"target_index": ti, "target": name, "night": NIGHT_LABELS[k],
-                          "start_jd_utc": J0 + k + start, "end_jd_utc": J0 + k + end, "max_alt_deg": 70.0}
-                         for k in nights])
-
-
-def altitude(ti, jd):
-    """A smooth invented altitude curve per target (deg): peak 75 deg near local midnight."""
-    frac = np.mod(jd - J0, 1.0)
-    return 75.0 - 180.0 * np.abs(frac - 0.5 - 0.03 * np.asarray(ti))
 
 
 # --- the reference: exhaustive search over the week's candidates ---------------------------------
@@ -410,17 +400,6 @@ def test_every_request_is_in_the_schedule_or_unscheduled_with_its_reason(tmp_pat
 
 
 # --- a time limit that stops the solver early ---------------------------------------------------
-
-def random_options(rng, n):
-    """Random blocks on two telescopes, with event instances and monitor groups (as in test_solver)."""
-    start = rng.uniform(0.0, 1.0, n)
-    return pd.DataFrame({
-        "telescope": rng.choice(["north", "south"], n),
-        "start_jd_utc": start, "end_jd_utc": start + rng.uniform(0.02, 0.3, n),
-        "value": np.round(rng.uniform(0.0, 10.0, n), 3),
-        "instance": rng.choice(["", "a", "b", "c"], n),
-        "monitor": rng.choice(["", "m1", "m2"], n), "gap_d": rng.choice([0.1, 0.25], n)})
-
 
 def keeps_the_rules(opts, chosen, overhead_d):
     """Whether the chosen options keep every rule choose_options states (checked directly)."""
