@@ -106,3 +106,21 @@ def test_time_limit_reports_a_gap_or_optimality():
     assert report.bound >= report.objective - TOTAL_TOL
     assert report.optimal or report.gap > 0
     assert "optimal" in report.describe() or "%" in report.describe()
+
+
+def test_night_by_night_solution_keeps_every_rule_and_brackets_the_optimum(monkeypatch):
+    # Large parts are solved run by run (planner.scheduling.solver._relaxed_runs); forced here on
+    # small random cases: the plan is feasible, and plan total <= exhaustive optimum <= bound.
+    from planner.scheduling import solver
+
+    monkeypatch.setattr(solver, "SPLIT_ABOVE", 0)
+    rng = np.random.default_rng(11)
+    for case in range(120):
+        opts = random_options(rng, int(rng.integers(2, 11)))
+        opts["start_jd_utc"] += rng.integers(0, 3, len(opts))  # three "nights"
+        opts["end_jd_utc"] = opts["start_jd_utc"] + rng.uniform(0.02, 0.3, len(opts))
+        chosen, report = choose_options(opts, 0.01, exclusive=("instance",), spacing=("monitor", "gap_d"))
+        assert feasible(opts, np.flatnonzero(chosen), 0.01, ("instance",), ("monitor", "gap_d")), case
+        best = brute_force(opts, 0.01, ("instance",), ("monitor", "gap_d"))
+        assert opts["value"][chosen].sum() <= best + TOTAL_TOL, case
+        assert report.bound >= best - TOTAL_TOL, case
