@@ -28,8 +28,8 @@ def add_plan_options(p, need_inputs: bool = True):
     """Options shared by ``plan`` and ``demo``."""
     if need_inputs:
         p.add_argument("catalog", metavar="CATALOG",
-                       help="catalogue of targets and elements: CSV, or an ECSV, VOTable or FITS table "
-                            "(by extension)")
+                       help="catalogue of targets and elements: CSV, or an ECSV, VOTable, FITS or Parquet "
+                            "table (by extension)")
         p.add_argument("--site", required=True, metavar="SITE", action="append",
                        help="site file (TOML); give it again for a campaign of several sites or telescopes "
                             "(each block goes to one site, each event to the site that serves it best)")
@@ -68,9 +68,11 @@ def add_plan_options(p, need_inputs: bool = True):
 def register(sub):
     p = sub.add_parser(
         "plan", help="plan the nights: schedule, printable lists, charts, calendar",
-        description="Predict the events of every target, find where they can be observed from the site in "
-                    "the nights asked for, choose the best non-overlapping blocks for each night and write "
-                    "the schedule, printable nightly lists, charts and an iCalendar file.",
+        description="Predict the events of every target, turn them into the observations they need, find "
+                    "where they can be observed from the site(s) in the nights asked for, choose the week's "
+                    "best non-overlapping blocks with an exact solver and write the schedule, printable "
+                    "nightly lists, charts, a week page, an iCalendar file and every request left out "
+                    "with its reason.",
         epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
     add_plan_options(p)
     p.set_defaults(run=run)
