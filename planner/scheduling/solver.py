@@ -228,8 +228,8 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
 
     Each run of blocks is solved exactly with its own rows and with the rows that join it to other
     runs, whose room is what the runs before it left (a request taken on Monday is not offered
-    on Tuesday); so the plan keeps every rule. The bound is the sum of the runs' optima with the
-    joining rows left out (a relaxation of the part), or the overlap-only bound if smaller.
+    on Tuesday); so the plan keeps every rule. The bound adds, per run, its programme's bound when
+    no row joins it to another run, else its overlap-only optimum (both relax the part).
     """
     run = _components([], telescope, start, end_padded)
     first = {label: start[run == label].min() for label in np.unique(run)}
@@ -241,15 +241,14 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
         idx = np.flatnonzero(run == label)
         local = np.full(value.size, -1)
         local[idx] = np.arange(idx.size)
-        sub_rows, sub_upper, which, alone_rows, alone_upper = [], [], [], [], []
+        sub_rows, sub_upper, which, alone_rows = [], [], [], []
         for k, m in enumerate(members):
             mine = local[m][local[m] >= 0]
             if mine.size == 0:
                 continue
             joins = mine.size < m.size
             if not joins:
-                alone_rows.append(mine.tolist())
-                alone_upper.append(upper[k])
+                alone_rows.append(k)
             sub_rows.append(mine.tolist())
             sub_upper.append(upper[k] - used[k])
             which.append(k)
@@ -265,10 +264,10 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
         chosen[idx] = got
         for k, r in zip(which, sub_rows):
             used[k] += got[np.asarray(r)].sum()
-        # the run's optimum without the joining rows: its share of the part's bound
-        free = _solve(value[idx], alone_rows, np.asarray(alone_upper, float), telescope[idx], start[idx],
-                      end_padded[idx], share, rel_gap)[1] if len(alone_rows) < len(sub_rows) else rep
-        bound += free.bound
+        # the run's share of the part's bound: its own programme's bound when no row joins it to
+        # another run (then the two are the same problem), else the overlap-only optimum
+        joined = len(alone_rows) < len(sub_rows)
+        bound += _interval_bound(telescope[idx], start[idx], end_padded[idx], value[idx]) if joined else rep.bound
         statuses.add(rep.status)
         n_rows += rep.n_rows
     total = float(value[chosen].sum())
