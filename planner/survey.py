@@ -19,7 +19,6 @@ command (:func:`planner.outputs.tables.events_frame`, plus the visibility column
 from __future__ import annotations
 
 import dataclasses
-import datetime as dt
 import numpy as np
 import pandas as pd
 
@@ -74,15 +73,9 @@ def make_job(start_utc, end_utc, kinds=None, tz=None, site=None, baseline_h=None
     """An :class:`EventsJob`, with the site's nights and Sun/Moon tracks made once when given."""
     nights = tracks = None
     if site is not None:
-        from .sky.night import night_table, tracks_for_nights
-        from .timescales.clock import zone
+        from .sky.night import nights_around
 
-        tzinfo = zone(site.timezone)
-        first = start_utc.to_datetime(timezone=dt.timezone.utc).astimezone(tzinfo).date() - dt.timedelta(days=NIGHT_PAD_D)
-        last = end_utc.to_datetime(timezone=dt.timezone.utc).astimezone(tzinfo).date() + dt.timedelta(days=NIGHT_PAD_D)
-        n_nights = (last - first).days + 1
-        tracks = tracks_for_nights(site, first, n_nights)
-        nights = night_table(site, first, n_nights, tracks=tracks)
+        tracks, nights = nights_around(site, start_utc, end_utc, NIGHT_PAD_D)
     return EventsJob(start_utc=start_utc, end_utc=end_utc, kinds=None if kinds is None else tuple(kinds),
                      tz=tz or (site.timezone if site is not None else None), site=site,
                      baseline_h=windows.DEFAULT_BASELINE_H if baseline_h is None else float(baseline_h),

@@ -14,6 +14,7 @@ writes them through :func:`planner.outputs.atomic.atomic_write`.
 
 from __future__ import annotations
 
+import functools
 import html
 import os
 
@@ -37,19 +38,17 @@ nav a { margin-right: 1em; }
 """
 
 
-_PARTS: dict = {}
+@functools.lru_cache(maxsize=4)
+def _parts(names: tuple) -> dict:
+    from .file_names import unique_file_parts
+
+    return unique_file_parts(list(names))
 
 
 def file_part(plan, target_name: str) -> str:
     """The target's part of file names in this plan: unique and readable across the catalogue
     (:func:`planner.outputs.file_names.unique_file_parts`, computed once per catalogue)."""
-    from .file_names import unique_file_parts
-
-    names = tuple(plan.targets["name"].astype(str))
-    if _PARTS.get("names") != names:
-        _PARTS.clear()
-        _PARTS.update(names=names, parts=unique_file_parts(list(names)))
-    return _PARTS["parts"][str(target_name)]
+    return _parts(tuple(plan.targets["name"].astype(str)))[str(target_name)]
 
 
 def page_name(plan, target_name: str) -> str:

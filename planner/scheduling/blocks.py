@@ -148,3 +148,10 @@ def mean_airmass(airmass):
     count = known.sum(axis=1)
     total = np.where(known, airmass, 0.0).sum(axis=1)
     return np.where(count > 0, total / np.maximum(count, 1), np.nan)
+
+
+def instance_keys(target_index, event, jd_utc) -> list[str]:
+    """``target|event|minute`` of each event instance: one instance, whichever site, candidate or
+    log row names it (the UTC minute of the moment it is seen from the Earth)."""
+    minute = np.round(np.asarray(jd_utc, float) * MIN_PER_DAY)
+    return [f"{t}|{e}|{m:.0f}" for t, e, m in zip(np.asarray(target_index, int), event, minute)]

@@ -28,7 +28,7 @@ import pandas as pd
 
 from ..orbits import coverage
 from .coverage import parts_covered, reference_epoch
-from .blocks import SCHEDULE_COLUMNS, altitudes, mean_airmass, sample_times
+from .blocks import SCHEDULE_COLUMNS, instance_keys, altitudes, mean_airmass, sample_times
 from .score import airmass_from_alt, score_components
 
 #: Length of a phase-coverage visit when the catalogue gives no ``visit_h`` [common practice: one
@@ -55,8 +55,7 @@ def _instances(log, visible):
             mid = 0.5 * (row.start_jd_utc + row.end_jd_utc)
             near = np.abs(mine["jd_utc"].to_numpy(float) - mid)
             mine = mine.iloc[[int(np.argmin(near))]] if near.min() < 0.5 * mine["period_d"].iloc[0] else mine.iloc[:0]
-        for jd in mine["jd_utc"]:
-            key = f"{row.target_index}|{row.purpose}|{np.round(jd * 1440.0):.0f}"
+        for key in instance_keys([row.target_index] * len(mine), [row.purpose] * len(mine), mine["jd_utc"]):
             keys.setdefault(key, []).append(row)
     return keys
 
@@ -68,8 +67,7 @@ def apply_log(cands: pd.DataFrame, monitors: pd.DataFrame, log: pd.DataFrame | N
         return cands, monitors
     vis = visible.assign(period_d=targets["period_d"].to_numpy(float)[visible["target_index"].to_numpy(int)])
     logged = _instances(log, vis)
-    keys = [f"{t}|{e}|{np.round(j * 1440.0):.0f}" for t, e, j in
-            zip(cands["target_index"], cands["event"], cands["event_jd_utc"].to_numpy(float))]
+    keys = instance_keys(cands["target_index"], cands["event"], cands["event_jd_utc"])
     keep = np.ones(len(cands), bool)
     score = cands["score"].to_numpy(float).copy()
     for k, (key, c) in enumerate(zip(keys, cands.itertuples())):

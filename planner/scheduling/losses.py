@@ -27,18 +27,13 @@ import pandas as pd
 from ..sky.limits import REASONS as LIMIT_REASONS
 from ..sky.limits import limiting_constraint
 from ..timescales.clock import jd_utc_to_iso_z
+from .blocks import instance_keys
 from .requests import request_kinds
 
 UNSCHEDULED_COLUMNS = ("night", "target", "event", "request", "priority", "event_utc", "best_value",
                        "reason_code", "reason")
 #: Moments of a window at which the limiting constraint is asked for.
 WINDOW_SAMPLES = 9
-
-
-def _key(target_index, event, jd_utc):
-    """One event instance, whichever site or candidate names it: target, event, UTC minute."""
-    minute = np.round(np.asarray(jd_utc, float) * 1440.0)
-    return [f"{t}|{e}|{m:.0f}" for t, e, m in zip(np.asarray(target_index, int), event, minute)]
 
 
 def _limit_reasons(targets, site, tracks, ti, w0, w1):
@@ -74,12 +69,12 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
     v = visible[kinds != ""].assign(request=kinds[kinds != ""]).reset_index(drop=True)
     if v.empty:
         return pd.DataFrame({c: [] for c in UNSCHEDULED_COLUMNS})
-    served = set(_key(schedule["target_index"], schedule["event"], schedule["event_jd_utc"])) if len(schedule) else set()
+    served = set(instance_keys(schedule["target_index"], schedule["event"], schedule["event_jd_utc"])) if len(schedule) else set()
     for serves, ti, night in zip(schedule.get("serves", []), schedule.get("target_index", []),
                                  schedule.get("night", [])):
         for name in str(serves or "").split(";")[1:]:  # the second event a merged block serves
             served.add(f"{ti}|{name}|{night}")
-    ckeys = np.array(_key(candidates["target_index"], candidates["event"], candidates["event_jd_utc"]), dtype=object) \
+    ckeys = np.array(instance_keys(candidates["target_index"], candidates["event"], candidates["event_jd_utc"]), dtype=object) \
         if len(candidates) else np.zeros(0, object)
     by_key = pd.Series(np.arange(len(candidates))).groupby(ckeys).apply(list).to_dict() if len(candidates) else {}
     never_idx = set(never["target_index"].astype(int))
@@ -90,7 +85,7 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
     rules = (targets["week_rule"].astype(str).replace("", week_rule).to_numpy(object) if "week_rule" in targets
              else np.full(len(targets), week_rule, dtype=object))
     rows, pending = [], []
-    keys = _key(v["target_index"], v["event"], v["jd_utc"])
+    keys = instance_keys(v["target_index"], v["event"], v["jd_utc"])
     score = candidates["score"].to_numpy(float) if len(candidates) else np.zeros(0)
     event_utc = jd_utc_to_iso_z(v["jd_utc"].to_numpy(float))
     c_start = candidates["start_jd_utc"].to_numpy(float) if len(candidates) else np.zeros(0)

@@ -239,3 +239,14 @@ def darkness_of(night) -> tuple[str, float]:
     except (TypeError, ValueError):
         alt = np.nan
     return darkness_name(alt), alt
+
+
+def nights_around(site, start_utc, end_utc, pad_days: int):
+    """(tracks, night table) of the local nights from ``pad_days`` before the UTC span (astropy
+    Times) to ``pad_days`` after it: every night an event window of the span can reach."""
+    tzinfo = zone(site.timezone)
+    first = start_utc.to_datetime(timezone=dt.timezone.utc).astimezone(tzinfo).date() - dt.timedelta(days=pad_days)
+    last = end_utc.to_datetime(timezone=dt.timezone.utc).astimezone(tzinfo).date() + dt.timedelta(days=pad_days)
+    n_nights = (last - first).days + 1
+    tracks = tracks_for_nights(site, first, n_nights)
+    return tracks, night_table(site, first, n_nights, tracks=tracks)

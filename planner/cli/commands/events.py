@@ -145,11 +145,8 @@ def _note_corrections(table, events, targets):
 
 def _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, args):
     """``table`` (rows of ``events``) with night, alt_deg, moon_sep_deg and observable_fraction added."""
-    import datetime as dt
-
-    from ...sky.night import night_table, tracks_for_nights
     from ...outputs.tables import never_rising_lines
-    from ...timescales.clock import zone
+    from ...sky.night import nights_around
     from ...sky.windows import DEFAULT_BASELINE_H, DEFAULT_K_SIGMA, event_visibility, never_rising
 
     if args.visible is None or args.visible <= 0:
@@ -163,12 +160,7 @@ def _with_visibility(table, events, t_utc, targets, site, start_utc, end_utc, ar
     # nights covering every window: the span, one night either side, plus the widest half-window
     half_d = (events["sigma_d"].to_numpy(float) * k_sigma).max() if len(events) else 0.0
     pad = 1 + int(min(np.ceil(np.nan_to_num(half_d) + 0.25), MAX_WINDOW_PAD_D))
-    tzinfo = zone(site.timezone)
-    first = start_utc.to_datetime(timezone=dt.timezone.utc).astimezone(tzinfo).date() - dt.timedelta(days=pad)
-    last = end_utc.to_datetime(timezone=dt.timezone.utc).astimezone(tzinfo).date() + dt.timedelta(days=pad)
-    n_nights = (last - first).days + 1
-    tracks = tracks_for_nights(site, first, n_nights)
-    nights = night_table(site, first, n_nights, tracks=tracks)
+    tracks, nights = nights_around(site, start_utc, end_utc, pad)
     vis = event_visibility(events, targets, site, nights, baseline_h=baseline_h, k_sigma=k_sigma, tracks=tracks,
                            jd_utc=t_utc.jd if len(events) else None)
     return with_visibility(table, vis, args.visible)
