@@ -76,7 +76,7 @@ class ScheduleOptions:
     weights: ScoreWeights = field(default_factory=lambda: DEFAULT_WEIGHTS)
 
     def __post_init__(self):
-        if self.repeats not in WEEK_RULES:
+        if self.repeats not in WEEK_RULES:  # a target's own week_rule is checked by the catalogue
             raise PeriplanError(f"week rule {self.repeats!r} is unknown; expected one of {', '.join(WEEK_RULES)}")
         if not (np.isfinite(self.time_limit_s_per_night) and self.time_limit_s_per_night > 0):
             raise PeriplanError(f"the solver's time limit must be a positive number of seconds; "

@@ -20,7 +20,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .options import WEEK_RULES, apply_week_rule, candidate_options
+from .options import candidate_options
 from .solver import choose_options
 
 
@@ -54,16 +54,11 @@ def choose_blocks(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataF
     """
     opts = candidate_options(cands)
     rules = _week_rules(cands, targets, week_rule)[opts["candidate"].to_numpy()] if len(opts) else np.zeros(0)
-    rank = {lab: i for i, lab in enumerate(nights_order)}
-    kept = []
-    for rule in WEEK_RULES:
-        part, _ = apply_week_rule(opts[rules == rule].reset_index(drop=True), rule, nights_order)
-        if rule == "every":
-            part["week_key"] = ""
-        if rule == "first":
-            part["value"] = part["value"] * FIRST_NIGHT_FACTOR ** part["night"].map(rank).to_numpy(float)
-        kept.append(part)
-    opts = pd.concat(kept, ignore_index=True) if kept else opts
+    # "every": no week key, so each instance may be taken; "best"/"first": the week key allows one;
+    # "first" also makes each later night worth less
+    rank = opts["night"].map({lab: i for i, lab in enumerate(nights_order)}).to_numpy(float)
+    opts["week_key"] = np.where(rules == "every", "", opts["week_key"].to_numpy(object))
+    opts["value"] = np.where(rules == "first", opts["value"] * FIRST_NIGHT_FACTOR ** rank, opts["value"])
     opts["source"] = "request"
     opts["monitor_night"] = ""
     opts["block_night"] = _target_night(cands.iloc[opts["candidate"].to_numpy()].reset_index(drop=True)) \

@@ -19,7 +19,6 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .blocks import WEEK_RULES
 
 #: Most start times tried for one movable visit (the proposed one included).
 MAX_STARTS = 7
@@ -73,19 +72,3 @@ def candidate_options(cands: pd.DataFrame, telescope: str = "telescope") -> pd.D
                      + (c["slot"].astype(str) if "slot" in c else "0")).to_numpy(object)[k],
         "night": c["night"].astype(str).to_numpy(object)[k],
     })
-
-
-def apply_week_rule(options: pd.DataFrame, rule: str, nights_order) -> tuple[pd.DataFrame, tuple]:
-    """(options kept, exclusive group columns) for the week rule (:data:`WEEK_RULES`).
-
-    ``every``: each request at most once. ``best``: also each target's event at most once in the
-    week, on whichever night the solver finds best. ``first``: at most once too; the caller
-    makes earlier nights worth a little more (:data:`planner.scheduling.choose.FIRST_NIGHT_FACTOR`).
-    """
-    if rule not in WEEK_RULES:
-        from ..errors import PeriplanError
-
-        raise PeriplanError(f"week rule {rule!r} is unknown; expected one of {', '.join(WEEK_RULES)}")
-    if rule == "every" or options.empty:
-        return options, ("group",)
-    return options, ("group", "week_key")
