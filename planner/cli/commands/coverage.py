@@ -66,7 +66,7 @@ def run(args) -> int:
         "rv_sampled_min_ms": ".1f", "rv_sampled_max_ms": ".1f", "rv_range_fraction": ".2f"}))
     if args.format == "table":
         sys.stdout.flush()
-        n_obs = int((log["outcome"] != "lost").sum())
+        n_obs = int(log["outcome"].isin(["done", "partial"]).sum())
         print(f"{n_obs} observation{'s' * (n_obs != 1)} of {len(targets)} target{'s' * (len(targets) != 1)} "
               f"in {os.path.basename(args.log)}; {args.bins} phase bins per orbit"
               + (f"; {len(chart_paths)} charts in {args.charts}/" if chart_paths else ""), file=sys.stderr)
