@@ -111,6 +111,8 @@ def action(block) -> str:
         what = str(block["event"]).replace("rv_max", "RV maximum").replace("rv_min", "RV minimum").replace("_", " ")
         text = RV_ACTIONS[request].format(minutes=minutes, what=what, slot=int(block.get("slot", 1)),
                                           n_slots=int(block.get("n_slots", 1)))
+        if block["event"] == "visit":  # a phase-coverage visit: its bin, not an event
+            text = f"one RV spectrum of about {minutes:.0f} min in orbital {label} (not yet observed)"
     else:
         text = ACTIONS.get(str(block["event"]), "observe {label}").format(label=label)
     serves = str(block.get("serves", "") or "")

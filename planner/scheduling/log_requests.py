@@ -177,7 +177,6 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
     out["group"] = [f"phase|{i}|{b}" for i, b in zip(ti, bins)]
     out["slot"], out["n_slots"], out["covers"], out["not_covered"], out["notes"] = 0, 1, "", "", ""
     out["science_fraction"], out["priority"] = 1.0, targets["priority"].to_numpy(float)[ti]
-    out["period_d"] = targets["period_d"].to_numpy(float)[ti]
     out["earliest_start_jd_utc"], out["latest_start_jd_utc"] = start, start
     out["alt_low_deg"], out["airmass"], out["moon_sep_deg"], out["moon_illumination"] = alt.min(axis=1), x, sep, illum
     for c in sc.columns:
