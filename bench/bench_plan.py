@@ -9,8 +9,9 @@ Prints each run's wall time, the medians and their ratio (above 1: periplan is f
 After each periplan run the plan folder's ``schedule-info.json`` is read and its solver figures
 printed beside the timing: ``status`` (``optimal`` when HiGHS proved the plan optimal, else why
 it stopped), ``seconds`` (the solve, model building included), ``relative_gap`` (plan to the
-solver's bound, 0 when proven optimal), the time limit and the model's size. The week is one
-model, so these are figures for the whole week, not per night. The last lines compare the
+solver's bound, 0 when proven optimal), the time limit and the model's size, then per night
+when a large week is solved night by night (``solved_by_night``: options, seconds, status and
+the gap to that night's own bound). The last lines compare the
 medians with the issue's targets: ratio at least 3, solve inside its time limit, gap at most 1 %.
 """
 
@@ -101,9 +102,15 @@ def solver_info(plan_dir):
 
 
 def describe(info):
-    """One line: the solver's status, seconds, gap and time limit."""
-    return (f"solver {info['status']}, {info['seconds']:.2f} s (limit {info['time_limit_s']:.0f} s), "
+    """The solver's status, seconds, gap and time limit, then a line per night solved on its own
+    (its options, seconds, status and gap to its own bound)."""
+    line = (f"solver {info['status']}, {info['seconds']:.2f} s (limit {info['time_limit_s']:.0f} s), "
             f"gap {100 * info['relative_gap']:.3f}%")
+    for run in info.get("solved_by_night", []):
+        gap = (run["bound"] - run["total"]) / run["bound"] if run["bound"] > 0 else 0.0
+        line += (f"\n      night from {run['start_utc']}: {run['options']:6d} options, {run['seconds']:5.2f} s, "
+                 f"{run['status']}, gap {100 * gap:.3f}%")
+    return line
 
 
 if __name__ == "__main__":

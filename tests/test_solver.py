@@ -124,3 +124,27 @@ def test_night_by_night_solution_keeps_every_rule_and_brackets_the_optimum(monke
         best = brute_force(opts, 0.01, ("instance",), ("monitor", "gap_d"))
         assert opts["value"][chosen].sum() <= best + TOTAL_TOL, case
         assert report.bound >= best - TOTAL_TOL, case
+
+
+def test_reduced_value_fixing_keeps_the_optimum_of_the_whole_programme():
+    # The branch and bound runs on the options whose LP reduced value is within a margin
+    # (planner.scheduling.solver._solve); reference: HiGHS's branch and bound on every option of
+    # the same programme (no fixing), on random nights of 400 options with instance rows.
+    from planner.scheduling import solver
+
+    rng = np.random.default_rng(5)
+    for case in range(12):
+        n = 400
+        start = rng.uniform(0.0, 0.5, n)
+        value = rng.uniform(1.0, 100.0, n)
+        end = start + rng.uniform(0.01, 0.08, n) + 0.007
+        labels = rng.integers(0, 120, n)
+        rows = [np.flatnonzero(labels == k).tolist() for k in range(120) if np.sum(labels == k) > 1]
+        upper = np.ones(len(rows))
+        tel = np.array(["one"] * n, object)
+        chosen, report, _ = solver._solve(value, rows, upper, tel, start, end, 60.0, 1e-9)
+        whole = solver._Programme.build(value, rows, upper, tel, start, end)
+        ref, ref_report = solver._branch_and_bound(whole, tel, start, end, 60.0, 1e-9, None)
+        assert report.optimal and ref_report.optimal, case
+        assert value[chosen].sum() == pytest.approx(value[ref].sum(), rel=1e-9), case
+        assert report.bound >= value[ref].sum() - 1e-6, case

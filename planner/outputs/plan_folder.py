@@ -48,6 +48,7 @@ import pandas as pd
 
 from ..errors import PeriplanError
 from ..sky import windows
+from ..timescales import clock
 
 #: Sample step (days) of the altitude curves in the night charts: 5 minutes.
 CHART_STEP_D = 5.0 / 1440.0
@@ -374,6 +375,8 @@ def schedule_info_json(plan) -> str:
         "site": plan.site.name, "nights": [str(n) for n in plan.nights["night"]],
         "blocks": int(len(plan.schedule)), "unscheduled_requests": int(len(plan.unscheduled)),
         "score_weights": dataclasses.asdict(options.weights),
+        "solved_by_night": [dict(run, start_utc=clock.jd_utc_to_iso_z([run["start_jd_utc"]])[0])
+                            for run in (r.runs if r else ())],
     }
     return json.dumps(info, indent=1) + "\n"
 
