@@ -106,6 +106,11 @@ def describe(info):
     (its options, seconds, status and gap to its own bound)."""
     line = (f"solver {info['status']}, {info['seconds']:.2f} s (limit {info['time_limit_s']:.0f} s), "
             f"gap {100 * info['relative_gap']:.3f}%")
+    stages = info.get("stage_seconds", {})
+    if stages:
+        rest = sum(stages.values()) - stages.get("requests", 0.0)
+        line += (f"\n      stages (s): " + ", ".join(f"{k} {v:.2f}" for k, v in stages.items())
+                 + f"; the request stage adds {100 * stages.get('requests', 0.0) / rest:.1f}% to the rest")
     for run in info.get("solved_by_night", []):
         gap = (run["bound"] - run["total"]) / run["bound"] if run["bound"] > 0 else 0.0
         line += (f"\n      night from {run['start_utc']}: {run['options']:6d} options, {run['seconds']:5.2f} s, "

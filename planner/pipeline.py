@@ -11,6 +11,7 @@ from __future__ import annotations
 import dataclasses
 import datetime as dt
 import logging
+import time
 
 import numpy as np
 import pandas as pd
@@ -65,6 +66,7 @@ class Plan:
     candidates: pd.DataFrame = dataclasses.field(default_factory=pd.DataFrame)   # every block chosen from
     unscheduled: pd.DataFrame = dataclasses.field(default_factory=pd.DataFrame)  # planner.scheduling.losses
     report: object = None       # planner.scheduling.solver.SolveReport: optimal, or the gap to the bound
+    stage_seconds: dict = dataclasses.field(default_factory=dict)  # wall seconds of each of STAGES
 
     def altitude_deg(self, target_index, jd_utc):
         """Airless altitude (deg) of targets (row numbers) at UTC Julian dates, broadcast."""
@@ -142,13 +144,35 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
     (:func:`planner.inputs.observation_log.read_log`), takes out what was observed and adapts the
     rest (:mod:`planner.scheduling.log_requests`). Deterministic: the same inputs give the same plan.
     """
-    plan = _prepare(targets, site, first_night, n_nights, settings, progress)
-    _stage(progress, "schedule")
+    timer = _StageTimer(progress)
+    plan = _prepare(targets, site, first_night, n_nights, settings, timer)
+    _stage(timer, "schedule")
     plan.schedule, plan.candidates, plan.report = plan_week_report(
         plan.events, plan.intervals, targets, plan.nights, altitude_deg=plan.altitude_deg,
         moon_sep_deg=plan.moon_sep_deg, options=settings.schedule, requests=plan.requests, log=log)
     plan.unscheduled = _losses(plan, plan.schedule)
+    plan.stage_seconds = timer.done()
     return plan
+
+
+class _StageTimer:
+    """A progress callback that passes each stage on and keeps the wall seconds each took."""
+
+    def __init__(self, progress):
+        self.progress, self.seconds, self._open = progress, {}, None
+
+    def __call__(self, name):
+        self.done()
+        self._open = (name, time.perf_counter())
+        if self.progress is not None:
+            self.progress(name)
+
+    def done(self) -> dict:
+        if self._open is not None:
+            name, t0 = self._open
+            self.seconds[name] = round(self.seconds.get(name, 0.0) + time.perf_counter() - t0, 3)
+            self._open = None
+        return dict(self.seconds)
 
 
 def make_campaign(targets: pd.DataFrame, sites, first_night, n_nights: int,

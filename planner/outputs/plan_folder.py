@@ -375,6 +375,7 @@ def schedule_info_json(plan) -> str:
         "site": plan.site.name, "nights": [str(n) for n in plan.nights["night"]],
         "blocks": int(len(plan.schedule)), "unscheduled_requests": int(len(plan.unscheduled)),
         "score_weights": dataclasses.asdict(options.weights),
+        "stage_seconds": plan.stage_seconds,
         "solved_by_night": [dict(run, start_utc=clock.jd_utc_to_iso_z([run["start_jd_utc"]])[0])
                             for run in (r.runs if r else ())],
     }
