@@ -85,6 +85,7 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
     rules = (targets["week_rule"].astype(str).replace("", week_rule).to_numpy(object) if "week_rule" in targets
              else np.full(len(targets), week_rule, dtype=object))
     rows, pending = [], []
+    priority = targets["priority"].to_numpy(float)
     keys = instance_keys(v["target_index"], v["event"], v["jd_utc"])
     score = candidates["score"].to_numpy(float) if len(candidates) else np.zeros(0)
     event_utc = jd_utc_to_iso_z(v["jd_utc"].to_numpy(float))
@@ -124,7 +125,7 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
                               zip(b_target[hit], b_event[hit], b_score[hit])) or "the week's other blocks"
             code, words = "lost", f"lost to higher-value blocks: {named}"
         rows.append({"night": night, "target": r.target, "event": r.event, "request": r.request,
-                     "priority": float(targets["priority"].iloc[ti]), "event_utc": event_utc[k],
+                     "priority": priority[ti], "event_utc": event_utc[k],
                      "best_value": value, "reason_code": code, "reason": words})
     if pending:
         at, ti, w0, w1 = (np.array(x) for x in zip(*pending))
