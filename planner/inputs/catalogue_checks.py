@@ -339,17 +339,20 @@ def check_observing(cells: Cells) -> dict:
 def default_events(linear, e, rv, eclipse) -> tuple:
     """Events of a target whose ``events`` cell is empty: what its elements make worth observing.
 
-    A linear ephemeris has its ``periodic`` event. An orbit gets periastron when eccentric; RV
-    maximum and minimum only with an RV amplitude (``rv``: k_ms given); apastron only for an
-    eccentric RV target without eclipse information (nothing photometric happens there); the
-    two conjunctions only with eclipse information (``eclipse``: a duration, or a/R*, inclination
-    and radius ratio). Anything else is observed only when the ``events`` column asks for it.
+    A linear ephemeris has its ``periodic`` event. An orbit gets periastron when eccentric, unless
+    its only use is photometric (eclipse information and no RV amplitude: a transit timer's
+    periastron passage shows nothing in the light curve, except for the rare heartbeat stars,
+    which can name it); RV maximum and minimum only with an RV amplitude (``rv``: k_ms given);
+    apastron only for an eccentric RV target without eclipse information (nothing photometric
+    happens there); the two conjunctions only with eclipse information (``eclipse``: a duration,
+    or a/R*, inclination and radius ratio). Anything else is observed only when the ``events``
+    column asks for it.
     """
     if linear:
         return (PERIODIC_EVENT,)
     eccentric = bool(e > 0)
     wanted = {
-        "periastron": eccentric,
+        "periastron": eccentric and (rv or not eclipse),
         "apastron": eccentric and rv and not eclipse,
         "primary_conjunction": eclipse,
         "secondary_conjunction": eclipse,
