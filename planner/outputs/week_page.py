@@ -14,7 +14,6 @@ writes them through :func:`planner.outputs.atomic.atomic_write`.
 
 from __future__ import annotations
 
-import functools
 import html
 import os
 
@@ -38,17 +37,16 @@ nav a { margin-right: 1em; }
 """
 
 
-@functools.lru_cache(maxsize=4)
-def _parts(names: tuple) -> dict:
-    from .file_names import unique_file_parts
-
-    return unique_file_parts(list(names))
-
-
 def file_part(plan, target_name: str) -> str:
     """The target's part of file names in this plan: unique and readable across the catalogue
-    (:func:`planner.outputs.file_names.unique_file_parts`, computed once per catalogue)."""
-    return _parts(tuple(plan.targets["name"].astype(str)))[str(target_name)]
+    (:func:`planner.outputs.file_names.unique_file_parts`), computed once per plan object and
+    kept on it (a page set asks for it hundreds of times)."""
+    parts = vars(plan).get("_file_parts")
+    if parts is None:
+        from .file_names import unique_file_parts
+
+        parts = vars(plan)["_file_parts"] = unique_file_parts(plan.targets["name"].astype(str))
+    return parts[str(target_name)]
 
 
 def page_name(plan, target_name: str) -> str:
