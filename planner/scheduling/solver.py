@@ -478,6 +478,14 @@ def _solve(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_g
     n = prog.n
     prices = _lp_prices(prog, time_limit_s) if n else None
     if prices is None:
+        if time.perf_counter() - t0 >= 0.9 * time_limit_s:
+            # stopped by the limit: branch and bound would begin with the same LP by dual simplex,
+            # which does not heed the limit on a large programme (a 20,000-option night ran 30-50 s
+            # on a 2 s limit), so the plan taken by value is used
+            chosen, rep = _time_limited_plan(prog.rows[:, :n], prog.upper, telescope, start, end_padded, prog.value,
+                                             prog.ub[:n] > 0, None, relaxed_bound,
+                                             prog.rows.shape[0] + prog.flow.shape[0])
+            return chosen, rep, None
         chosen, rep = _branch_and_bound(prog, telescope, start, end_padded, time_limit_s, rel_gap, relaxed_bound)
         return chosen, rep, None
     lp_bound = _dual_bound(prog, prices)
@@ -592,12 +600,13 @@ def _greedy_choice(a, upper, telescope, start, end_padded, value, useful):
 
 
 def _time_limited_plan(a, upper, telescope, start, end_padded, value, useful, res, relaxed_bound, n_rows):
-    """(chosen, report) when the time limit stops HiGHS: its best plan, or the greedy choice
+    """(chosen, report) when the time limit stops HiGHS (``res``: its result, None when the limit
+    stopped the LP before any branch and bound): its best plan, or the greedy choice
     (:func:`_greedy_choice`) when HiGHS has none or a worse one. The bound is the smallest of
     the solver's dual bound, ``relaxed_bound()`` (the overlap rule alone) and the sum of every
     useful value: each is a true bound, so their minimum is one."""
     greedy = _greedy_choice(a, upper, telescope, start, end_padded, value, useful)
-    solver = res.x[:value.size] > 0.5 if res.x is not None else None
+    solver = res.x[:value.size] > 0.5 if res is not None and res.x is not None else None
     if solver is not None and value[solver].sum() >= value[greedy].sum():
         chosen, status = solver, "time limit reached"
     else:
@@ -606,7 +615,7 @@ def _time_limited_plan(a, upper, telescope, start, end_padded, value, useful, re
                   else "time limit reached (a plan taken by value, better than the solver's, is used)")
     total = float(value[chosen].sum())
     bounds = [float(value[useful].sum())]
-    dual = getattr(res, "mip_dual_bound", None)
+    dual = getattr(res, "mip_dual_bound", None) if res is not None else None
     if dual is not None and np.isfinite(dual):
         bounds.append(-float(dual))
     if relaxed_bound is not None:

@@ -61,7 +61,7 @@ def add_plan_options(p, need_inputs: bool = True):
                             "the parts not yet covered, monitor gaps count from the last visit, phase_bins "
                             "targets get visits in their empty bins")
     p.add_argument("--seconds-per-night", type=float, default=None, metavar="S",
-                   help="time limit of the solver, seconds per night of the plan (default 2); the best plan "
+                   help="time limit of the solver, seconds per night of the plan (default 4); the best plan "
                         "found by then is used and its gap to the solver's bound reported")
 
 
