@@ -148,3 +148,21 @@ def test_reduced_value_fixing_keeps_the_optimum_of_the_whole_programme():
         assert report.optimal and ref_report.optimal, case
         assert value[chosen].sum() == pytest.approx(value[ref].sum(), rel=1e-9), case
         assert report.bound >= value[ref].sum() - 1e-6, case
+
+
+@pytest.mark.parametrize("limit", [1e-3, 0.05, 0.3])
+def test_plans_taken_when_the_limit_stops_the_solver_keep_every_rule(limit):
+    # Whatever stops first (the LP, or branch and bound on the kept options), the plan used (the
+    # LP's rounded plan, HiGHS's incumbent or the plan by value) must keep every rule, and the
+    # bound must stay above the plan; checked with the rule checker of the exhaustive tests.
+    rng = np.random.default_rng(3)
+    opts = random_options(rng, 1500)
+    opts["start_jd_utc"] = rng.uniform(0.0, 3.0, len(opts))
+    opts["end_jd_utc"] = opts["start_jd_utc"] + rng.uniform(0.01, 0.1, len(opts))
+    opts["instance"] = [f"i{k}" for k in rng.integers(0, 400, len(opts))]
+    chosen, report = choose_options(opts, 0.005, exclusive=("instance",), spacing=("monitor", "gap_d"),
+                                    time_limit_s=limit)
+    assert feasible(opts, np.flatnonzero(chosen), 0.005, ("instance",), ("monitor", "gap_d"))
+    assert report.objective == pytest.approx(opts["value"][chosen].sum())
+    assert report.bound >= report.objective - TOTAL_TOL
+    assert report.objective > 0

@@ -296,7 +296,7 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
 def _run_prices(prog, prices):
     """(option values less their node prices, row prices, node prices' share of the bound) of
     one programme: what :func:`_joined_bound` needs of each night."""
-    reduced, y, p = prices
+    reduced, y, p = prices[:3]
     n = prog.n
     base = reduced[:n] + prog.rows[:, :n].T @ y
     idle = prog.ub[n:] * np.maximum(reduced[n:], 0.0)
@@ -424,8 +424,8 @@ class _Programme:
 
 
 def _lp_prices(prog, time_limit_s):
-    """(reduced values, row prices, node prices) of the programme's LP relaxation, or None when
-    HiGHS does not solve it.
+    """(reduced values, row prices, node prices, the options' LP values x) of the programme's LP
+    relaxation, or None when HiGHS does not solve it.
 
     Solved by HiGHS's interior-point method (on these flow-and-packing programmes several times
     faster than its dual simplex, which a branch-and-bound root would use). The prices need not be
@@ -445,13 +445,13 @@ def _lp_prices(prog, time_limit_s):
     y = np.maximum(-res.ineqlin.marginals, 0.0) if prog.rows.shape[0] else np.zeros(0)
     p = -res.eqlin.marginals
     reduced = prog.objective() - prog.rows.T @ y - prog.flow.T @ p
-    return reduced, y, p
+    return reduced, y, p, res.x[:prog.n]
 
 
 def _dual_bound(prog, prices):
     """Weak-duality bound on every plan of ``prog``: upper @ y + rhs @ p + the positive reduced
     values up to each column's upper bound."""
-    reduced, y, p = prices
+    reduced, y, p = prices[:3]
     return float(prog.upper @ y + prog.rhs @ p + (prog.ub * np.maximum(reduced, 0.0)).sum())
 
 
@@ -505,8 +505,21 @@ def _solve(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_g
         # a plan is worth at most the restricted bound, or B - tau when it holds an option left out
         bound = max(total, min(lp_bound, rep.bound if whole else max(rep.bound, lp_bound - tau)))
         gap = (bound - total) / bound if bound > 0 else 0.0
-        if gap <= rel_gap or whole or not rep.optimal or left <= 0.05:
-            status = "optimal" if gap <= rel_gap else status if best is chosen else "time limit reached"
+        stopped = not rep.optimal or left <= 0.05
+        if gap > rel_gap and stopped:
+            if best is not chosen:
+                status = "time limit reached"
+            # the LP's own plan, rounded (options by LP value, then value) and kept feasible, is
+            # often better than the incumbent branch and bound had when the limit stopped it
+            rounded = _greedy_choice(prog.rows[:, :n], prog.upper, telescope, start, end_padded, prog.value, useful,
+                                     order=np.lexsort((-prog.value, -prices[3])))
+            if prog.value[rounded].sum() > total:
+                best, status = rounded, "time limit reached (the LP's plan, rounded, is used)"
+                total = float(prog.value[best].sum())
+                bound = max(total, bound)
+                gap = (bound - total) / bound if bound > 0 else 0.0
+        if gap <= rel_gap or whole or stopped:
+            status = "optimal" if gap <= rel_gap else status
             report = SolveReport(status, total, bound, gap, 0.0, n, prog.rows.shape[0] + prog.flow.shape[0])
             return best, report, _run_prices(prog, prices)
         tau = (lp_bound - total) * (1 + 1e-9)  # the least margin that proves the plan in hand or betters it
@@ -574,18 +587,19 @@ def _interval_bound(telescope, start, end_padded, value):
     return total
 
 
-def _greedy_choice(a, upper, telescope, start, end_padded, value, useful):
-    """Options taken by value, largest first, while every row keeps room and the option's
-    telescope is free over its time (overhead included), so the choice keeps every rule."""
+def _greedy_choice(a, upper, telescope, start, end_padded, value, useful, order=None):
+    """Options taken by value, largest first (or in ``order``), while every row keeps room and
+    the option's telescope is free over its time (overhead included), so the choice keeps every
+    rule."""
     import bisect
 
     cols = a.tocsc()
     used = np.zeros(a.shape[0])
     busy: dict = {}
     chosen = np.zeros(value.size, bool)
-    for i in np.argsort(-value, kind="stable"):
+    for i in np.argsort(-value, kind="stable") if order is None else order:
         if not useful[i]:
-            break
+            continue
         rows_i = cols.indices[cols.indptr[i]:cols.indptr[i + 1]]
         if np.any(used[rows_i] + 1 > upper[rows_i]):
             continue
