@@ -234,14 +234,15 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
 
     Each run of blocks is solved exactly with its own rows and with the rows that join it to other
     runs, whose room is what the runs before it left (a request taken on Monday is not offered
-    on Tuesday); so the plan keeps every rule. The bound comes from the nights' LP prices, the rows
-    joining nights priced anew (:func:`_joined_bound`).
+    on Tuesday); so the plan keeps every rule. The bound is a Lagrangian one, priced by the LP of
+    the options the nights' branch and bound ran on (:func:`_lagrangian_bound`).
     """
+    t_part = time.perf_counter()
     run = _components([], telescope, start, end_padded)
     first = {label: start[run == label].min() for label in np.unique(run)}
     used = np.zeros(len(rows))
     chosen = np.zeros(value.size, bool)
-    base, row_prices, flow_part, priced = np.zeros(value.size), [[] for _ in rows], 0.0, True
+    kept = np.zeros(value.size, bool)
     bound, statuses, n_rows, runs = 0.0, set(), 0, []
     members = [np.asarray(r) for r in rows]
     for label in sorted(first, key=first.get):
@@ -260,16 +261,10 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
             which.append(k)
         room = np.maximum(np.asarray(sub_upper, float), 0.0)  # a row with no room left shuts its options
         share = max(0.2, time_limit_s * idx.size / value.size)
-        got, rep, prices = _solve(value[idx], sub_rows, room, telescope[idx], start[idx], end_padded[idx], share,
-                                  rel_gap)
+        got, rep, kept_run = _solve(value[idx], sub_rows, room, telescope[idx], start[idx], end_padded[idx], share,
+                                    rel_gap)
         chosen[idx] = got
-        if prices is None:
-            priced = False
-        elif priced:
-            base[idx] = np.where(value[idx] > 0, prices[0], 0.0)
-            flow_part += prices[2]
-            for k, price in zip(which, prices[1]):
-                row_prices[k].append(float(price))
+        kept[idx] = True if kept_run is None else kept_run
         for k, r in zip(which, sub_rows):
             used[k] += got[np.asarray(r)].sum()
         # when the part's LP below fails: the run's own bound when no row joins it to another run
@@ -281,8 +276,9 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
                      "seconds": round(time.perf_counter() - t_run, 3), "status": rep.status,
                      "total": rep.objective, "bound": rep.bound})
     total = float(value[chosen].sum())
-    if priced:
-        bound = min(bound, _joined_bound(base, rows, upper, row_prices, flow_part))
+    left = time_limit_s - (time.perf_counter() - t_part)
+    lagrangian = _lagrangian_bound(value, rows, upper, telescope, start, end_padded, kept, max(left, 0.2))
+    bound = min(bound, lagrangian) if lagrangian is not None else bound
     if relaxed_bound is not None:
         bound = min(bound, relaxed_bound())
     bound = max(bound, total)
@@ -293,41 +289,36 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
     return chosen, SolveReport(status, total, bound, gap, 0.0, value.size, n_rows, tuple(runs))
 
 
-def _run_prices(prog, prices):
-    """(option values less their node prices, row prices, node prices' share of the bound) of
-    one programme: what :func:`_joined_bound` needs of each night."""
-    reduced, y, p = prices[:3]
-    n = prog.n
-    base = reduced[:n] + prog.rows[:, :n].T @ y
-    idle = prog.ub[n:] * np.maximum(reduced[n:], 0.0)
-    return base, y, float(prog.rhs @ p + idle.sum())
-
-
-def _joined_bound(base, rows, upper, row_prices, flow_part):
-    """Weak-duality bound on a week solved night by night, from the nights' own LP prices.
-
-    The nights' node prices, shifted to agree where one night's network joins the next, are node
-    prices of the week's network, so ``flow_part`` (their sum) and ``base`` (each option's value
-    less its node prices) carry over. A row within one night keeps its price; a row joining nights
-    gets one price, chosen row by row to make the bound least: with the others fixed, room @ y +
-    the positive reduced values of the row's options is least at the (room + 1)-th largest of their
-    values before this row's price (Lagrangian relaxation of the joining rows; any prices >= 0
-    give a true bound, Nemhauser & Wolsey 1988, sec. II.3.6 [memory for the section]).
-    ``row_prices`` lists, per row, the prices the nights it touches gave it.
+def _lagrangian_bound(value, rows, upper, telescope, start, end_padded, kept, time_limit_s):
+    """A bound on the whole programme: its rows relaxed with prices y >= 0 (Lagrangian
+    relaxation, Fisher 1981, Management Science 27, 1), upper @ y plus the best plan of the
+    overlap rule alone for the values less their rows' prices (:func:`_interval_bound`, exact for
+    that rule), which holds for any y >= 0. The prices are the row duals of the LP on the options
+    ``kept`` (the ones the nights' branch and bound ran on; 0 for rows with none of them): on a
+    3,000-target week this gives the bound of the LP of all 45,000 options (28,245), from an LP
+    of 5,000 options (0.3 s against 7 s). None when that LP is not solved.
     """
-    n = base.size
-    a = _sparse_rows(rows, np.cumsum([0] + [len(r) for r in rows]), n)
-    y = np.array([max(p) if p else 0.0 for p in row_prices])
-    charged = a.T @ y
-    for k in (k for k, p in enumerate(row_prices) if len(p) > 1):
-        members = np.asarray(rows[k], int)
-        before = base[members] - charged[members] + y[k]
-        room = int(np.floor(upper[k] + 1e-9))
-        ranked = np.sort(before)[::-1]
-        price = max(ranked[room], 0.0) if room < ranked.size else 0.0
-        charged[members] += price - y[k]
-        y[k] = price
-    return float(np.asarray(upper, float) @ y + flow_part + np.maximum(base - charged, 0.0).sum())
+    keep = np.flatnonzero(kept)
+    local = np.full(value.size, -1)
+    local[keep] = np.arange(keep.size)
+    sub_rows, sub_upper, row_of = [], [], []
+    for k, (r, u) in enumerate(zip(rows, upper)):
+        mine = local[np.asarray(r, int)]
+        if np.any(mine >= 0):
+            sub_rows.append(mine[mine >= 0])
+            sub_upper.append(u)
+            row_of.append(k)
+    if keep.size == 0:
+        return None
+    sub = _Programme.build(value[keep], sub_rows, sub_upper, telescope[keep], start[keep], end_padded[keep])
+    prices = _lp_prices(sub, time_limit_s)
+    if prices is None:
+        return None
+    y = np.zeros(len(rows))
+    y[row_of] = prices[1]
+    priced = np.where(value > 0, value, 0.0) - _sparse_rows(rows, np.cumsum([0] + [len(r) for r in rows]),
+                                                             value.size).T @ y
+    return float(np.asarray(upper, float) @ y) + _interval_bound(telescope, start, end_padded, np.maximum(priced, 0.0))
 
 
 def _flow_rows(telescope, start, end_padded):
@@ -462,8 +453,8 @@ FIX_MARGIN = 0.01
 
 
 def _solve(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_gap, relaxed_bound=None):
-    """(chosen, report, prices): the best plan of one programme, its report, and its LP prices
-    for :func:`_joined_bound` (None when the LP was not solved).
+    """(chosen, report, kept): the best plan of one programme, its report, and the options its
+    last branch and bound ran on (a mask; None when the LP was not solved).
 
     Reduced-value fixing (Nemhauser & Wolsey, *Integer and Combinatorial Optimization*, 1988,
     sec. II.5.6.2 [memory for the section]): the LP relaxation gives a bound B and each option's
@@ -521,7 +512,9 @@ def _solve(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_g
         if gap <= rel_gap or whole or stopped:
             status = "optimal" if gap <= rel_gap else status
             report = SolveReport(status, total, bound, gap, 0.0, n, prog.rows.shape[0] + prog.flow.shape[0])
-            return best, report, _run_prices(prog, prices)
+            kept = np.zeros(n, bool)
+            kept[keep] = True
+            return best, report, kept | best
         tau = (lp_bound - total) * (1 + 1e-9)  # the least margin that proves the plan in hand or betters it
 
 
