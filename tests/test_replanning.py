@@ -210,3 +210,14 @@ def test_a_phase_visit_never_displaces_an_event_and_fills_the_gap_it_leaves(even
         assert list(visits["label"]) == [f"phase bin {EMPTY_BIN + 1} of {N_BINS}"]
         assert visits["start_jd_utc"].iloc[0] >= free_from - TIME_TOL_D
         assert visits["end_jd_utc"].iloc[0] <= free_to + TIME_TOL_D
+
+
+def test_free_starts_keep_the_overhead_from_every_busy_block():
+    from planner.scheduling.choose import free_starts
+
+    # a 1-unit visit in [0, 10 + 1], overhead 0.5, blocks at [3, 4] and [6, 6.5]: a start x is
+    # free when x + 1 + 0.5 <= 3 (x <= 1.5), or 4 + 0.5 <= x and x + 1.5 <= 6 (x = 4.5 only),
+    # or x >= 6.5 + 0.5 (the solver's rule: end + overhead <= next start)
+    runs = free_starts(0.0, 10.0, 1.0, np.array([6.0, 3.0]), np.array([6.5, 4.0]), 0.5)
+    assert runs == pytest.approx([(0.0, 1.5), (4.5, 4.5), (7.0, 10.0)])
+    assert free_starts(0.0, 10.0, 1.0, np.array([-5.0]), np.array([20.0]), 0.5) == []
