@@ -113,28 +113,6 @@ def _in_nights(visible: pd.DataFrame, nights: pd.DataFrame, window_start, window
     return out
 
 
-def _events_near(targets: pd.DataFrame, lo_bjd_tdb: float, hi_bjd_tdb: float, margin_d: np.ndarray) -> pd.DataFrame:
-    """:func:`predict_events` of each target from ``lo - margin_d[i]`` to ``hi + margin_d[i]`` (BJD_TDB).
-
-    The targets whose margin exceeds :data:`EVENT_MARGIN_D` (RV targets with wide phase windows)
-    are predicted over the wider span on their own, so a short-period target's events are not
-    predicted over a long-period target's reach. Rows sorted as predict_events sorts them (by
-    time, ties in catalogue order); each target's events are the ones a single call gives.
-    """
-    events = predict_events(targets, lo_bjd_tdb - EVENT_MARGIN_D, hi_bjd_tdb + EVENT_MARGIN_D)
-    wide = np.flatnonzero(margin_d > EVENT_MARGIN_D)
-    if wide.size == 0:
-        return events
-    far_d = float(margin_d[wide].max())
-    far = predict_events(targets.iloc[wide].reset_index(drop=True), lo_bjd_tdb - far_d, hi_bjd_tdb + far_d)
-    far["target_index"] = wide[far["target_index"].to_numpy(int)].astype(np.int64)
-    own = margin_d[far["target_index"].to_numpy(int)]
-    t = far["bjd_tdb"].to_numpy(float)
-    far = far[(t >= lo_bjd_tdb - own) & (t < hi_bjd_tdb + own)]
-    events = pd.concat([events[~np.isin(events["target_index"].to_numpy(int), wide)], far], ignore_index=True)
-    return events.sort_values(["bjd_tdb", "target_index"], kind="stable").reset_index(drop=True)
-
-
 def first_night_for(start, site, now: dt.datetime | None = None) -> dt.date:
     """The first night's label: ``start`` as a date, or by default the night still to observe.
 
@@ -250,7 +228,8 @@ def _prepare(targets, site, first_night, n_nights, settings, progress) -> Plan:
 
     _stage(progress, "events")
     span = Time([nights["noon_jd_utc"].min(), nights["next_noon_jd_utc"].max()], format="jd", scale="utc").tdb.jd
-    events = _events_near(targets, span[0], span[1], EVENT_MARGIN_D + request_reach_d(targets))
+    events = predict_events(targets, span[0] - EVENT_MARGIN_D, span[1] + EVENT_MARGIN_D,
+                            reach_d=request_reach_d(targets))
 
     _stage(progress, "intervals")
     intervals = windows.observable_intervals(targets, site, nights, tracks=tracks)
