@@ -109,7 +109,8 @@ def bin_chances(targets, site, weather, n_nights):
         length_d = (visit_h if np.isfinite(visit_h) else PHASE_VISIT_H) / 24.0
         mine = iv[iv["target_index"] == ti]
         chances = [[] for _ in range(BINS)]
-        for night, a, b in sorted(zip((label[str(n)] for n in mine["night"]), mine["start_jd_utc"], mine["end_jd_utc"])):
+        nights_of = (label[str(n)] for n in mine["night"])
+        for night, a, b in sorted(zip(nights_of, mine["start_jd_utc"], mine["end_jd_utc"])):
             if weather[night]:
                 continue
             k = np.arange(np.floor((a - phase0[ti]) / p * BINS), np.floor((b - phase0[ti]) / p * BINS) + 1)

@@ -173,10 +173,9 @@ def fill_phase_visits(phase: pd.DataFrame, blocks: pd.DataFrame, visits: pd.Data
                      + [pd.DataFrame({"telescope": [], "start": [], "end": []})], ignore_index=True)
     shut = set(_target_night(visits)) if len(visits) else set()
     rows, lo, hi = [], [], []
-    for k, (t, key, a, b, s, e) in enumerate(zip(tel, _target_night(phase), phase["earliest_start_jd_utc"].to_numpy(float),
-                                                 phase["latest_start_jd_utc"].to_numpy(float),
-                                                 phase["start_jd_utc"].to_numpy(float),
-                                                 phase["end_jd_utc"].to_numpy(float))):
+    columns = (phase[c].to_numpy(float) for c in ("earliest_start_jd_utc", "latest_start_jd_utc", "start_jd_utc",
+                                                  "end_jd_utc"))
+    for k, (t, key, a, b, s, e) in enumerate(zip(tel, _target_night(phase), *columns)):
         if key in shut:
             continue
         mine = busy[busy["telescope"] == t]
@@ -258,8 +257,8 @@ def _model(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataFrame, n
         mon["instance"], mon["sites_wanted"] = "", 1.0
         exclusive, capacity = ("group", "week_key", "instance"), {"instance": "sites_wanted"}
     every = pd.concat([opts, mon], ignore_index=True)
-    return every, {"exclusive": exclusive, "spacing": ("spacing", "gap_d"), "excludes": ("monitor_night", "block_night"),
-                   "capacity": capacity}
+    return every, {"exclusive": exclusive, "spacing": ("spacing", "gap_d"),
+                   "excludes": ("monitor_night", "block_night"), "capacity": capacity}
 
 
 def _picked(every: pd.DataFrame, chosen: np.ndarray, cands: pd.DataFrame, monitors: pd.DataFrame):
