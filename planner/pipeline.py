@@ -19,7 +19,7 @@ import pandas as pd
 from . import numerics
 from .errors import PeriplanError
 from .orbits.events import predict_events
-from .scheduling.requests import RequestSettings, build_requests
+from .scheduling.requests import RequestSettings, build_requests, request_reach_d, request_windows
 from .scheduling.losses import unscheduled
 from .scheduling.schedule import ScheduleOptions, plan_week_report
 from .sky import night as night_mod
@@ -31,7 +31,9 @@ logger = logging.getLogger(__name__)
 #: Stages reported to a progress callback, in order.
 STAGES = ("nights", "events", "intervals", "visibility", "requests", "schedule")
 #: Events are predicted this many days beyond the nights' edges, so that a window reaching into
-#: the week from an event just outside it (a long transit, a wide timing uncertainty) is seen.
+#: the week from an event just outside it (a long transit, a wide timing uncertainty) is seen;
+#: a target observed in RV looks further by the reach of its RV windows
+#: (:func:`planner.scheduling.requests.request_reach_d`).
 EVENT_MARGIN_D = 1.0
 
 
@@ -94,17 +96,20 @@ def moon_separation_deg(targets, tracks, target_index, jd_utc):
     return positions.separation_deg(vec, tracks.moon_vector(jd))
 
 
-def _in_nights(visible: pd.DataFrame, nights: pd.DataFrame) -> pd.DataFrame:
-    """The events whose window reaches into the nights; one whose moment falls just outside them
-    (a long transit, a wide timing uncertainty) is labelled with the night its window reaches."""
+def _in_nights(visible: pd.DataFrame, nights: pd.DataFrame, window_start, window_end) -> pd.DataFrame:
+    """The events whose window (``window_start``, ``window_end``: UTC JD per row, the wider of the
+    visibility window and the request's) reaches into the nights; one whose moment falls outside
+    them (a long transit, a wide timing uncertainty, an RV extremum just before the first night
+    whose phase window runs on into it) is labelled with the night its window reaches."""
     lo, hi = float(nights["noon_jd_utc"].min()), float(nights["next_noon_jd_utc"].max())
-    w0, w1 = visible["window_start_jd_utc"].to_numpy(float), visible["window_end_jd_utc"].to_numpy(float)
+    w0, w1 = np.asarray(window_start, float), np.asarray(window_end, float)
     reaches = (w1 > lo) & (w0 < hi)
-    out = visible[visible["night"].notna().to_numpy() | reaches].reset_index(drop=True)
+    keep = visible["night"].notna().to_numpy() | reaches
+    out = visible[keep].reset_index(drop=True)
+    w0, w1 = w0[keep], w1[keep]
     outside = out["night"].isna().to_numpy()
     if outside.any():
-        inside = np.clip(np.where(out["jd_utc"].to_numpy(float)[outside] < lo, out["window_end_jd_utc"].to_numpy(float)[outside],
-                                  out["window_start_jd_utc"].to_numpy(float)[outside]), lo, hi - 1e-9)
+        inside = np.clip(np.where(out["jd_utc"].to_numpy(float)[outside] < lo, w1[outside], w0[outside]), lo, hi - 1e-9)
         labels = nights["night"].to_numpy(object)[night_mod.night_of(inside, nights)]
         out.loc[outside, "night"] = labels
     return out
@@ -246,9 +251,9 @@ def _prepare(targets, site, first_night, n_nights, settings, progress) -> Plan:
     nights = night_mod.night_table(site, first_night, n_nights, tracks=tracks)
 
     _stage(progress, "events")
-    span = Time([nights["noon_jd_utc"].min() - EVENT_MARGIN_D, nights["next_noon_jd_utc"].max() + EVENT_MARGIN_D],
-                format="jd", scale="utc").tdb.jd
-    events = predict_events(targets, span[0], span[1])
+    span = Time([nights["noon_jd_utc"].min(), nights["next_noon_jd_utc"].max()], format="jd", scale="utc").tdb.jd
+    events = predict_events(targets, span[0] - EVENT_MARGIN_D, span[1] + EVENT_MARGIN_D,
+                            reach_d=request_reach_d(targets))
 
     _stage(progress, "intervals")
     intervals = windows.observable_intervals(targets, site, nights, tracks=tracks)
@@ -256,13 +261,15 @@ def _prepare(targets, site, first_night, n_nights, settings, progress) -> Plan:
     _stage(progress, "visibility")
     visible = windows.event_visibility(events, targets, site, nights, baseline_h=settings.baseline_h,
                                        k_sigma=settings.k_sigma, tracks=tracks, intervals=intervals)
-    visible = _in_nights(visible, nights)
+    request_settings = RequestSettings(settings.baseline_h, settings.k_sigma, settings.schedule.min_block_min)
+    w0, w1 = request_windows(visible, targets, request_settings)
+    visible = _in_nights(visible, nights, np.fmin(w0, visible["window_start_jd_utc"].to_numpy(float)),
+                         np.fmax(w1, visible["window_end_jd_utc"].to_numpy(float)))
 
     plan = Plan(site=site, targets=targets, nights=nights, events=visible, intervals=intervals,
                 requests=pd.DataFrame(), schedule=pd.DataFrame(), never_rising=windows.never_rising(targets, site),
                 tracks=tracks, settings=settings)
     _stage(progress, "requests")
-    plan.requests = build_requests(visible, targets, intervals, plan.altitude_deg,
-                                   RequestSettings(settings.baseline_h, settings.k_sigma, settings.schedule.min_block_min),
+    plan.requests = build_requests(visible, targets, intervals, plan.altitude_deg, request_settings,
                                    settings.schedule.weights)
     return plan

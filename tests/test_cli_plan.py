@@ -74,8 +74,19 @@ def test_schedule_blocks_do_not_overlap_and_hold_their_events(demo_dir):
 
 
 def test_event_times_agree_with_periplan_events(demo_dir, capsys):
+    import datetime as dt
+
+    import planner
+    from planner.pipeline import EVENT_MARGIN_D
+    from planner.scheduling.requests import request_reach_d
+
     sched = pd.read_csv(demo_dir / "schedule.csv")
-    code, out, _ = run(["events", str(SAMPLE_TARGETS), "--start", START, "--days", "8", "--format", "csv"], capsys)
+    # a block may serve an event before the nights whose RV window runs on into them (a
+    # periastron swing of a mildly eccentric orbit lasts days): list the events from as far back
+    reach_days = int(np.ceil(EVENT_MARGIN_D + request_reach_d(planner.read_catalogue(SAMPLE_TARGETS)).max()))
+    first = (dt.date.fromisoformat(START) - dt.timedelta(days=reach_days)).isoformat()
+    code, out, _ = run(["events", str(SAMPLE_TARGETS), "--start", first, "--days", str(8 + reach_days),
+                        "--format", "csv"], capsys)
     events = pd.read_csv(io.StringIO(out))
     fixed = sched[sched.kind == "fixed"]
     merged = fixed.merge(events, left_on=["target", "event", "event_utc"], right_on=["target", "event", "utc"])

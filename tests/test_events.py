@@ -147,6 +147,24 @@ def test_array_path_equals_single_target_runs():
     pd.testing.assert_frame_equal(a, b)
 
 
+def test_a_targets_own_reach_gives_its_events_of_the_wider_span():
+    # reach_d widens each row's span on its own: the rows of one call equal single-target runs
+    # over [start - reach_i, end + reach_i), and a row with reach 0 keeps the span's events.
+    from conftest import SAMPLE_TARGETS
+
+    t = catalogue.read_catalogue(SAMPLE_TARGETS)
+    start = t.epoch_bjd_tdb.max()
+    reach = np.linspace(0.0, 12.0, len(t))
+    together = predict_events(t, start, start + 20, reach_d=reach)
+    singles = pd.concat([predict_events(t.iloc[[i]].reset_index(drop=True), start - reach[i],
+                                        start + 20 + reach[i]) for i in range(len(t))])
+    cols = ["target", "event", "cycle", "bjd_tdb", "sigma_d"]
+    a = together[cols].sort_values(["target", "bjd_tdb"]).reset_index(drop=True)
+    b = singles[cols].sort_values(["target", "bjd_tdb"]).reset_index(drop=True)
+    pd.testing.assert_frame_equal(a, b)
+    assert together["bjd_tdb"].min() < start  # the widened rows reach before the span
+
+
 def test_duration_and_eclipse_flag_from_geometry():
     # Grazing-free transit vs a secondary conjunction that misses the star: an eccentric orbit
     # with omega = 90 deg is closest at transit, farthest at occultation (Winn 2010, eqs. 7-8).

@@ -150,3 +150,74 @@ def test_bad_campaign_columns_are_one_line_errors(tmp_path, capsys):
     assert err == ["periplan: error: cat.csv, row 2, column phase_bins: 1.5 is not a whole number of phase bins >= 2",
                    "periplan: error: cat.csv, row 3, column week_rule: 'sometimes' is not a week rule; expected "
                    "every, best or first"]
+
+
+# --- phase-coverage visits take the time the events leave -----------------------------------------
+# A constructed case of the invented sky of the scheduler tests (tests/test_schedule.py): a
+# priority-5 RV target with one empty phase bin, whose share of the orbit falls in the second
+# half of one night only, and a priority-1 eclipse series in that half. Values are never
+# expected results here; the rule is: the events are chosen as they would be without phase
+# coverage, and a phase visit goes only where it fits beside them.
+
+from test_schedule import J0, altitude, availability_rows  # noqa: E402
+
+PHASE_CATALOGUE = """\
+name,ra,dec,period_d,e,omega_deg,tp,priority,observe,phase_bins
+Wide RV,10,20,5.0,0.0,90,{tp},5,rv,{bins}
+Short EB,40,20,3.0,0.0,90,2461000.5,1,photometry,
+"""
+PHASE_P_D, N_BINS, EMPTY_BIN = 5.0, 10, 4
+#: the empty bin opens at 0.40 d after the first noon and closes half a day later (P / 10)
+BIN_START = J0 + 0.40
+PHASE_TP = BIN_START - EMPTY_BIN * PHASE_P_D / N_BINS - 400 * PHASE_P_D
+
+
+def _phase_case(event_end, bins):
+    from planner.inputs.catalogue import parse_catalogue
+    from planner.scheduling import schedule
+    from test_schedule import nights_table, visible_row
+
+    with pytest.warns(UserWarning, match="no event to predict"):  # events come as visible rows here
+        targets = parse_catalogue(PHASE_CATALOGUE.format(tp=f"{PHASE_TP:.6f}", bins=bins))
+    # one exposure in the middle of every other bin, an orbit earlier (BJD_TDB)
+    times = [PHASE_TP + 399 * PHASE_P_D + (j + 0.5) * PHASE_P_D / N_BINS for j in range(N_BINS) if j != EMPTY_BIN]
+    log = parse_log("target,start,purpose,outcome\n" + "".join(f"Wide RV,{t:.6f},visit,done\n" for t in times),
+                    targets, "log.csv")
+    eclipse = pd.DataFrame([visible_row("Short EB", 1, 0, 0.38, event_end, event="primary_conjunction")])
+    avail = pd.concat([availability_rows(0, "Wide RV"), availability_rows(1, "Short EB")], ignore_index=True)
+    opts = schedule.ScheduleOptions(overhead_min=10.0)
+    plan, _, _ = schedule.plan_week_report(eclipse, avail, targets, nights_table(), altitude, options=opts, log=log)
+    return plan, opts
+
+
+@pytest.mark.parametrize("event_end", [0.74, 0.55])
+def test_a_phase_visit_never_displaces_an_event_and_fills_the_gap_it_leaves(event_end):
+    plan, opts = _phase_case(event_end, N_BINS)
+    without, _ = _phase_case(event_end, "")  # the same week, no phase coverage asked for
+    events = plan[plan["target"] == "Short EB"]
+    assert len(events) == 1
+    assert events[["start_jd_utc", "end_jd_utc"]].to_numpy() == pytest.approx(
+        without.loc[without["target"] == "Short EB", ["start_jd_utc", "end_jd_utc"]].to_numpy(), abs=TIME_TOL_D)
+    visits = plan[plan["label"].astype(str).str.startswith("phase bin")]
+    # where a visit can go: inside the empty bin, the target's observable time of the night
+    # (0.27-0.73 d after noon) and after the series with the overhead between them
+    visit_d, overhead_d = 0.5 / 24.0, opts.overhead_min / 1440.0
+    free_from = max(BIN_START, J0 + event_end + overhead_d)
+    free_to = min(BIN_START + PHASE_P_D / N_BINS, J0 + 0.73)
+    if free_to - free_from < visit_d:  # no room beside the series: the bin waits
+        assert visits.empty
+    else:
+        assert list(visits["label"]) == [f"phase bin {EMPTY_BIN + 1} of {N_BINS}"]
+        assert visits["start_jd_utc"].iloc[0] >= free_from - TIME_TOL_D
+        assert visits["end_jd_utc"].iloc[0] <= free_to + TIME_TOL_D
+
+
+def test_free_starts_keep_the_overhead_from_every_busy_block():
+    from planner.scheduling.choose import free_starts
+
+    # a 1-unit visit in [0, 10 + 1], overhead 0.5, blocks at [3, 4] and [6, 6.5]: a start x is
+    # free when x + 1 + 0.5 <= 3 (x <= 1.5), or 4 + 0.5 <= x and x + 1.5 <= 6 (x = 4.5 only),
+    # or x >= 6.5 + 0.5 (the solver's rule: end + overhead <= next start)
+    runs = free_starts(0.0, 10.0, 1.0, np.array([6.0, 3.0]), np.array([6.5, 4.0]), 0.5)
+    assert runs == pytest.approx([(0.0, 1.5), (4.5, 4.5), (7.0, 10.0)])
+    assert free_starts(0.0, 10.0, 1.0, np.array([-5.0]), np.array([20.0]), 0.5) == []

@@ -210,3 +210,34 @@ def test_observe_defaults_follow_what_the_catalogue_gives():
         "Spec,10,20,30,0.3,30,2461000.5,,40,,,,,\n"
         "Both,10,20,3,0,,2461000.5,,40,2.0,,,,\n")
     assert list(cat["observe"]) == ["photometry", "photometry", "photometry", "rv", "photometry;rv"]
+
+
+def test_rv_maximum_before_the_first_night_is_requested_while_its_window_lasts(tmp_path, dark):
+    # An RV maximum two days before the night: its phase window (RV within 10 % of K of the
+    # maximum) runs on for days on a 60-day orbit, so the night can still take the visit. A
+    # plan made on this night (a re-plan in the middle of the window) must request it.
+    mid = 0.5 * (dark[0] + dark[1])
+    ra = ra_culminating_at(mid)
+    p, e, w_deg, k = 60.0, 0.3, 40.0, 60.0
+    w = np.radians(w_deg)
+    tp = 2461000.5
+    nu = -w  # rv maximum
+    big_e = 2 * np.arctan(np.sqrt((1 - e) / (1 + e)) * np.tan(nu / 2))
+    t_max = tp + p * np.mod(big_e - e * np.sin(big_e), 2 * np.pi) / (2 * np.pi)
+    shift = (mid - 2.0) - t_max  # the maximum two days before midnight
+    v_max = k * (1 + e * np.cos(w))  # gamma = 0
+    # the construction, checked with radvel: the whole night lies inside the window, and the
+    # maximum lies before the night's noon by more than a day
+    night_t = np.linspace(dark[0], dark[1], 50) - shift
+    assert np.all(radvel.kepler.rv_drive(night_t, np.array([p, tp, e, w, k]), use_c_kepler_solver=False)
+                  >= v_max - 0.1 * k)
+    assert mid - 2.0 < dark[0] - 1.25
+    tc = radvel.orbit.timeperi_to_timetrans(tp + shift, p, e, w)
+    rows = [f"Rv-2,{ra:.4f},20,{p},{e},{w_deg},{tc:.6f},0.0005,JD_UTC,{k},3,rv_max,,,,"]
+    result = plan(tmp_path, rows)
+    rv = result.schedule[(result.schedule.target == "Rv-2") & (result.schedule.event == "rv_max")]
+    assert len(rv) == 1
+    assert rv.event_jd_utc.iloc[0] < dark[0] - 1.25  # the maximum two days back is the one served
+    t = np.linspace(rv.start_jd_utc.iloc[0], rv.end_jd_utc.iloc[0], 50) - shift
+    v = radvel.kepler.rv_drive(t, np.array([p, tp, e, w, k]), use_c_kepler_solver=False)
+    assert np.all(v >= v_max - 0.1 * k - 0.01 * k)

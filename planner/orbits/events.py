@@ -103,7 +103,7 @@ def offset_variance(e, e_err, omega_rad, omega_err_rad, epoch_kind, names, n_sam
 
 
 def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: float, kinds=None,
-                   n_samples: int = DEFAULT_SAMPLES, seed: int = DEFAULT_SEED) -> pd.DataFrame:
+                   n_samples: int = DEFAULT_SAMPLES, seed: int = DEFAULT_SEED, reach_d=None) -> pd.DataFrame:
     """Every wanted event of every target with start <= t < end (BJD_TDB days), sorted by time.
 
     Parameters
@@ -119,6 +119,10 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
         aliases of :data:`planner.orbits.geometry.EVENT_ALIASES` are accepted, and ``maximum`` /
         ``minimum`` keep the periodic events whose label says so
         (:func:`planner.orbits.geometry.periodic_kind`).
+    reach_d : array of shape (n,), optional
+        Days (>= 0) by which each target's span reaches beyond the span on either side: row i
+        gets its events with start - reach_d[i] <= t < end + reach_d[i] (a planner looking as far
+        as a target's widest observing window reaches). Default 0 for every row.
 
     Returns
     -------
@@ -171,10 +175,12 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
     extended = binary_events.extended_mask(targets) if "epoch2_kind" in targets else np.zeros(n, bool)
     ltte = _light_time_elements(targets)
     pad_d = np.where(np.isfinite(ltte[4]), np.abs(np.nan_to_num(ltte[4])) * (1 + 2 * np.nan_to_num(ltte[2])), 0.0)
+    reach = np.zeros(n) if reach_d is None else np.asarray(reach_d, float)
+    look_d = pad_d + reach
     ti, ki = np.nonzero(want & ~extended[:, None])
     p, d = period[ti], offsets[ti, ki]
-    first = np.ceil((start_bjd_tdb - pad_d[ti] - epoch[ti]) / p - d)
-    last = np.ceil((end_bjd_tdb + pad_d[ti] - epoch[ti]) / p - d) - 1
+    first = np.ceil((start_bjd_tdb - look_d[ti] - epoch[ti]) / p - d)
+    last = np.ceil((end_bjd_tdb + look_d[ti] - epoch[ti]) / p - d) - 1
     count = np.maximum(last - first + 1, 0).astype(np.int64)
     rep = np.repeat(np.arange(ti.size), count)
     cycle = first[rep] + (np.arange(rep.size) - np.repeat(np.cumsum(count) - count, count))
@@ -185,11 +191,12 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
                     + (period[t_i] ** 2 + period_err[t_i] ** 2) * var_d[t_i, k_i])
     if extended.any():
         ext = binary_events.extended_events(targets, np.flatnonzero(extended), want, start_bjd_tdb, end_bjd_tdb,
-                                            pad_d, n_samples, seed)
+                                            look_d, n_samples, seed)
         t_i, k_i, cycle, bjd, sigma = (np.concatenate([a, b]) for a, b in zip((t_i, k_i, cycle, bjd, sigma), ext))
     if np.any(pad_d > 0):
         bjd = bjd + light_time.irwin_delay_d(bjd, *(a[t_i] for a in ltte))
-        keep = (pad_d[t_i] == 0) | ((bjd >= start_bjd_tdb) & (bjd < end_bjd_tdb))
+    if np.any(look_d > 0):
+        keep = (look_d[t_i] == 0) | ((bjd >= start_bjd_tdb - reach[t_i]) & (bjd < end_bjd_tdb + reach[t_i]))
         t_i, k_i, cycle, bjd, sigma = t_i[keep], k_i[keep], cycle[keep], bjd[keep], sigma[keep]
     order = np.lexsort((t_i, bjd))  # by time, then catalogue order: deterministic
     t_i, k_i, cycle, bjd, sigma = t_i[order], k_i[order], cycle[order], bjd[order], sigma[order]

@@ -13,6 +13,18 @@ campaign solver (:func:`planner.scheduling.solver.choose_options`) with the rule
 - one monitor visit or RV visit of a target a night (an RV sequence may take several), and
   ``visit_gap_h`` between a monitor target's visits, across nights;
 - the total value (the sum of the chosen blocks' scores) as large as possible.
+
+Phase-coverage visits (:func:`planner.scheduling.log_requests.phase_candidates`) come second:
+they take the time the week's other blocks leave. An event instance has one chance, a few hours
+long; a phase bin is filled by one exposure anywhere in its share of any orbit, on every night
+that share lasts. So the week's events and monitor visits are chosen first, exactly as without
+phase coverage, and a phase visit never takes the place of one, whatever the priorities (a
+priority-5 target's empty bin waits for a gap beside a priority-1 pulsation maximum). Then one
+more model keeps every block of that choice (each worth more than all phase visits together;
+a movable visit or a monitor visit may still move to another of its starts, a fixed block
+stays) and adds the phase visits with the largest total value: one per bin in the plan whatever
+the site, none on a night with a monitor visit of its target, each bin on the first night that
+has room for it (the week rule ``first``, whatever the target's own).
 """
 
 from __future__ import annotations
@@ -20,8 +32,9 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from .log_requests import PHASE_GROUP
 from .options import candidate_options
-from .solver import choose_options
+from .solver import SolveReport, choose_options
 
 
 def _target_night(frame: pd.DataFrame) -> np.ndarray:
@@ -47,17 +60,172 @@ def choose_blocks(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataF
                   overhead_d: float, week_rule: str, time_limit_s: float):
     """(chosen candidates, chosen monitor visits, report): the best blocks of the week.
 
-    ``cands``: request candidates (schedule columns, ``night`` already the night holding each);
+    ``cands``: request candidates (schedule columns, ``night`` already the night holding each),
+    phase-coverage visits among them (``group`` starting with :data:`PHASE_GROUP`);
     ``monitors``: monitor candidates (:func:`planner.scheduling.monitor.monitor_candidates`, with
-    ``gap_d``). Chosen movable visits carry their chosen start and end. ``report`` is the
-    solver's :class:`~planner.scheduling.solver.SolveReport`.
+    ``gap_d``). Chosen movable visits carry their chosen start and end; chosen monitor visits
+    keep their row labels of ``monitors``. The phase visits take the time the other blocks
+    leave (module docstring). ``report`` is the solver's
+    :class:`~planner.scheduling.solver.SolveReport` of the whole choice.
     """
+    phase = is_phase_visit(cands)
+    first = cands[~phase].reset_index(drop=True)
+    every, rules = _model(first, monitors, targets, nights_order, week_rule)
+    chosen, report = choose_options(every, overhead_d, time_limit_s=time_limit_s, **rules)
+    if not phase.any():
+        return (*_picked(every, chosen, first, monitors), report)
+    left_s = max(time_limit_s - report.seconds, 0.1 * time_limit_s)
+    return _with_phase_visits(every, chosen, report, first, cands[phase].reset_index(drop=True), monitors, targets,
+                              nights_order, overhead_d, week_rule, left_s)
+
+
+def is_phase_visit(cands: pd.DataFrame) -> np.ndarray:
+    """(n,) True for the phase-coverage visits among candidate blocks."""
+    if "group" not in cands or not len(cands):
+        return np.zeros(len(cands), bool)
+    return cands["group"].astype(str).str.startswith(PHASE_GROUP).to_numpy()
+
+
+#: Relative gap of the second choice, where every kept block is worth more than all phase visits
+#: together: tight enough that the phase visits' own total is optimal to far below a score point.
+PHASE_REL_GAP = 1e-9
+
+
+def _with_phase_visits(every, chosen, report, first, phase, monitors, targets, nights_order, overhead_d, week_rule,
+                       time_limit_s):
+    """The first choice with the phase visits added in the time it leaves (module docstring).
+
+    Second model: the chosen requests (every start of each chosen movable visit) and the chosen
+    monitor visits' nights (every start), each option worth its value plus more than all phase
+    options together, so the optimum keeps every one of them and only moves them within their
+    own starts; and the phase options, one per bin in the plan, each worth less by
+    :data:`FIRST_NIGHT_FACTOR` for every night it waits (:func:`_model`). When the time limit stops that solve
+    before it keeps them all, the phase visits go into the free runs of the first choice as it
+    stands (:func:`fill_phase_visits`).
+    """
+    pick = every[chosen]
+    kept = np.unique(pick.loc[pick["source"] == "request", "candidate"].to_numpy(int))
+    nights_kept = set(pick.loc[pick["source"] == "monitor", "group"])
+    second = pd.concat([first.iloc[kept], phase], ignore_index=True)
+    mon = monitors[monitors["group"].astype(str).isin(nights_kept).to_numpy()]
+    every2, rules = _model(second, mon, targets, nights_order, week_rule)
+    req = (every2["source"] == "request").to_numpy()
+    is_phase = req & (every2["candidate"].to_numpy() >= kept.size)  # the rows of `phase` come after the kept ones
+    value = every2["value"].to_numpy(float).copy()
+    big = float(value[is_phase].sum()) + 1.0
+    must = ~is_phase
+    every2["value"] = np.where(must, value + big, value)
+    n_must = len(kept) + len(nights_kept)
+    chosen2, report2 = choose_options(every2, overhead_d, time_limit_s=time_limit_s, rel_gap=PHASE_REL_GAP, **rules)
+    served = every2.loc[chosen2 & must, "group"].nunique()
+    if served < n_must:  # stopped early: keep the first choice as it is, fill its free runs
+        blocks, visits = _picked(every, chosen, first, monitors)
+        filled, report_fill = fill_phase_visits(phase, blocks, visits, nights_order, overhead_d, time_limit_s)
+        return pd.concat([blocks, filled], ignore_index=True), visits, _both(report, report_fill)
+    every2["value"] = value
+    blocks, visits = _picked(every2, chosen2, second, mon)
+    total = float(value[chosen2].sum())
+    phase_bound = report2.bound - big * n_must - float(value[chosen2 & must].sum())
+    bound = max(total, report.bound + max(phase_bound, float(value[chosen2 & is_phase].sum())))
+    status = report.status if not report.optimal else report2.status
+    final = SolveReport(status, total, bound, (bound - total) / bound if bound > 0 else 0.0,
+                        report.seconds + report2.seconds, report.n_options + int(is_phase.sum()),
+                        report.n_rows + report2.n_rows)
+    return blocks, visits, final
+
+
+def _telescopes(frame: pd.DataFrame) -> np.ndarray:
+    return (frame["site"].astype(str).to_numpy(object) if "site" in frame
+            else np.full(len(frame), "telescope", dtype=object))
+
+
+def free_starts(earliest, latest, length_d, busy_start, busy_end, overhead_d):
+    """[(lo, hi), ...]: the starts in [earliest, latest] (UTC JD) of a visit of ``length_d`` days
+    that keep ``overhead_d`` from every busy interval [busy_start_k, busy_end_k]."""
+    # a visit starting at x clashes with a busy [s, e] when x < e + overhead and x + length + overhead > s
+    order = np.argsort(busy_start)
+    runs, lo = [], float(earliest)
+    for s, e in zip(np.asarray(busy_start, float)[order], np.asarray(busy_end, float)[order]):
+        shut_lo, shut_hi = s - overhead_d - length_d, e + overhead_d
+        if shut_hi <= lo or shut_lo >= latest:
+            continue
+        if shut_lo >= lo:
+            runs.append((lo, shut_lo))
+        lo = max(lo, shut_hi)
+    if lo <= latest:
+        runs.append((lo, float(latest)))
+    return runs
+
+
+def fill_phase_visits(phase: pd.DataFrame, blocks: pd.DataFrame, visits: pd.DataFrame, nights_order,
+                      overhead_d: float, time_limit_s: float):
+    """(chosen phase visits, report): the phase-coverage visits of largest total value in the time
+    ``blocks`` and monitor ``visits`` leave (``overhead_d`` days from each on its telescope), one
+    per bin (``group``) whatever the site, none on a night with a monitor visit of its target.
+    Each candidate's allowed starts are cut to the free runs; a visit is proposed at the start
+    nearest its own proposed (lowest-airmass) one. A bin follows the week rule ``first``: its
+    value is multiplied by :data:`FIRST_NIGHT_FACTOR` for each night of ``nights_order`` it
+    waits, so it is filled on the first night that has room for it (a later night of the plan may
+    be lost, and tomorrow's plan would put it off again)."""
+    tel = _telescopes(phase)
+    busy = pd.concat([pd.DataFrame({"telescope": _telescopes(f), "start": f["start_jd_utc"].to_numpy(float),
+                                    "end": f["end_jd_utc"].to_numpy(float)}) for f in (blocks, visits) if len(f)]
+                     + [pd.DataFrame({"telescope": [], "start": [], "end": []})], ignore_index=True)
+    shut = set(_target_night(visits)) if len(visits) else set()
+    rows, lo, hi = [], [], []
+    columns = (phase[c].to_numpy(float) for c in ("earliest_start_jd_utc", "latest_start_jd_utc", "start_jd_utc",
+                                                  "end_jd_utc"))
+    for k, (t, key, a, b, s, e) in enumerate(zip(tel, _target_night(phase), *columns)):
+        if key in shut:
+            continue
+        mine = busy[busy["telescope"] == t]
+        for r0, r1 in free_starts(a, b, e - s, mine["start"].to_numpy(), mine["end"].to_numpy(), overhead_d):
+            rows.append(k)
+            lo.append(r0)
+            hi.append(r1)
+    if not rows:
+        return phase.iloc[:0], SolveReport("optimal", 0.0, 0.0, 0.0, 0.0, 0, 0)
+    cut = phase.iloc[rows].reset_index(drop=True)
+    length = (cut["end_jd_utc"] - cut["start_jd_utc"]).to_numpy(float)
+    start = np.clip(cut["start_jd_utc"].to_numpy(float), lo, hi)
+    cut["earliest_start_jd_utc"], cut["latest_start_jd_utc"] = lo, hi
+    cut["start_jd_utc"], cut["end_jd_utc"] = start, start + length
+    opts = candidate_options(cut)
+    opts["group"] = "g" + cut["group"].astype(str).to_numpy(object)[opts["candidate"].to_numpy()]  # a bin, any site
+    rank = opts["night"].map({lab: i for i, lab in enumerate(nights_order)}).to_numpy(float)
+    opts["value"] = opts["value"] * FIRST_NIGHT_FACTOR ** rank
+    chosen, report = choose_options(opts, overhead_d, exclusive=("group",), time_limit_s=time_limit_s)
+    pick = opts[chosen]
+    out = cut.iloc[pick["candidate"].to_numpy()].copy()
+    out["start_jd_utc"], out["end_jd_utc"] = pick["start_jd_utc"].to_numpy(), pick["end_jd_utc"].to_numpy()
+    return out.reset_index(drop=True), report
+
+
+def _both(first: SolveReport, second: SolveReport) -> SolveReport:
+    """One report of the two choices: totals, bounds, seconds and sizes added; optimal when both are."""
+    status = first.status if not first.optimal else second.status
+    objective, bound = first.objective + second.objective, first.bound + second.bound
+    gap = (bound - objective) / bound if bound > 0 else 0.0
+    return SolveReport(status, objective, bound, gap, first.seconds + second.seconds,
+                       first.n_options + second.n_options, first.n_rows + second.n_rows)
+
+
+def _model(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataFrame, nights_order, week_rule: str):
+    """(options, rules): every option of the candidates and monitor visits with the groups of the
+    week's rules (module docstring), and the keyword arguments of
+    :func:`~planner.scheduling.solver.choose_options` that state them."""
     opts = candidate_options(cands)
     rules = _week_rules(cands, targets, week_rule)[opts["candidate"].to_numpy()] if len(opts) else np.zeros(0)
+    # a phase bin is its own request, once in the plan whatever the site, filled on the first
+    # night that has room for it
+    phase = is_phase_visit(cands)[opts["candidate"].to_numpy()]
+    rules = np.where(phase, "first", rules)
+    opts["group"] = np.where(phase, "g" + cands["group"].astype(str).to_numpy(object)[opts["candidate"].to_numpy()],
+                             opts["group"].to_numpy(object))
     # "every": no week key, so each instance may be taken; "best"/"first": the week key allows one;
     # "first" also makes each later night worth less
     rank = opts["night"].map({lab: i for i, lab in enumerate(nights_order)}).to_numpy(float)
-    opts["week_key"] = np.where(rules == "every", "", opts["week_key"].to_numpy(object))
+    opts["week_key"] = np.where((rules == "every") | phase, "", opts["week_key"].to_numpy(object))
     opts["value"] = np.where(rules == "first", opts["value"] * FIRST_NIGHT_FACTOR ** rank, opts["value"])
     opts["source"] = "request"
     opts["monitor_night"] = ""
@@ -89,13 +257,16 @@ def choose_blocks(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataF
         mon["instance"], mon["sites_wanted"] = "", 1.0
         exclusive, capacity = ("group", "week_key", "instance"), {"instance": "sites_wanted"}
     every = pd.concat([opts, mon], ignore_index=True)
-    chosen, report = choose_options(every, overhead_d, exclusive=exclusive, spacing=("spacing", "gap_d"),
-                                    excludes=("monitor_night", "block_night"), capacity=capacity,
-                                    time_limit_s=time_limit_s)
+    return every, {"exclusive": exclusive, "spacing": ("spacing", "gap_d"),
+                   "excludes": ("monitor_night", "block_night"), "capacity": capacity}
+
+
+def _picked(every: pd.DataFrame, chosen: np.ndarray, cands: pd.DataFrame, monitors: pd.DataFrame):
+    """(blocks, monitor visits) of the chosen options: candidate rows with the chosen starts."""
     pick = every[chosen]
     req = pick[pick["source"] == "request"]
     blocks = cands.iloc[req["candidate"].to_numpy()].copy()
     blocks["start_jd_utc"] = req["start_jd_utc"].to_numpy()
     blocks["end_jd_utc"] = req["end_jd_utc"].to_numpy()
     visits = monitors.iloc[pick[pick["source"] == "monitor"]["candidate"].to_numpy()]
-    return blocks.reset_index(drop=True), visits, report
+    return blocks.reset_index(drop=True), visits

@@ -13,7 +13,9 @@ after what was observed:
 - a target asking for a number of events per campaign (``campaign_events``) gets no request of
   that event once the log holds that many done;
 - a target asking for phase coverage (``phase_bins``) gets RV visits in the bins no logged
-  exposure fills (:func:`phase_candidates`), each worth more the larger the empty run it sits in.
+  exposure fills (:func:`phase_candidates`), each worth more the larger the empty run it sits in;
+  the scheduler gives them the time the week's events and monitor visits leave, never theirs
+  (:mod:`planner.scheduling.choose`).
 
 An event instance is matched by target, event and cycle when the log gives the cycle, else by
 the instance whose predicted time is nearest the middle of the logged observation (within half a
@@ -29,15 +31,16 @@ import pandas as pd
 from ..orbits import coverage
 from .coverage import parts_covered, reference_epoch
 from .blocks import SCHEDULE_COLUMNS, instance_keys, altitudes, mean_airmass, sample_times
+from .requests import PLACEMENT_SAMPLES
 from .score import airmass_from_alt, score_components
 
 #: Length of a phase-coverage visit when the catalogue gives no ``visit_h`` [common practice: one
 #: spectrum of tens of minutes].
 PHASE_VISIT_H = 0.5
 USED = ("done", "partial")
-#: Weight of a phase-coverage visit against an event visit of the same target [our choice: half,
-#: so an event visit of the target wins its night unless the phase gap is the larger part of the orbit].
-PHASE_WEIGHT = 0.5
+#: Start of the ``group`` label of a phase-coverage visit (``phase|target|bin``): the scheduler
+#: gives these the time the other blocks leave (:mod:`planner.scheduling.choose`).
+PHASE_GROUP = "phase|"
 
 
 def _instances(log, visible):
@@ -110,12 +113,17 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
                      options, altitude_deg=None, moon_sep_deg=None):
     """(candidates, altitudes): RV visits in the empty phase bins of targets with ``phase_bins``.
 
-    For each such target, night and observable interval, one visit of ``visit_h`` (default
-    :data:`PHASE_VISIT_H`) at the start of each empty bin's stretch inside the interval that can
-    hold it. Its value is the visit's score (priority, airmass, Moon; no rarity) times 1 + the share of
-    the orbit's bins in the empty run it sits in (1 to 2), so the largest gaps are filled first
-    without a visit outweighing the events of higher-priority targets. ``group`` is one per
-    target and bin: a bin is filled once a week.
+    For each such target, night and observable interval, one movable visit of ``visit_h``
+    (default :data:`PHASE_VISIT_H`) for each empty bin whose stretch inside the interval can hold
+    it: it may start anywhere in that stretch (``earliest_start_jd_utc`` .. ``latest_start_jd_utc``,
+    the whole visit inside the bin), proposed where the target is highest. Its value is the visit's
+    score (priority, airmass, Moon; no rarity) times 1 + the share of the orbit's bins in the
+    empty run it sits in (1 to 2), so among the phase visits the largest gaps of the most
+    important targets are filled first. That value is weighed against other phase visits only:
+    the scheduler places phase visits in the time the week's events and monitor visits leave
+    (:mod:`planner.scheduling.choose`), so none ever takes the place of an event, of any
+    priority. ``group`` is ``phase|target|bin`` (:data:`PHASE_GROUP`): a bin is filled once in a
+    plan, on the first night that has room for it.
     """
     empty = pd.DataFrame({c: [] for c in SCHEDULE_COLUMNS}), np.zeros((0, 9))
     if "phase_bins" not in targets or not (targets["phase_bins"] > 0).any() or intervals is None or intervals.empty:
@@ -148,12 +156,15 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
                 s = max(a, phase0[ti] + k * p / n_bins)
                 e_bin = min(b, phase0[ti] + (k + 1) * p / n_bins)
                 if s + length <= e_bin:
-                    rows.append((ti, night, s, s + length, bin_, run[bin_]))
+                    rows.append((ti, night, s, e_bin - length, bin_, run[bin_], length))
     if not rows:
         return empty
     ti = np.array([r[0] for r in rows])
-    start = np.array([r[2] for r in rows])
-    end = np.array([r[3] for r in rows])
+    earliest = np.array([r[2] for r in rows])
+    latest = np.array([r[3] for r in rows])
+    length = np.array([r[6] for r in rows])
+    start = _lowest_airmass_start(altitude_deg, ti, earliest, latest, length)
+    end = start + length
     alt = altitudes(altitude_deg, ti, sample_times(start, end))
     x = mean_airmass(airmass_from_alt(alt))
     sep = np.asarray(moon_sep_deg(ti, 0.5 * (start + end)), float) if moon_sep_deg is not None else np.full(ti.size, np.nan)
@@ -174,16 +185,29 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
     out["serves"] = [f"phase bin {b + 1} of {int(targets['phase_bins'].iloc[i])}" for i, b in zip(ti, bins)]
     out["label"] = out["serves"]
     out["kind"], out["request"], out["request_id"] = "fixed", "rv_visit", -1
-    out["group"] = [f"phase|{i}|{b}" for i, b in zip(ti, bins)]
+    out["group"] = [f"{PHASE_GROUP}{i}|{b}" for i, b in zip(ti, bins)]
     out["slot"], out["n_slots"], out["covers"], out["not_covered"], out["notes"] = 0, 1, "", "", ""
     out["science_fraction"], out["priority"] = 1.0, targets["priority"].to_numpy(float)[ti]
-    out["earliest_start_jd_utc"], out["latest_start_jd_utc"] = start, start
+    out["earliest_start_jd_utc"], out["latest_start_jd_utc"] = earliest, latest
     out["alt_low_deg"], out["airmass"], out["moon_sep_deg"], out["moon_illumination"] = alt.min(axis=1), x, sep, illum
     for c in sc.columns:
         out[c] = sc[c].to_numpy()
     n_bins = targets["phase_bins"].to_numpy(float)[ti]
-    out["score"] = out["score"].to_numpy() * PHASE_WEIGHT * (1.0 + np.array([r[5] for r in rows], float) / n_bins)
+    out["score"] = out["score"].to_numpy() * (1.0 + np.array([r[5] for r in rows], float) / n_bins)
     return out, alt
+
+
+def _lowest_airmass_start(altitude_deg, ti, earliest, latest, length):
+    """(n,) start of each movable visit in [earliest, latest] where its middle is highest (of
+    :data:`PLACEMENT_SAMPLES` evenly spread starts); the middle of the range without altitudes."""
+    f = np.linspace(0.0, 1.0, PLACEMENT_SAMPLES)
+    starts = earliest[:, None] + (latest - earliest)[:, None] * f
+    if altitude_deg is None or ti.size == 0:
+        return starts[:, PLACEMENT_SAMPLES // 2]
+    idx = np.broadcast_to(ti[:, None], starts.shape)
+    alt = np.asarray(altitude_deg(idx, starts + 0.5 * length[:, None]), float)
+    pick = np.argmax(np.where(np.isfinite(alt), alt, -np.inf), axis=1)
+    return starts[np.arange(ti.size), pick]
 
 
 def _run_lengths(filled: np.ndarray) -> np.ndarray:

@@ -151,6 +151,67 @@ def _series_contacts(v, targets):
     return out
 
 
+def _rv_offsets_d(ti, ev, kind, targets):
+    """(lo, hi): days from each RV request's event moment to the ends of its window, before the
+    k-sigma widening; NaN for rows that are not RV requests. ``ti``, ``ev``, ``kind`` shape (n,).
+
+    rv_max/rv_min: the phase window where v is within ``rv_fraction_k`` K of the extremum;
+    apastron: the 2 h around it; periastron (rv_sequence): the RV swing.
+    """
+    n = ti.size
+    lo, hi = np.full(n, np.nan), np.full(n, np.nan)
+    p = targets["period_d"].to_numpy(float)[ti]
+    e = np.nan_to_num(_col(targets, "e", 0.0).astype(float)[ti])
+    w = np.radians(np.nan_to_num(_col(targets, "omega_deg", 90.0).astype(float)[ti], nan=90.0))
+    frac = _col(targets, "rv_fraction_k", 0.1).astype(float)[ti]
+    for name, maximum in (("rv_max", True), ("rv_min", False)):
+        sel = (kind == RV_VISIT) & (ev == name)
+        if sel.any():
+            lo[sel], hi[sel] = orbit_contacts.rv_window_offsets_d(p[sel], e[sel], w[sel], frac[sel], maximum=maximum)
+    sel = (kind == RV_VISIT) & (ev == "apastron")
+    lo[sel], hi[sel] = -DEFAULT_EVENT_LENGTH_H / 48.0, DEFAULT_EVENT_LENGTH_H / 48.0
+    sel = kind == RV_SEQUENCE
+    if sel.any():  # one swing per target
+        uniq, inv = np.unique(ti[sel], return_inverse=True)
+        first = np.flatnonzero(sel)[np.unique(inv, return_index=True)[1]]
+        s_lo, s_hi = orbit_contacts.rv_swing_offsets_d(p[first], e[first], w[first])
+        lo[sel], hi[sel] = s_lo[inv], s_hi[inv]
+    return lo, hi
+
+
+def request_reach_d(targets: pd.DataFrame) -> np.ndarray:
+    """(n,) days either side of an event's moment that a target's RV request windows reach, before
+    the k-sigma widening: the largest offset of its rv_max/rv_min phase windows, apastron visit and
+    periastron swing (:func:`_rv_offsets_d`); 0 for a target not observed in RV or with a linear
+    ephemeris. An RV phase window is a share of the orbit (0.0718 of the period either side of
+    an extremum of a circular orbit with ``rv_fraction_k`` 0.1), so a long period's window reaches
+    days from its event: the pipeline predicts each target's events that far beyond the nights.
+    """
+    n = len(targets)
+    if n == 0:
+        return np.zeros(0)
+    names = np.array(["rv_max", "rv_min", "apastron", "periastron"], dtype=object)
+    kinds = np.array([RV_VISIT, RV_VISIT, RV_VISIT, RV_SEQUENCE], dtype=object)
+    ti = np.repeat(np.arange(n), names.size)
+    lo, hi = _rv_offsets_d(ti, np.tile(names, n), np.tile(kinds, n), targets)
+    reach = np.nan_to_num(np.maximum(np.abs(lo), np.abs(hi))).reshape(n, names.size).max(axis=1)
+    observe = _col(targets, "observe", "photometry;rv").astype(str)
+    rv = np.char.find(observe.astype(str), "rv") >= 0
+    orbit = _col(targets, "ephemeris", "orbit").astype(str) == "orbit"
+    return np.where(rv & orbit, reach, 0.0)
+
+
+def request_windows(visible: pd.DataFrame, targets: pd.DataFrame,
+                    settings: "RequestSettings | None" = None) -> tuple[np.ndarray, np.ndarray]:
+    """(start, end) UTC Julian dates of the window each visible event's request asks for (the
+    ``window_*`` columns of the request table; module docstring); the visible table's own window
+    for an event that asks for nothing. Shapes (len(visible),)."""
+    if len(visible) == 0:
+        return np.zeros(0), np.zeros(0)
+    w0, w1, _ = _windows(visible, request_kinds(visible, targets), targets, settings or RequestSettings())
+    return w0, w1
+
+
 def _windows(v, kind, targets, settings):
     """(w0, w1, contacts (n, 4)) of each request row."""
     n = len(v)
@@ -167,25 +228,9 @@ def _windows(v, kind, targets, settings):
         known = s & np.isfinite(contacts[:, 0]) & np.isfinite(contacts[:, 3])
         w0[known] = contacts[known, 0] - base - sig[known]
         w1[known] = contacts[known, 3] + base + sig[known]
-    p = targets["period_d"].to_numpy(float)[ti]
-    e = np.nan_to_num(_col(targets, "e", 0.0).astype(float)[ti])
-    w = np.radians(np.nan_to_num(_col(targets, "omega_deg", 90.0).astype(float)[ti], nan=90.0))
-    ev = v["event"].to_numpy(object).astype(str)
-    frac = _col(targets, "rv_fraction_k", 0.1).astype(float)[ti]
-    for name, maximum in (("rv_max", True), ("rv_min", False)):
-        sel = (kind == RV_VISIT) & (ev == name)
-        if sel.any():
-            lo, hi = orbit_contacts.rv_window_offsets_d(p[sel], e[sel], w[sel], frac[sel], maximum=maximum)
-            w0[sel], w1[sel] = jd[sel] + lo - sig[sel], jd[sel] + hi + sig[sel]
-    sel = (kind == RV_VISIT) & (ev == "apastron")
-    half = DEFAULT_EVENT_LENGTH_H / 48.0
-    w0[sel], w1[sel] = jd[sel] - half - sig[sel], jd[sel] + half + sig[sel]
-    sel = kind == RV_SEQUENCE
-    if sel.any():  # one swing per target
-        uniq, inv = np.unique(ti[sel], return_inverse=True)
-        first = np.flatnonzero(sel)[np.unique(inv, return_index=True)[1]]
-        lo, hi = orbit_contacts.rv_swing_offsets_d(p[first], e[first], w[first])
-        w0[sel], w1[sel] = jd[sel] + lo[inv] - sig[sel], jd[sel] + hi[inv] + sig[sel]
+    lo, hi = _rv_offsets_d(ti, v["event"].to_numpy(object).astype(str), kind, targets)
+    rv = np.isfinite(lo)
+    w0[rv], w1[rv] = jd[rv] + lo[rv] - sig[rv], jd[rv] + hi[rv] + sig[rv]
     return w0, w1, contacts
 
 
