@@ -130,7 +130,7 @@ def _with_phase_visits(every, chosen, report, first, phase, monitors, targets, n
     status = report.status if not report.optimal else report2.status
     final = SolveReport(status, total, bound, (bound - total) / bound if bound > 0 else 0.0,
                         report.seconds + report2.seconds, report.n_options + int(is_phase.sum()),
-                        report.n_rows + report2.n_rows)
+                        report.n_rows + report2.n_rows, report.runs)
     return blocks, visits, final
 
 
@@ -202,12 +202,13 @@ def fill_phase_visits(phase: pd.DataFrame, blocks: pd.DataFrame, visits: pd.Data
 
 
 def _both(first: SolveReport, second: SolveReport) -> SolveReport:
-    """One report of the two choices: totals, bounds, seconds and sizes added; optimal when both are."""
+    """One report of the two choices: totals, bounds, seconds and sizes added; optimal when both are;
+    the nights' solves are the first choice's."""
     status = first.status if not first.optimal else second.status
     objective, bound = first.objective + second.objective, first.bound + second.bound
     gap = (bound - objective) / bound if bound > 0 else 0.0
     return SolveReport(status, objective, bound, gap, first.seconds + second.seconds,
-                       first.n_options + second.n_options, first.n_rows + second.n_rows)
+                       first.n_options + second.n_options, first.n_rows + second.n_rows, first.runs)
 
 
 def _model(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataFrame, nights_order, week_rule: str):
