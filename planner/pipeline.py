@@ -1,7 +1,8 @@
 """The whole pipeline in one call: target table + site + nights -> :class:`Plan`.
 
-:func:`make_plan` runs the stages in order (nights, events, observable intervals, event
-visibility, observing requests, schedule) and returns every intermediate table, so the command line, the notebook
+:func:`make_plan` runs the stages in order (nights, events and the instances of wanted orbital
+phases (:mod:`planner.scheduling.phase_requests`), observable intervals, event visibility,
+observing requests, schedule) and returns every intermediate table, so the command line, the notebook
 and the tests see the same thing. It reads and writes no files; :mod:`planner.plan_files` writes
 a plan out. Times are UTC Julian dates (``*_jd_utc``) except the events' ``bjd_tdb``.
 """
@@ -21,6 +22,7 @@ from .errors import PeriplanError
 from .orbits.events import predict_events
 from .scheduling.requests import RequestSettings, build_requests
 from .scheduling.losses import unscheduled
+from .scheduling.phase_requests import wanted_phase_events
 from .scheduling.schedule import ScheduleOptions, plan_week_report
 from .sky import night as night_mod
 from .sky import positions, windows
@@ -249,6 +251,7 @@ def _prepare(targets, site, first_night, n_nights, settings, progress) -> Plan:
     span = Time([nights["noon_jd_utc"].min() - EVENT_MARGIN_D, nights["next_noon_jd_utc"].max() + EVENT_MARGIN_D],
                 format="jd", scale="utc").tdb.jd
     events = predict_events(targets, span[0], span[1])
+    phases = wanted_phase_events(targets, span[0], span[1])
 
     _stage(progress, "intervals")
     intervals = windows.observable_intervals(targets, site, nights, tracks=tracks)
@@ -256,6 +259,12 @@ def _prepare(targets, site, first_night, n_nights, settings, progress) -> Plan:
     _stage(progress, "visibility")
     visible = windows.event_visibility(events, targets, site, nights, baseline_h=settings.baseline_h,
                                        k_sigma=settings.k_sigma, tracks=tracks, intervals=intervals)
+    if len(phases):  # a wanted phase's window is its tolerance (its "duration") and k sigma: no baseline
+        seen = windows.event_visibility(phases, targets, site, nights, baseline_h=0.0, k_sigma=settings.k_sigma,
+                                        tracks=tracks, intervals=intervals)
+        visible = pd.concat([visible, seen], ignore_index=True)
+        visible = visible.iloc[np.lexsort((visible["target_index"].to_numpy(int),
+                                           visible["bjd_tdb"].to_numpy(float)))].reset_index(drop=True)
     visible = _in_nights(visible, nights)
 
     plan = Plan(site=site, targets=targets, nights=nights, events=visible, intervals=intervals,
