@@ -182,15 +182,40 @@ def test_a_wanted_phase_in_the_night_gets_one_visit_inside_its_window(week):
                     f"(mean anomaly {360 * dark:.4g} deg from periastron)")
 
 
-def test_a_wanted_phase_near_an_rv_extremum_shares_its_visit(week):
+@pytest.fixture(scope="module")
+def merged(week):
+    """The plan of :func:`week` with the default events of an RV target (rv_max, rv_min, ...)."""
     site, _, dark, day, _ = week
-    plan = planner.make_plan(hatp2(phases=f"{dark};{day}"), site, NIGHT, 1)  # rv_max, rv_min by default
+    return planner.make_plan(hatp2(phases=f"{dark};{day}"), site, NIGHT, 1)
+
+
+def test_a_wanted_phase_near_an_rv_extremum_shares_its_visit(week, merged):
+    dark, plan = week[2], merged
     served = [s.split(";") for s in plan.schedule["serves"]]
     both = [names for names in served if phase_event_name(dark) in names]
     assert len(both) == 1 and "rv_max" in both[0]
     b = plan.schedule.iloc[[phase_event_name(dark) in names for names in served]].iloc[0]
     edges = utc_to_bjd([b["start_jd_utc"], b["end_jd_utc"]])
     assert np.all(np.abs(np.mod(mean_phase_of(edges) - dark + 0.5, 1.0) - 0.5) <= 0.02 + EDGE_TOL_D / P)
+
+
+def test_the_target_page_and_rv_chart_show_the_wanted_phase(week, merged):
+    from planner.outputs import charts, week_page
+    from planner.timescales import clock
+
+    site, _, dark, day, _ = week
+    plan = merged
+    page = week_page.target_html(plan, 0, [])
+    start = plan.schedule["start_jd_utc"].iloc[0]
+    block = f"block {clock.jd_utc_to_local_iso([start], site.timezone)[0][11:16]}-"
+    for what in (f"phase {dark:g}", "RV maximum"):  # the merged visit serves both instances
+        row = page.split(f"<td>{what}</td>")[1].split("</tr>")[0]
+        assert block in row and "not scheduled" not in row
+    row = page.split(f"<td>phase {day:g}</td>")[1].split("</tr>")[0]
+    assert "not scheduled" in row
+    fig = charts.rv_figure(plan.targets.iloc[0], plan.schedule)
+    lines = [a for a in fig.axes[0].lines if a.get_gid() == "wanted_phase"]
+    assert sorted(float(ln.get_xdata()[0]) for ln in lines) == [dark, day]
 
 
 def test_a_wanted_phase_in_daylight_is_unscheduled_with_its_reason(week):
