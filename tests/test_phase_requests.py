@@ -115,8 +115,8 @@ def test_a_wanted_phase_is_mean_anomaly_not_true_anomaly():
     assert np.all(np.abs(at_tc - (TC + n * P)) <= 1e-6 * P + TIME_TOL_D)  # the phase is printed to 1e-6
     nu = radvel.orbit.true_anomaly(at_tc, TP, P, E)
     assert np.all(np.abs(np.mod(nu - np.radians(90.0 - W_DEG) + np.pi, 2 * np.pi) - np.pi) <= 1e-4)
-    # phase 0.25 is a quarter of the orbit's time after periastron: for e = 0.52 the true anomaly
-    # there is far past 90 deg, as the star sweeps fast through periastron
+    # phase 0.25 is a quarter of the orbit's time after periastron: for e = 0.52 radvel's true
+    # anomaly there is 141.5 deg, far past 90 deg, as the star sweeps fast through periastron
     quarter = ev[ev["event"] == "phase_0.25"]["bjd_tdb"].to_numpy()
     nu_q = np.degrees(radvel.orbit.true_anomaly(quarter, TP, P, E))
     big_e = 2 * np.arctan(np.sqrt((1 - E) / (1 + E)) * np.tan(np.radians(nu_q) / 2))
@@ -126,8 +126,9 @@ def test_a_wanted_phase_is_mean_anomaly_not_true_anomaly():
 
 def test_uncertainty_is_the_periastron_uncertainty_carried_to_the_phase():
     # a periastron epoch: linear propagation of Tp and P only, sigma^2 = sigma_T^2 + (x sigma_P)^2
-    # with x the orbits since the epoch (e.g. Bevington & Robinson, Data Reduction and Error
-    # Analysis, 3rd ed. 2003, eq. 3.14, for a sum of independent terms)
+    # with x the orbits since the epoch (the variance of a sum of independent terms, e.g.
+    # Bevington & Robinson, Data Reduction and Error Analysis, 3rd ed. 2003, ch. 3; the chapter
+    # is cited from memory)
     cat = parse_catalogue("name,ra,dec,period_d,period_err_d,e,omega_deg,tp,tp_err_d,k_ms,rv_phases\n"
                           f"HAT-P-2 b,{RA},{DEC},{P},0.0000061,{E},{W_DEG},{TP:.6f},0.0021,983.9,0.4\n", "cat.csv")
     ev = wanted_phase_events(cat, 2461180.0, 2461215.0)
@@ -206,7 +207,8 @@ def test_the_target_page_and_rv_chart_show_the_wanted_phase(week, merged):
     site, _, dark, day, _ = week
     plan = merged
     page = week_page.target_html(plan, 0, [])
-    start = plan.schedule["start_jd_utc"].iloc[0]
+    shared = [phase_event_name(dark) in str(x).split(";") for x in plan.schedule["serves"]]
+    start = plan.schedule["start_jd_utc"][shared].iloc[0]
     block = f"block {clock.jd_utc_to_local_iso([start], site.timezone)[0][11:16]}-"
     for what in (f"phase {dark:g}", "RV maximum"):  # the merged visit serves both instances
         row = page.split(f"<td>{what}</td>")[1].split("</tr>")[0]
