@@ -1,7 +1,8 @@
 """The whole pipeline in one call: target table + site + nights -> :class:`Plan`.
 
-:func:`make_plan` runs the stages in order (nights, events, observable intervals, event
-visibility, observing requests, schedule) and returns every intermediate table, so the command line, the notebook
+:func:`make_plan` runs the stages in order (nights, events and the instances of wanted orbital
+phases (:mod:`planner.scheduling.phase_requests`), observable intervals, event visibility,
+observing requests, schedule) and returns every intermediate table, so the command line, the notebook
 and the tests see the same thing. It reads and writes no files; :mod:`planner.plan_files` writes
 a plan out. Times are UTC Julian dates (``*_jd_utc``) except the events' ``bjd_tdb``.
 """
@@ -21,6 +22,7 @@ from .errors import PeriplanError
 from .orbits.events import predict_events
 from .scheduling.requests import RequestSettings, build_requests, request_reach_d, request_windows
 from .scheduling.losses import unscheduled
+from .scheduling.phase_requests import wanted_phase_events
 from .scheduling.schedule import ScheduleOptions, plan_week_report
 from .sky import night as night_mod
 from .sky import positions, windows
@@ -254,6 +256,7 @@ def _prepare(targets, site, first_night, n_nights, settings, progress) -> Plan:
     span = Time([nights["noon_jd_utc"].min(), nights["next_noon_jd_utc"].max()], format="jd", scale="utc").tdb.jd
     events = predict_events(targets, span[0] - EVENT_MARGIN_D, span[1] + EVENT_MARGIN_D,
                             reach_d=request_reach_d(targets))
+    phases = wanted_phase_events(targets, span[0] - EVENT_MARGIN_D, span[1] + EVENT_MARGIN_D)
 
     _stage(progress, "intervals")
     intervals = windows.observable_intervals(targets, site, nights, tracks=tracks)
@@ -261,6 +264,12 @@ def _prepare(targets, site, first_night, n_nights, settings, progress) -> Plan:
     _stage(progress, "visibility")
     visible = windows.event_visibility(events, targets, site, nights, baseline_h=settings.baseline_h,
                                        k_sigma=settings.k_sigma, tracks=tracks, intervals=intervals)
+    if len(phases):  # a wanted phase's window is its tolerance (its "duration") and k sigma: no baseline
+        seen = windows.event_visibility(phases, targets, site, nights, baseline_h=0.0, k_sigma=settings.k_sigma,
+                                        tracks=tracks, intervals=intervals)
+        visible = pd.concat([visible, seen], ignore_index=True)
+        visible = visible.iloc[np.lexsort((visible["target_index"].to_numpy(int),
+                                           visible["bjd_tdb"].to_numpy(float)))].reset_index(drop=True)
     request_settings = RequestSettings(settings.baseline_h, settings.k_sigma, settings.schedule.min_block_min)
     w0, w1 = request_windows(visible, targets, request_settings)
     visible = _in_nights(visible, nights, np.fmin(w0, visible["window_start_jd_utc"].to_numpy(float)),

@@ -74,6 +74,10 @@ CATALOGUE_EXPECTED = {
     "rv_fraction_negative.csv": (2, "rv_fraction_k", "-0.1 is outside 0 < fraction <= 1"),
     "rv_visits_fractional.csv": (2, "rv_visits", "2.5 is not a whole number of visits >= 1"),
     "full_coverage_not_yes_no.csv": (2, "full_coverage", "'maybe' is not yes or no"),
+    "rv_phases_not_a_number.csv": (2, "rv_phases", "'half' is not an orbital phase"),
+    "rv_phase_outside_range.csv": (3, "rv_phases", "1.25 is outside 0 <= phase < 1"),
+    "rv_phase_tol_too_wide.csv": (2, "rv_phase_tol", "0.6 is outside 0 < tolerance < 0.5"),
+    "rv_phases_linear_ephemeris.csv": (2, "rv_phases", "wanted orbital phases need an orbit with a periastron"),
 }
 
 

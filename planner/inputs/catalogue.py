@@ -10,7 +10,8 @@ messages) and gives a :class:`pandas.DataFrame` with one row per target and the 
 ``name, ra_deg, dec_deg, ephemeris, period_d, period_err_d, e, e_err, omega_deg,
 omega_err_deg, epoch_kind, epoch_bjd_tdb, epoch_err_d, tp_bjd_tdb, time_system, k_ms, gamma_ms,
 priority, events, duration_h, a_rstar, inc_deg, rp_rstar, label, visit_h, visit_gap_h, events_given,
-observe, rv_fraction_k, rv_visits, rv_gap_h, full_coverage`` (and the binary columns of
+observe, rv_fraction_k, rv_visits, rv_gap_h, full_coverage, week_rule, phase_bins, sites,
+campaign_events, rv_phases, rv_phase_tol`` (and the binary columns of
 :mod:`planner.inputs.binary_checks` when given)
 
 then the catalogue's columns that periplan does not read, under their own names (floats when
@@ -62,6 +63,11 @@ Input columns (header names, case-insensitive; order free):
 ``rv_visits``, ``rv_gap_h``  RV visits wanted over a periastron passage (default 3), and their
                    least spacing (hours, default 1)
 ``full_coverage``  ``yes``: a series counts only when it covers T1 to T4 with both baselines
+``rv_phases``      orbital phases wanted for an RV point, ``;``-separated, each 0 <= phase < 1:
+                   mean anomaly / 360 deg after periastron (``0.25;0.75``); each becomes an RV
+                   visit inside its window (:mod:`planner.scheduling.phase_requests`)
+``rv_phase_tol``   half-width of each wanted phase's window, in orbits (0 < tol < 0.5,
+                   default 0.02)
 ``notes``, others  carried unread (free text, magnitudes, anything of the user's)
 =================  ====================================================================
 
@@ -104,9 +110,10 @@ NUMERIC_COLUMNS = (
     "tp_err_d", "tc_err_d", "t0_err_d", "time_offset_d", "k_ms", "gamma_ms", "priority",
     "duration_h", "a_rstar", "inc_deg", "b", "rp_rstar", "a_au", "mass1_msun", "mass2_msun",
     "visit_h", "visit_gap_h", "rv_fraction_k", "rv_visits", "rv_gap_h", "phase_bins", "sites",
+    "rv_phase_tol",
 ) + binary_checks.NUMERIC_COLUMNS
 TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes", "observe",
-                "full_coverage", "week_rule", "campaign_events") + binary_checks.TEXT_COLUMNS
+                "full_coverage", "week_rule", "campaign_events", "rv_phases") + binary_checks.TEXT_COLUMNS
 KNOWN_COLUMNS = TEXT_COLUMNS + NUMERIC_COLUMNS
 
 OUTPUT_COLUMNS = (
@@ -114,7 +121,7 @@ OUTPUT_COLUMNS = (
     "omega_deg", "omega_err_deg", "epoch_kind", "epoch_bjd_tdb", "epoch_err_d", "tp_bjd_tdb",
     "time_system", "k_ms", "gamma_ms", "priority", "events", "duration_h", "a_rstar", "inc_deg",
     "rp_rstar", "label", "visit_h", "visit_gap_h", "events_given", "observe", "rv_fraction_k", "rv_visits",
-    "rv_gap_h", "full_coverage", "week_rule", "phase_bins", "sites", "campaign_events",
+    "rv_gap_h", "full_coverage", "week_rule", "phase_bins", "sites", "campaign_events", "rv_phases", "rv_phase_tol",
 ) + BINARY_COLUMNS
 
 
@@ -383,6 +390,7 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
                                          eclipse=eclipse)
     requests = checks.check_requests(cells, linear, duration, a_rstar, observing["k_ms"])
     campaign = check_campaign(cells)
+    phases = checks.check_wanted_phases(cells, linear)
 
     tp = np.where(epoch_kind == "tc", np.nan, epoch_bjd)
     orbit_tc = (epoch_kind == "tc") & ~linear & np.isfinite(e) & np.isfinite(omega)
@@ -408,7 +416,7 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
         "epoch_kind": epoch_kind.astype(str), "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
         "tp_bjd_tdb": tp, "time_system": system, "events": events, "duration_h": duration,
         "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing, **binary,
-        "events_given": cells.given("events"), **requests, **campaign,
+        "events_given": cells.given("events"), **requests, **campaign, **phases,
     }, columns=list(OUTPUT_COLUMNS))
     if (kind2 != "").any() and not cells.errors:
         from ..orbits.binary_events import epoch_tension_sigma

@@ -1,5 +1,5 @@
 """One validator per concern of a catalogue row: names, coordinates, period, e/omega, epoch,
-time system, eclipse geometry, observing settings and events.
+time system, eclipse geometry, observing settings, events and wanted orbital phases.
 
 Each validator takes a :class:`Cells` view of the raw table (text cells, one row per target,
 indexed by file row) and returns plain numpy columns in the engine's units; every problem becomes
@@ -461,3 +461,53 @@ def check_requests(cells: Cells, linear, duration_h, a_rstar, k_ms) -> dict:
         "rv_gap_h": np.where(np.isnan(gap), DEFAULT_RV_GAP_H, gap),
         "full_coverage": np.asarray(full, dtype=bool),
     }
+
+
+#: Half-width (in phase, orbits) of the window of a wanted phase when ``rv_phase_tol`` is not
+#: given: 0.02 of an orbit, +-7.2 deg of mean anomaly [our choice: about the width over which an
+#: RV point still samples "that" phase of a well-sampled curve; no published standard].
+DEFAULT_RV_PHASE_TOL = 0.02
+
+
+def check_wanted_phases(cells: Cells, linear) -> dict:
+    """``rv_phases`` (a tuple of floats per row, empty when none) and ``rv_phase_tol`` (orbits).
+
+    ``rv_phases`` is a ``;``-list of mean-anomaly phases after periastron, each 0 <= phase < 1
+    (phase = M / 360 deg); ``rv_phase_tol`` the half-width of each phase's window, 0 < tol < 0.5
+    (default :data:`DEFAULT_RV_PHASE_TOL`). A linear ephemeris (``linear``: no e, omega_deg) has no
+    periastron and so no such phase: refused. A phase given twice is refused too.
+    """
+    rows = cells.rows
+    tol = cells.numeric("rv_phase_tol", default=DEFAULT_RV_PHASE_TOL)
+    bad_tol = ~((tol > 0) & (tol < 0.5))
+    for row, v in zip(rows[bad_tol], cells.text("rv_phase_tol")[bad_tol]):
+        cells.err(row, "rv_phase_tol", f"{v} is outside 0 < tolerance < 0.5 (the half-width of each wanted "
+                  "phase's window, in orbits)", v)
+    wanted = []
+    for row, text, lin in zip(rows, cells.text("rv_phases"), linear):
+        phases = []
+        items = [w.strip() for w in str(text).split(";") if w.strip()]
+        if items and lin:
+            cells.err(row, "rv_phases", "wanted orbital phases need an orbit with a periastron (e, omega_deg and "
+                      "tp or tc); this row is a linear ephemeris", text)
+            wanted.append(())
+            continue
+        for item in items:
+            try:
+                value = float(item)
+            except ValueError:
+                value = math.nan
+            if not math.isfinite(value):
+                hint = " (a decimal comma? write numbers with a decimal point)" if _DECIMAL_COMMA.match(item) else ""
+                cells.err(row, "rv_phases", f"{item!r} is not an orbital phase{hint}; expected a ;-list of numbers "
+                          "0 <= phase < 1 such as 0.25;0.75", text)
+            elif not 0.0 <= value < 1.0:
+                cells.err(row, "rv_phases", f"{item} is outside 0 <= phase < 1 (mean anomaly / 360 deg after "
+                          "periastron)", text)
+            elif value in phases:
+                cells.err(row, "rv_phases", f"phase {item} is listed twice", text)
+            else:
+                phases.append(value)
+        wanted.append(tuple(phases))
+    return {"rv_phases": np.asarray(wanted + [None], dtype=object)[:-1],
+            "rv_phase_tol": np.where(bad_tol, DEFAULT_RV_PHASE_TOL, tol)}

@@ -43,7 +43,7 @@ ENGINE_UNITS = {
     "period_d": "d", "period_err_d": "d", "tp": "d", "tc": "d", "t0": "d", "tp_err_d": "d", "tc_err_d": "d",
     "t0_err_d": "d", "time_offset_d": "d",
     "omega_deg": "deg", "omega_err_deg": "deg", "inc_deg": "deg",
-    "e": "", "e_err": "", "b": "", "a_rstar": "", "rp_rstar": "", "priority": "",
+    "e": "", "e_err": "", "b": "", "a_rstar": "", "rp_rstar": "", "priority": "", "rv_phase_tol": "",
     "k_ms": "m / s", "gamma_ms": "m / s",
     "duration_h": "h", "visit_h": "h", "visit_gap_h": "h",
     "a_au": "AU", "mass1_msun": "solMass", "mass2_msun": "solMass",

@@ -19,6 +19,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import PeriplanError
+from ..scheduling.phase_requests import phase_text
 from ..sky.night import darkness_of
 from ..timescales import clock
 from . import chart_marks, target_style
@@ -258,7 +259,7 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, style
     ``target`` is one row of the catalogue table (needs ``tp_bjd_tdb``, ``period_d``, ``e``,
     ``omega_deg``; ``k_ms``/``gamma_ms`` optional: without K the curve is in units of K);
     ``blocks`` the schedule rows of this target. Phase is the mean-anomaly phase after periastron.
-    Each wanted orbital event is a dotted vertical line; each block a shaded span from its start
+    Each wanted orbital event is a dotted vertical line, each wanted phase (``rv_phases``) a dashed one; each block a shaded span from its start
     to its end phase (UTC converted to BJD_TDB in the target's direction), labelled with its night,
     with a dot on the curve at the block's middle. Lines: the curve + one per event + one per block.
     ``styles``: the plan's ``{name: TargetStyle}``; ``event_sigma_d``: ``{event: 1-sigma (days)}``
@@ -297,6 +298,11 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, style
         ax.annotate(chart_marks.event_words(name) + sig_text, (ph_events[i], 1.0), xycoords=("data", "axes fraction"),
                     xytext=(2, -4), textcoords="offset points", rotation=90, va="top", fontsize=7)
         chart_marks.draw_timing_bands(ax, [ph_events[i]], [sig_d / p], [PALETTE[1 + i % (len(PALETTE) - 1)]])
+    wanted_phases = target.get("rv_phases", ())
+    for ph in wanted_phases if isinstance(wanted_phases, tuple) else ():
+        ax.axvline(ph, color="#2a7f62", lw=1.0, ls="--", gid="wanted_phase")
+        ax.annotate(f"wanted phase {phase_text(ph)}", (ph, 0.0), xycoords=("data", "axes fraction"),
+                    xytext=(2, 4), textcoords="offset points", rotation=90, va="bottom", fontsize=7)
     if len(blocks):
         ra, dec = float(target["ra_deg"]), float(target["dec_deg"])
         s = to_bjd_tdb(blocks["start_jd_utc"].to_numpy(float), "JD_UTC", ra, dec)

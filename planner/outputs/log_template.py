@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from ..inputs.observation_log import LOG_COLUMNS
+from ..inputs.observation_log import LOG_COLUMNS, PURPOSES
 from ..timescales import clock
 from .atomic import atomic_write
 
@@ -18,8 +18,9 @@ from .atomic import atomic_write
 def log_template_frame(schedule: pd.DataFrame) -> pd.DataFrame:
     """The template rows of a schedule table (UTC Julian dates in, ISO strings out)."""
     events = schedule["event"].astype(str).to_numpy(object)
-    purpose = np.where(np.isin(events, ["visit"]) | (schedule["kind"].astype(str).to_numpy() != "fixed"),
-                       "visit", events)
+    # a monitor visit, a phase-coverage visit and a wanted orbital phase are logged as visits
+    purpose = np.where(~np.isin(events, PURPOSES) | np.isin(events, ["visit"])
+                       | (schedule["kind"].astype(str).to_numpy() != "fixed"), "visit", events)
     cycle = schedule["cycle"] if "cycle" in schedule else pd.Series([np.nan] * len(schedule))
     return pd.DataFrame({
         "target": schedule["target"].to_numpy(object),

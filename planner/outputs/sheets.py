@@ -23,6 +23,7 @@ import pandas as pd
 
 from ..sky.night import darkness_of
 from ..scheduling.blocks import MIN_PER_DAY
+from ..scheduling.phase_requests import phase_of_event, phase_text
 from ..scheduling.series_parts import parts_in_words
 from ..timescales import clock
 from . import explain
@@ -113,6 +114,10 @@ def action(block) -> str:
                                           n_slots=int(block.get("n_slots", 1)))
         if block["event"] == "visit":  # a phase-coverage visit: its bin, not an event
             text = f"one RV spectrum of about {minutes:.0f} min in orbital {label} (not yet observed)"
+        phase = phase_of_event(block["event"])
+        if np.isfinite(phase):  # a wanted phase: the phase, and the mean anomaly it means
+            text = (f"one RV spectrum of about {minutes:.0f} min at orbital phase {phase_text(phase)} "
+                    f"(mean anomaly {360.0 * phase:.4g} deg from periastron)")
     else:
         text = ACTIONS.get(str(block["event"]), "observe {label}").format(label=label)
     serves = str(block.get("serves", "") or "")

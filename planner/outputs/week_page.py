@@ -179,16 +179,24 @@ def target_html(plan, target_index: int, files) -> str:
     when = clock.jd_utc_to_local_iso(jd, tz) if len(ev) else []
     s0, s1 = sched["start_jd_utc"].to_numpy(float), sched["end_jd_utc"].to_numpy(float)
     s_event = sched["event"].astype(str).to_numpy()
+    period_d = float(t["period_d"]) if np.isfinite(t["period_d"]) else np.inf
+    s_serves = [str(x or "").split(";") for x in sched["serves"]] if "serves" in sched else [[x] for x in s_event]
+    s_event_jd = sched["event_jd_utc"].to_numpy(float) if "event_jd_utc" in sched else np.full(len(sched), np.nan)
     s_start = clock.jd_utc_to_local_iso(s0, tz) if len(sched) else []
     s_end = clock.jd_utc_to_local_iso(s1, tz) if len(sched) else []
     s_night = sched["night"].astype(str).to_numpy()
     rows = []
-    for night, event, label, w, sig_d, frac, w0, w1 in zip(ev["night"].astype(str), ev["event"].astype(str),
-                                                          ev["label"], when,
-                                                   ev["sigma_d"].to_numpy(float), ev["observable_fraction"],
-                                                   ev["window_start_jd_utc"].to_numpy(float),
-                                                   ev["window_end_jd_utc"].to_numpy(float)):
-        mine = np.flatnonzero((s_event == event) & (s0 <= w1) & (s1 >= w0))
+    for night, event, label, w, sig_d, frac, w0, w1, t in zip(ev["night"].astype(str), ev["event"].astype(str),
+                                                             ev["label"], when,
+                                                             ev["sigma_d"].to_numpy(float), ev["observable_fraction"],
+                                                             ev["window_start_jd_utc"].to_numpy(float),
+                                                             ev["window_end_jd_utc"].to_numpy(float), jd):
+        # the block of this event instance: its own (same event moment, wherever its request's
+        # window put it), or a merged block that serves it too, within half an orbit of it
+        own = (s_event == event) & (np.abs(s_event_jd - t) * MIN_PER_DAY < 1.0)
+        also = (np.array([event in names for names in s_serves], dtype=bool)
+                & (np.abs(0.5 * (s0 + s1) - t) < 0.5 * period_d))
+        mine = np.flatnonzero(own | also | ((s_event == event) & (s0 <= w1) & (s1 >= w0)))
         if mine.size:
             k = mine[0]
             block = f'<a href="night-{e(s_night[k])}.html">block {e(s_start[k][11:16])}-{e(s_end[k][11:16])}</a>'

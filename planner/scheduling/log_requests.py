@@ -16,6 +16,9 @@ after what was observed:
   exposure fills (:func:`phase_candidates`), each worth more the larger the empty run it sits in;
   the scheduler gives them the time the week's events and monitor visits leave, never theirs
   (:mod:`planner.scheduling.choose`).
+- a wanted orbital phase (``rv_phases``) whose window holds a logged ``visit`` of its target
+  (the middle of the visit, ``done`` or ``partial``) is served: its candidates drop out, a
+  merged candidate that serves it too included.
 
 An event instance is matched by target, event and cycle when the log gives the cycle, else by
 the instance whose predicted time is nearest the middle of the logged observation (within half a
@@ -29,6 +32,7 @@ import numpy as np
 import pandas as pd
 
 from ..orbits import coverage
+from .phase_requests import is_wanted_phase
 from .coverage import parts_covered, reference_epoch
 from .blocks import SCHEDULE_COLUMNS, instance_keys, altitudes, mean_airmass, sample_times
 from .requests import PLACEMENT_SAMPLES
@@ -100,6 +104,7 @@ def apply_log(cands: pd.DataFrame, monitors: pd.DataFrame, log: pd.DataFrame | N
         for event, n in (wanted or {}).items():
             if int(((done["target_index"] == ti) & (done["purpose"] == event)).sum()) >= n:
                 keep &= ~((cands["target_index"].to_numpy(int) == ti) & (cands["event"].to_numpy(object) == event))
+    keep &= ~_logged_phases(cands, log)
     out = cands.assign(score=score)[keep].reset_index(drop=True)
     if len(monitors):
         last = log[log["outcome"].isin(USED)].groupby("target_index")["start_jd_utc"].max()
@@ -107,6 +112,33 @@ def apply_log(cands: pd.DataFrame, monitors: pd.DataFrame, log: pd.DataFrame | N
         ok = ~(monitors["start_jd_utc"].to_numpy(float) < prev + monitors["gap_d"].to_numpy(float))
         monitors = monitors[ok]
     return out, monitors
+
+
+def _logged_phases(cands: pd.DataFrame, log: pd.DataFrame) -> np.ndarray:
+    """(n,) True for the candidates that serve a wanted phase already served by a logged visit.
+
+    A wanted phase's request is served when the middle of a logged ``visit`` (done or partial)
+    of its target lies inside its window (UTC Julian dates); every candidate of its group that
+    serves that phase (the merged ones too) is then out.
+    """
+    out = np.zeros(len(cands), bool)
+    visits = log[(log["purpose"] == "visit") & log["outcome"].isin(USED)]
+    main = is_wanted_phase(cands) if len(cands) else out
+    if not main.any() or visits.empty:
+        return out
+    mid = 0.5 * (visits["start_jd_utc"].to_numpy(float) + visits["end_jd_utc"].to_numpy(float))
+    v_ti = visits["target_index"].to_numpy(int)
+    ti = cands["target_index"].to_numpy(int)
+    w0, w1 = cands["window_start_jd_utc"].to_numpy(float), cands["window_end_jd_utc"].to_numpy(float)
+    hit = np.zeros(len(cands), bool)
+    for k in np.flatnonzero(main):
+        m = mid[v_ti == ti[k]]
+        hit[k] = bool(np.any((m >= w0[k]) & (m <= w1[k])))
+    group = cands["group"].astype(str).to_numpy(object)
+    served = set(zip(group[hit], cands["event"].astype(str).to_numpy(object)[hit]))
+    for k, (g, serves) in enumerate(zip(group, cands["serves"].astype(str))):
+        out[k] = hit[k] or any((g, name) in served for name in serves.split(";"))
+    return out
 
 
 def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals: pd.DataFrame, nights: pd.DataFrame,

@@ -16,6 +16,8 @@ rv_max, rv_min              (nothing)    rv_visit: ``visit_h`` (default 0.5 h) a
 periastron                  series       rv_sequence: ``rv_visits`` visits over the RV swing,
                             (mid-event)  at least ``rv_gap_h`` apart (one request per visit slot)
 apastron                    series       rv_visit in the 2 h around apastron
+wanted phase (``rv_phases``, either      rv_visit: ``visit_h`` anywhere in the window where the
+:mod:`.phase_requests`)                  mean-anomaly phase is within ``rv_phase_tol`` of it
 targets with ``visit_h``    monitor: one flexible visit a night (placed by the gap filler)
 ==========================  ===========  ==========================================================
 
@@ -39,7 +41,8 @@ the candidate serves), ``label``, ``night`` (label of the event's night), ``slot
 ``window_start_jd_utc``, ``window_end_jd_utc``  the whole window the request asks for: series
                          T1 - baseline - k sigma .. T4 + baseline + k sigma (or the visible
                          table's window when no contacts are known), rv_visit the RV phase
-                         window +- k sigma, rv_sequence slot its share of the swing
+                         window +- k sigma (a wanted phase: +- (rv_phase_tol x P + k sigma)),
+                         rv_sequence slot its share of the swing
 ``stretch_start_jd_utc``, ``stretch_end_jd_utc``  the observable stretch of the window
 ``start_jd_utc``, ``end_jd_utc``, ``length_d``  the proposed block
 ``t1_jd_utc`` .. ``t4_jd_utc``  contacts of a series (NaN when not known or not reached)
@@ -68,6 +71,7 @@ from ..orbits import contacts as orbit_contacts
 from ..sky.windows import DEFAULT_BASELINE_H, DEFAULT_EVENT_LENGTH_H, DEFAULT_K_SIGMA, window_stretches
 from . import series_parts
 from .blocks import MIN_PER_DAY
+from .phase_requests import PHASE_EVENT_PREFIX, is_wanted_phase
 from .request_merge import merge_requests
 from .score import score_components
 
@@ -120,6 +124,7 @@ def request_kinds(visible: pd.DataFrame, targets: pd.DataFrame) -> np.ndarray:
     kind[(ev == "apastron") & phot & ~rv] = SERIES
     kind[(ev == "periastron") & rv] = RV_SEQUENCE
     kind[(ev == "periastron") & phot & ~rv] = SERIES
+    kind[is_wanted_phase(visible)] = RV_VISIT  # asked for as RV points, whatever ``observe`` says
     return kind
 
 
@@ -156,7 +161,8 @@ def _rv_offsets_d(ti, ev, kind, targets):
     k-sigma widening; NaN for rows that are not RV requests. ``ti``, ``ev``, ``kind`` shape (n,).
 
     rv_max/rv_min: the phase window where v is within ``rv_fraction_k`` K of the extremum;
-    apastron: the 2 h around it; periastron (rv_sequence): the RV swing.
+    apastron: the 2 h around it; periastron (rv_sequence): the RV swing; a wanted phase: its
+    tolerance either side (``rv_phase_tol`` of the period).
     """
     n = ti.size
     lo, hi = np.full(n, np.nan), np.full(n, np.nan)
@@ -170,6 +176,10 @@ def _rv_offsets_d(ti, ev, kind, targets):
             lo[sel], hi[sel] = orbit_contacts.rv_window_offsets_d(p[sel], e[sel], w[sel], frac[sel], maximum=maximum)
     sel = (kind == RV_VISIT) & (ev == "apastron")
     lo[sel], hi[sel] = -DEFAULT_EVENT_LENGTH_H / 48.0, DEFAULT_EVENT_LENGTH_H / 48.0
+    sel = (kind == RV_VISIT) & np.char.startswith(ev.astype(str), PHASE_EVENT_PREFIX)
+    if sel.any():  # the times whose mean-anomaly phase is within the tolerance of the wanted one
+        half_d = _col(targets, "rv_phase_tol", np.nan).astype(float)[ti[sel]] * p[sel]
+        lo[sel], hi[sel] = -half_d, half_d
     sel = kind == RV_SEQUENCE
     if sel.any():  # one swing per target
         uniq, inv = np.unique(ti[sel], return_inverse=True)
