@@ -30,6 +30,7 @@ from planner.scheduling.solver import choose_options
 from planner.sky.limits import REASONS as LIMIT_REASONS
 from test_schedule import altitude, availability_rows  # the same invented sky as the scheduler tests
 from test_solver import random_options
+from site_files import TEST_RIDGE
 
 #: Totals are sums of at most ~30 scores of order 100: equal to 1e-6 unless a different set is chosen.
 TOTAL_TOL = 1e-6
@@ -299,15 +300,7 @@ def test_week_rules_leave_no_fitting_candidate_out_and_keep_the_every_night_valu
 
 # --- (d) every request of the week is served or explained ------------------------------------------
 
-SITE = """name = "Test Ridge (invented)"
-latitude_deg = 37.62
-longitude_deg = -3.12
-elevation_m = 1500
-timezone = "Europe/Madrid"
-min_altitude_deg = 30
-darkness = "astronomical"
-moon_min_separation_deg = 0
-"""
+SITE = TEST_RIDGE
 HEADER = "name,ra,dec,period_d,e,omega_deg,tc,tc_err_d,time_system,k_ms,priority,events,duration_h"
 #: one UTC minute: how losses and the schedule name one event instance
 MINUTE_D = 1.0 / 1440.0

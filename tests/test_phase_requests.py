@@ -30,6 +30,7 @@ from planner.orbits.events import predict_events
 from planner.outputs import sheets
 from planner.outputs.log_template import log_template_frame
 from planner.scheduling.phase_requests import phase_event_name, wanted_phase_events
+from site_files import TEST_RIDGE
 
 P, TC, E, W_DEG = 5.6334729, 2454387.49375, 0.5171, 185.22
 RA, DEC = 245.15, 41.05
@@ -42,15 +43,7 @@ GRID_STEP_D = 5e-5
 #: Block edges are compared in UTC after astropy's light time: 1 s covers the planner's
 #: interpolated light time and the bisection of interval edges (0.05 s).
 EDGE_TOL_D = 1.0 / 86400.0
-SITE = """name = "Test Ridge (invented)"
-latitude_deg = 37.62
-longitude_deg = -3.12
-elevation_m = 1500
-timezone = "Europe/Madrid"
-min_altitude_deg = 30
-darkness = "astronomical"
-moon_min_separation_deg = 0
-"""
+SITE = TEST_RIDGE
 #: A night of late May 2027, when HAT-P-2 culminates near midnight at the test site.
 NIGHT = dt.date(2027, 5, 24)
 

@@ -299,18 +299,9 @@ def _lagrangian_bound(value, rows, upper, telescope, start, end_padded, kept, ti
     of 5,000 options (0.3 s against 7 s). None when that LP is not solved.
     """
     keep = np.flatnonzero(kept)
-    local = np.full(value.size, -1)
-    local[keep] = np.arange(keep.size)
-    sub_rows, sub_upper, row_of = [], [], []
-    for k, (r, u) in enumerate(zip(rows, upper)):
-        mine = local[np.asarray(r, int)]
-        if np.any(mine >= 0):
-            sub_rows.append(mine[mine >= 0])
-            sub_upper.append(u)
-            row_of.append(k)
     if keep.size == 0:
         return None
-    sub = _Programme.build(value[keep], sub_rows, sub_upper, telescope[keep], start[keep], end_padded[keep])
+    sub, row_of = _cut(value, rows, upper, keep, telescope, start, end_padded)
     prices = _lp_prices(sub, time_limit_s)
     if prices is None:
         return None
@@ -527,16 +518,23 @@ def _restricted(value, rows, upper, keep, telescope, start, end_padded, time_lim
     """:func:`_branch_and_bound` on the options ``keep`` only (the rows cut down to them)."""
     if keep.size == 0:
         return np.zeros(0, bool), SolveReport("optimal", 0.0, 0.0, 0.0, 0.0, 0, 0)
+    sub, _ = _cut(value, rows, upper, keep, telescope, start, end_padded)
+    return _branch_and_bound(sub, telescope[keep], start[keep], end_padded[keep], time_limit_s, rel_gap, None)
+
+
+def _cut(value, rows, upper, keep, telescope, start, end_padded):
+    """(programme, row_of): the programme of the options ``keep`` alone, its rows cut down to them
+    (rows holding none dropped), and the index in ``rows`` of each row kept."""
     local = np.full(value.size, -1)
     local[keep] = np.arange(keep.size)
-    sub_rows, sub_upper = [], []
-    for r, u in zip(rows, upper):
+    sub_rows, sub_upper, row_of = [], [], []
+    for k, (r, u) in enumerate(zip(rows, upper)):
         mine = local[np.asarray(r, int)]
         if np.any(mine >= 0):
             sub_rows.append(mine[mine >= 0])
             sub_upper.append(u)
-    sub = _Programme.build(value[keep], sub_rows, sub_upper, telescope[keep], start[keep], end_padded[keep])
-    return _branch_and_bound(sub, telescope[keep], start[keep], end_padded[keep], time_limit_s, rel_gap, None)
+            row_of.append(k)
+    return _Programme.build(value[keep], sub_rows, sub_upper, telescope[keep], start[keep], end_padded[keep]), row_of
 
 
 def _branch_and_bound(prog, telescope, start, end_padded, time_limit_s, rel_gap, relaxed_bound):
