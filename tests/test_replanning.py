@@ -219,5 +219,5 @@ def test_free_starts_keep_the_overhead_from_every_busy_block():
     # free when x + 1 + 0.5 <= 3 (x <= 1.5), or 4 + 0.5 <= x and x + 1.5 <= 6 (x = 4.5 only),
     # or x >= 6.5 + 0.5 (the solver's rule: end + overhead <= next start)
     runs = free_starts(0.0, 10.0, 1.0, np.array([6.0, 3.0]), np.array([6.5, 4.0]), 0.5)
-    assert runs == pytest.approx([(0.0, 1.5), (4.5, 4.5), (7.0, 10.0)])
+    assert np.ravel(runs) == pytest.approx([0.0, 1.5, 4.5, 4.5, 7.0, 10.0])  # (lo, hi) pairs
     assert free_starts(0.0, 10.0, 1.0, np.array([-5.0]), np.array([20.0]), 0.5) == []
