@@ -56,7 +56,7 @@ def check_shape_alternatives(cells: Cells, e_given, omega_given):
         for key, col in (("x_err", f"{a}_err"), ("y_err", f"{b}_err")):
             out[key] = np.where(use, cells.numeric(col, default=0.0, nonnegative=True), out[key])
     x, y = out["x"], out["y"]
-    companion = np.char.lower(cells.text("omega_of").astype(str)) == "companion"
+    companion = cells.lookup("omega_of", lambda v: v == "companion", transform=str.lower, dtype=bool)
     x, y = np.where(companion, -x, x), np.where(companion, -y, y)
     r2 = x * x + y * y
     e = np.where(kind == "ecosw", np.sqrt(r2), np.where(kind == "secosw", r2, np.nan))
@@ -78,7 +78,7 @@ def check_apsidal(cells: Cells, period_d, linear, e):
     (default: the mean interval between primary minima) or the ``anomalistic`` period.
     """
     rows = cells.rows
-    if "omega_dot" in cells.frame:
+    if cells.has("omega_dot"):
         cells.err(1, "omega_dot", "omega_dot has no unit; name the column omega_dot_deg_cycle "
                   "(degrees per period) or omega_dot_deg_yr (degrees per Julian year)")
     per_cycle = cells.numeric("omega_dot_deg_cycle")
@@ -93,9 +93,9 @@ def check_apsidal(cells: Cells, period_d, linear, e):
     col = np.where(cells.given("omega_dot_deg_cycle"), "omega_dot_deg_cycle", "omega_dot_deg_yr")
     for row, c in zip(rows[given & (linear | (e == 0))], col[given & (linear | (e == 0))]):
         cells.err(row, str(c), "apsidal motion needs an eccentric orbit (e > 0 with omega_deg, or ecosw/esinw)")
-    kind = np.char.lower(cells.text("period_kind").astype(str))
-    kind = np.where(kind == "", "sidereal", kind)
-    bad = ~np.isin(kind, ["sidereal", "anomalistic"])
+    kind = cells.lookup("period_kind", lambda v: v or "sidereal", transform=str.lower, dtype=str)
+    bad = cells.lookup("period_kind", lambda v: (v or "sidereal") not in ("sidereal", "anomalistic"),
+                       transform=str.lower, dtype=bool)
     for row, v in zip(rows[bad], kind[bad]):
         cells.err(row, "period_kind", f"{str(v)!r} is not allowed; expected 'sidereal' or 'anomalistic'", v)
     rate = np.where(given & ~linear, rate, 0.0)
@@ -140,10 +140,10 @@ def check_second_epoch(cells: Cells, epoch_kind, epoch_err, linear, ra_deg, dec_
                       np.where(kind2 == "tsec", _full_epoch(cells, "tsec", ra_deg, dec_deg, system), np.nan))
     err2 = np.where(both, cells.numeric("tp_err_d", default=0.0, nonnegative=True),
                     cells.numeric("tsec_err_d", default=0.0, nonnegative=True))
-    for row, k, e1, e2, kind1 in zip(rows, kind2, epoch_err, err2, epoch_kind):
-        if k and not (e1 > 0 and e2 > 0):
-            cells.err(row, f"{k}_err_d" if not e2 > 0 else f"{kind1}_err_d",
-                      "two epochs need both 1-sigma errors (they are checked against each other and combined)")
+    unsure = (kind2 != "") & ~((epoch_err > 0) & (err2 > 0))
+    for row, k, e2, kind1 in zip(rows[unsure], kind2[unsure], err2[unsure], epoch_kind[unsure]):
+        cells.err(row, f"{k}_err_d" if not e2 > 0 else f"{kind1}_err_d",
+                  "two epochs need both 1-sigma errors (they are checked against each other and combined)")
     return kind2.astype(str), np.where(kind2 != "", epoch2, np.nan), np.where(kind2 != "", err2, 0.0)
 
 
