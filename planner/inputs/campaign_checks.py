@@ -19,7 +19,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..orbits.geometry import ALL_EVENTS, canonical_event
-from .catalogue_checks import Cells
+from .catalogue_checks import Cells, Coded
 
 WEEK_RULE_WORDS = ("every", "best", "first")
 CAMPAIGN_COLUMNS = ("week_rule", "phase_bins", "sites", "campaign_events")
@@ -27,7 +27,8 @@ CAMPAIGN_COLUMNS = ("week_rule", "phase_bins", "sites", "campaign_events")
 
 def check_campaign(cells: Cells) -> dict:
     """Engine columns ``week_rule`` (text, "" = default), ``phase_bins`` (0 = none), ``sites``
-    (default 1) and ``campaign_events`` (a dict event -> count per target)."""
+    (default 1) and ``campaign_events`` (a dict event -> count per target; rows whose cells read
+    the same share one dict, to be read, not changed)."""
     rows = cells.rows
     codes, texts = cells.codes("week_rule")
     words = [t.strip().lower() for t in texts]
@@ -35,7 +36,7 @@ def check_campaign(cells: Cells) -> dict:
     bad = ~np.array(known, dtype=bool)[codes]
     for row, code in zip(rows[bad], codes[bad]):
         cells.err(row, "week_rule", f"{texts[code]!r} is not a week rule; expected every, best or first", texts[code])
-    rules = np.array([w if ok else "" for w, ok in zip(words, known)], dtype=object)[codes]
+    rules = Coded(codes, [w if ok else "" for w, ok in zip(words, known)])
     bins = cells.numeric("phase_bins", default=0.0)
     bad = ~((bins == 0) | ((bins >= 2) & (np.mod(bins, 1.0) == 0)))
     for row, v in zip(rows[bad], cells.text_at("phase_bins", bad)):
@@ -51,12 +52,13 @@ def check_campaign(cells: Cells) -> dict:
         for item in parsed[code][1]:
             cells.err(row, "campaign_events", f"{item!r} is not event:count; expected e.g. "
                       "primary_conjunction:4 or transit:3;periastron:1", texts[code])
-    # one dict per row, as each row may change its own
-    wanted = [dict(parsed[c][0]) for c in codes.tolist()] if any(p[0] for p in parsed) else [{} for _ in range(cells.n)]
+    counts = np.empty(len(parsed), dtype=object)
+    for i, p in enumerate(parsed):
+        counts[i] = p[0]
     return {"week_rule": rules,
             "phase_bins": np.where(bad, 0, bins).astype(np.int64),
             "sites": np.where(bad_sites, 1, sites).astype(np.int64),
-            "campaign_events": np.asarray(wanted + [None], dtype=object)[:-1]}
+            "campaign_events": counts[codes]}
 
 
 def _campaign_counts(text):

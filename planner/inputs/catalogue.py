@@ -108,6 +108,8 @@ NUMERIC_COLUMNS = (
 TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes", "observe",
                 "full_coverage", "week_rule", "campaign_events") + binary_checks.TEXT_COLUMNS
 KNOWN_COLUMNS = TEXT_COLUMNS + NUMERIC_COLUMNS
+#: Columns a CSV reader may read as numbers (coordinates are numbers unless sexagesimal).
+NUMBER_COLUMNS = frozenset(NUMERIC_COLUMNS + ("ra", "dec"))
 
 OUTPUT_COLUMNS = (
     "name", "ra_deg", "dec_deg", "ephemeris", "period_d", "period_err_d", "e", "e_err",
@@ -155,7 +157,7 @@ def parse_catalogue(data, source: str = "<catalogue>") -> pd.DataFrame:
     """
     if isinstance(data, bytes):
         data = utf8_bytes(data, source, "a CSV catalogue with a header row")
-    records = read_records(data, source)
+    records = read_records(data, source, numeric=lambda h: h.strip().lower() in NUMBER_COLUMNS)
     errors: list[InputError] = []
     width = len(records.header)
     sep = {",": "comma", ";": "semicolon", "\t": "tab"}[records.delimiter]
@@ -191,7 +193,7 @@ def load_columns(header, values, rows, source, header_row=None, units=None, erro
             v, notes[eng] = to_engine_unit(v, unit, eng, h, source, errors)
         frame_cols[eng] = v
         names[eng] = h
-    result = _validate(checks.Cells(frame_cols, rows, source, errors, names=names,
+    result, n_events = _validate(checks.Cells(frame_cols, rows, source, errors, names=names,
                                     notes={k: v for k, v in notes.items() if v}))
     if errors:
         order = {h: i for i, h in enumerate(header)}
@@ -199,7 +201,7 @@ def load_columns(header, values, rows, source, header_row=None, units=None, erro
         raise InputErrors(errors)
     for h, v in extras.items():
         result[h] = _extra_column(v)
-    none = [int(r) for r, evs in zip(rows, result["events"]) if not evs]
+    none = [int(r) for r in np.asarray(rows)[n_events == 0]]
     if none:
         shown = ", ".join(map(str, none[:5])) + (f" and {len(none) - 5} more" if len(none) > 5 else "")
         warnings.warn(f"{source}: row{'s' if len(none) > 1 else ''} {shown}: no event to predict (a circular "
@@ -213,15 +215,21 @@ def _extra_column(values):
     if isinstance(values, np.ndarray) and values.dtype.kind == "f":
         return values
     cells = checks.Cells({"x": values}, np.arange(len(values)), "", [])
-    given = cells.given("x")
-    numbers = cells._numbers("x")
-    if given.any() and not np.isnan(numbers[given]).any():
-        return numbers
-    return _str_column(cells.strings("x"))
+    numbers = checks.all_numbers(cells.strings("x"))
+    return numbers if numbers is not None else _str_column(cells.strings("x"))
+
+
+#: Engine columns of text (the default pandas text dtype on the target table).
+TEXT_OUTPUT_COLUMNS = ("name", "ephemeris", "epoch_kind", "time_system", "label", "observe", "week_rule",
+                       "shape_kind", "period_kind", "epoch2_kind")
 
 
 def _str_column(strings):
-    """A pandas column of the default text dtype from a pyarrow string array."""
+    """A pandas column of the default text dtype from text: pyarrow, :class:`Coded` or an array of str."""
+    if isinstance(strings, checks.Coded):
+        strings = strings.strings()
+    elif not isinstance(strings, pa.Array):
+        strings = pa.array(np.asarray(strings, dtype=object), type=pa.large_string())
     return pd.array(strings.cast(pa.large_string()), dtype="str")
 
 
@@ -311,8 +319,8 @@ def _check_header(header, source, header_row=1, has_unit=None):
     return engine
 
 
-def _validate(cells: checks.Cells) -> pd.DataFrame:
-    """The target table (:data:`OUTPUT_COLUMNS`) from the raw cells, one validator per concern."""
+def _validate(cells: checks.Cells):
+    """(target table (:data:`OUTPUT_COLUMNS`), events per row) from the raw cells, one validator per concern."""
     names = checks.check_names(cells)
     ra, dec = checks.check_coordinates(cells)
     period, period_err = checks.check_period(cells)
@@ -329,7 +337,7 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
     observing = checks.check_observing(cells)
     duration, a_rstar, inc, rp = checks.check_geometry(cells, e, omega)
     eclipse = np.isfinite(duration) | (np.isfinite(a_rstar) & np.isfinite(inc) & np.isfinite(rp))
-    events, labels = checks.check_events(cells, linear, e, rv=np.isfinite(observing["k_ms"]) & (observing["k_ms"] > 0),
+    events, labels, n_events = checks.check_events(cells, linear, e, rv=np.isfinite(observing["k_ms"]) & (observing["k_ms"] > 0),
                                          eclipse=eclipse)
     requests = checks.check_requests(cells, linear, duration, a_rstar, observing["k_ms"])
     campaign = check_campaign(cells)
@@ -343,26 +351,28 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
     tp[linear] = np.nan
 
     binary = {
-        "shape_kind": shape[0].astype(str), "shape_x": shape[1], "shape_y": shape[2], "shape_x_err": shape[3],
+        "shape_kind": shape[0], "shape_x": shape[1], "shape_y": shape[2], "shape_x_err": shape[3],
         "shape_y_err": shape[4], "omega_dot_deg_d": omega_dot, "omega_dot_err_deg_d": omega_dot_err,
         "period_kind": period_kind, "epoch2_kind": kind2, "epoch2_bjd_tdb": epoch2, "epoch2_err_d": epoch2_err,
         "epoch_tension_sigma": np.full(len(names), np.nan),
         **dict(zip(("p3_d", "t3_bjd_tdb", "e3", "omega3_deg", "ltte_amp_d"), third)),
     }
-    table = pd.DataFrame({
-        "name": _str_column(names), "ra_deg": ra, "dec_deg": dec,
-        "ephemeris": np.where(linear, "linear", "orbit"),
+    columns = {
+        "name": names, "ra_deg": ra, "dec_deg": dec,
+        "ephemeris": checks.Coded.choose(("orbit", "linear"), linear),
         "period_d": period, "period_err_d": period_err,
         "e": np.where(linear, np.nan, e), "e_err": e_err,
         "omega_deg": np.where(linear, np.nan, omega), "omega_err_deg": omega_err,
-        "epoch_kind": epoch_kind.astype(str), "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
+        "epoch_kind": epoch_kind, "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
         "tp_bjd_tdb": tp, "time_system": system, "events": events, "duration_h": duration,
         "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing, **binary,
         "events_given": cells.given("events"), **requests, **campaign,
-    }, columns=list(OUTPUT_COLUMNS))
+    }
+    table = pd.DataFrame({c: _str_column(columns[c]) if c in TEXT_OUTPUT_COLUMNS else columns[c]
+                          for c in OUTPUT_COLUMNS})
     if (kind2 != "").any() and not cells.errors:
         from ..orbits.binary_events import epoch_tension_sigma
 
         table["epoch_tension_sigma"] = epoch_tension_sigma(table)
         binary_checks.check_epoch_agreement(cells, table["epoch_tension_sigma"].to_numpy(float), kind2)
-    return table
+    return table, n_events

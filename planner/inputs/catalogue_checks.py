@@ -23,6 +23,7 @@ from ..errors import InputError
 from ..orbits.geometry import (EVENT_WORDS, ORBIT_EVENTS, PERIODIC_EVENT, PERIODIC_KINDS, canonical_event,
                                periodic_kind)
 from ..timescales import epochs
+from .csv_records import NumberCells
 
 EPOCH_COLUMNS = ("tp", "tc", "t0")
 #: Smallest full Julian date accepted as an epoch (JD 2000000 is 763 AD); anything below it is
@@ -79,25 +80,20 @@ class Cells:
                                       column=self.names.get(column, column), value=value))
 
     def _is_float(self, column) -> bool:
-        return isinstance(self.columns.get(column), np.ndarray)
+        return isinstance(self.columns.get(column), (np.ndarray, NumberCells))
 
     def strings(self, column):
         """The column's cells as a pyarrow string array (floats as their shortest text, ``""`` for NaN)."""
         if column not in self.columns:
             return pa.array(np.full(self.n, "", dtype=object), type=pa.string())
         values = self.columns[column]
-        if isinstance(values, np.ndarray):
+        if isinstance(values, (np.ndarray, NumberCells)):
             return pa.array(self.text(column), type=pa.string())
         return values
 
     def text(self, column) -> np.ndarray:
         """The column's text cells as str objects (``""`` for every row when the column is absent)."""
-        if column not in self.columns:
-            return np.full(self.n, "", dtype=object)
-        values = self.columns[column]
-        if isinstance(values, np.ndarray):
-            return np.array(["" if np.isnan(v) else _float_text(v) for v in values], dtype=object)
-        return values.to_numpy(zero_copy_only=False)
+        return self.text_at(column, np.arange(self.n))
 
     def text_at(self, column, where) -> np.ndarray:
         """The text of the cells at ``where`` (a boolean mask or indices) as str objects."""
@@ -105,6 +101,8 @@ class Cells:
         if column not in self.columns:
             return np.full(len(where), "", dtype=object)
         values = self.columns[column]
+        if isinstance(values, NumberCells):
+            return np.array(values.text(where) + [None], dtype=object)[:-1]
         if isinstance(values, np.ndarray):
             return np.array(["" if np.isnan(v) else _float_text(v) for v in values[where]], dtype=object)
         return np.array(values.take(pa.array(where)).to_pylist() + [None], dtype=object)[:-1]
@@ -116,10 +114,12 @@ class Cells:
         key = ("given", column)
         if key not in self._cache:
             values = self.columns[column]
-            if isinstance(values, np.ndarray):
+            if isinstance(values, NumberCells):
+                self._cache[key] = values.given
+            elif isinstance(values, np.ndarray):
                 self._cache[key] = ~np.isnan(values)
             else:
-                self._cache[key] = pc.greater(pc.binary_length(values), 0).to_numpy(zero_copy_only=False)
+                self._cache[key] = _nonempty(values)
         return self._cache[key]
 
     def codes(self, column, transform=None):
@@ -137,7 +137,7 @@ class Cells:
             codes, uniques = pd.factorize(self.columns[column], use_na_sentinel=False)
             values = ["" if np.isnan(v) else _float_text(v) for v in uniques]
         else:
-            encoded = pc.dictionary_encode(self.columns[column])
+            encoded = pc.dictionary_encode(self.strings(column))
             codes, values = encoded.indices.to_numpy().astype(np.int64), encoded.dictionary.to_pylist()
         if transform is not None:
             values = [transform(v) for v in values]
@@ -150,6 +150,11 @@ class Cells:
         self._cache[key] = (codes, values)
         return codes, values
 
+    def coded(self, column, function, transform=None) -> Coded:
+        """``function`` of each cell's text (after ``transform``) as :class:`Coded` text."""
+        codes, values = self.codes(column, transform)
+        return Coded(codes, [function(v) for v in values])
+
     def lookup(self, column, function, transform=None, dtype=None) -> np.ndarray:
         """``function`` of each cell's text (after ``transform``), evaluated once per distinct text."""
         codes, values = self.codes(column, transform)
@@ -160,6 +165,8 @@ class Cells:
         key = ("numbers", column)
         if key not in self._cache:
             values = self.columns[column]
+            if isinstance(values, NumberCells):
+                values = values.values
             self._cache[key] = values if isinstance(values, np.ndarray) else _text_to_float(values)
         return self._cache[key]
 
@@ -186,8 +193,52 @@ class Cells:
         return np.where(np.isnan(values), default, values) if not np.isnan(default) else values
 
 
+class Coded:
+    """Text per row as an index into its few distinct values (a column the loader computes).
+
+    Compares with a str (``kind == "tc"`` gives a boolean array), selects with a mask or indices
+    (an array of str), and becomes a table column without a Python string per row.
+    """
+
+    def __init__(self, codes, values):
+        values = list(values)
+        index = {}
+        remap = np.array([index.setdefault(v, len(index)) for v in values] or [0], dtype=np.int64)
+        self.codes = remap[np.asarray(codes, dtype=np.int64)]
+        self.values = tuple(index) or ("",)
+
+    @classmethod
+    def choose(cls, values, index):
+        """Row i gets ``values[index[i]]``."""
+        return cls(index, values)
+
+    def __len__(self):
+        return len(self.codes)
+
+    def __eq__(self, text):
+        return self.codes == self.values.index(text) if text in self.values else np.zeros(len(self.codes), bool)
+
+    def __ne__(self, text):
+        return ~(self == text)
+
+    def isin(self, texts) -> np.ndarray:
+        return np.isin(self.codes, [i for i, v in enumerate(self.values) if v in texts])
+
+    def __getitem__(self, where):
+        return np.array(self.values, dtype=object)[self.codes[where]]
+
+    def array(self) -> np.ndarray:
+        return self[slice(None)]
+
+    def strings(self):
+        """The column as a pyarrow large_string array."""
+        return pc.take(pa.array(self.values, type=pa.large_string()), pa.array(self.codes))
+
+
 def _as_cells(values):
     """A column as :class:`Cells` keeps it: float numpy arrays as they are, text as a pyarrow string array."""
+    if isinstance(values, NumberCells):
+        return values
     if isinstance(values, (pa.Array, pa.ChunkedArray)):
         values = values.combine_chunks() if isinstance(values, pa.ChunkedArray) else values
         return values if values.type == pa.string() else values.cast(pa.string())
@@ -197,6 +248,46 @@ def _as_cells(values):
     return pa.array(values.astype(object), type=pa.string())
 
 
+def _nonempty(strings) -> np.ndarray:
+    """True for the text cells that are not empty."""
+    return pc.greater(pc.binary_length(strings), 0).to_numpy(zero_copy_only=False)
+
+
+def _without(strings, keep: np.ndarray):
+    """The text cells with the ones not in ``keep`` made null (no copy of the text)."""
+    if strings.null_count:
+        keep = keep & strings.is_valid().to_numpy(zero_copy_only=False)
+    bitmap = pa.py_buffer(np.packbits(keep, bitorder="little"))
+    return pa.Array.from_buffers(strings.type, len(strings), [bitmap] + strings.buffers()[1:],
+                                 offset=0) if strings.offset == 0 else pc.if_else(
+        pa.array(keep), strings, pa.scalar(None, strings.type))
+
+
+def all_numbers(strings):
+    """Floats (NaN for empty cells) of text cells that are all numbers or empty, at least one a
+    number; else None. The same reading as :func:`_text_to_float`, stopping at the first cell
+    that is not a number (a column of words is seen as such at its first word)."""
+    given = _nonempty(strings)
+    if not given.any():
+        return None
+    cells = _without(strings, given)
+    try:
+        out = pc.cast(cells, pa.float64()).to_numpy(zero_copy_only=False, writable=True)
+        return None if np.isnan(out[given]).any() else out
+    except pa.ArrowInvalid:
+        pass
+    decimal = pc.match_substring_regex(cells, _DECIMAL).fill_null(False).to_numpy(zero_copy_only=False)
+    other = np.flatnonzero(~decimal & given)
+    start, size = 0, 1
+    while start < len(other):  # batches of 1, 2, 4, ... cells: a column of words stops at its first
+        text = pd.Series(strings.take(pa.array(other[start:start + size])).to_pylist(), dtype=object)
+        if pd.to_numeric(text, errors="coerce").isna().any():
+            return None
+        start, size = start + size, 2 * size
+    out = _text_to_float(strings)
+    return None if np.isnan(out[given]).any() else out
+
+
 def _text_to_float(strings) -> np.ndarray:
     """Floats of text cells: NaN for empty cells and for text that is not a number (inf/nan as read).
 
@@ -204,19 +295,18 @@ def _text_to_float(strings) -> np.ndarray:
     ``float`` does; any other non-empty cell (``inf``, ``1_000``, words) goes to
     :func:`pandas.to_numeric` (NaN when it is not a number).
     """
-    empty = pc.equal(pc.binary_length(strings), 0)
-    cells = pc.if_else(empty, pa.scalar(None, pa.string()), strings)
+    given = _nonempty(strings)
+    cells = _without(strings, given)
     try:
-        return pc.cast(cells, pa.float64()).to_numpy(zero_copy_only=False)
+        return pc.cast(cells, pa.float64()).to_numpy(zero_copy_only=False, writable=True)
     except pa.ArrowInvalid:
         pass
-    decimal = pc.match_substring_regex(cells, _DECIMAL).fill_null(False)
+    decimal = pc.match_substring_regex(cells, _DECIMAL).fill_null(False).to_numpy(zero_copy_only=False)
     try:
-        out = pc.cast(pc.if_else(decimal, cells, pa.scalar(None, pa.string())),
-                      pa.float64()).to_numpy(zero_copy_only=False)
+        out = pc.cast(_without(strings, decimal), pa.float64()).to_numpy(zero_copy_only=False, writable=True)
     except pa.ArrowInvalid:  # a form the cast refuses after all: every cell one by one
-        out, decimal = np.full(len(strings), np.nan), pa.array(np.zeros(len(strings), bool))
-    other = np.flatnonzero(~decimal.to_numpy(zero_copy_only=False) & ~empty.to_numpy(zero_copy_only=False))
+        out, decimal = np.full(len(strings), np.nan), np.zeros(len(strings), bool)
+    other = np.flatnonzero(~decimal & given)
     if len(other):
         text = pd.Series(strings.take(pa.array(other)).to_pylist(), dtype=object)
         out[other] = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
@@ -282,10 +372,15 @@ def _plain_angles(strings, hours: bool):
     reads them; ``ok`` is False where a cell needs parse_angle itself (its other forms, its errors).
     ``hours``: a sexagesimal right ascension (hours, no sign, below 24)."""
     n = len(strings)
+    try:  # a column of decimal degrees (what the cast reads, Python's float reads the same)
+        out = pc.cast(strings, pa.float64()).to_numpy(zero_copy_only=False, writable=True)
+        return out, np.isfinite(out)
+    except pa.ArrowInvalid:
+        pass
     decimal = pc.match_substring_regex(strings, _DECIMAL).to_numpy(zero_copy_only=False)
     out = np.full(n, np.nan)
     if decimal.any():
-        out[decimal] = pc.cast(strings.filter(pa.array(decimal)), pa.float64()).to_numpy(zero_copy_only=False)
+        out[decimal] = pc.cast(strings.filter(pa.array(decimal)), pa.float64()).to_numpy(zero_copy_only=False, writable=True)
     ok = decimal & np.isfinite(out)
     rest = np.flatnonzero(~decimal)
     if len(rest):
@@ -294,10 +389,10 @@ def _plain_angles(strings, hours: bool):
         if matched.any():
             parts = parts.filter(pa.array(matched))
             sign = parts.field("sign").to_numpy(zero_copy_only=False)
-            a = pc.cast(parts.field("a"), pa.float64()).to_numpy(zero_copy_only=False)
-            b = pc.cast(parts.field("b"), pa.float64()).to_numpy(zero_copy_only=False)
+            a = pc.cast(parts.field("a"), pa.float64()).to_numpy(zero_copy_only=False, writable=True)
+            b = pc.cast(parts.field("b"), pa.float64()).to_numpy(zero_copy_only=False, writable=True)
             c_text = parts.field("c")
-            c = pc.cast(pc.if_else(pc.equal(c_text, ""), "0", c_text), pa.float64()).to_numpy(zero_copy_only=False)
+            c = pc.cast(pc.if_else(pc.equal(c_text, ""), "0", c_text), pa.float64()).to_numpy(zero_copy_only=False, writable=True)
             value = a + b / 60.0 + c / 3600.0
             good = (b < 60) & (c < 60)
             if hours:
@@ -314,7 +409,7 @@ def _plain_angles(strings, hours: bool):
 def _angles(cells: Cells, column: str, is_ra: bool, expected: str) -> np.ndarray:
     what = "right ascension" if is_ra else "declination"
     if cells._is_float(column):
-        out = cells.columns[column].copy()
+        out = cells._numbers(column).copy()
         ok = np.isfinite(out)
     elif cells.has(column):
         out, ok = _plain_angles(cells.columns[column], hours=is_ra)
@@ -408,15 +503,16 @@ def check_epoch(cells: Cells, linear: np.ndarray):
     rows, n = cells.rows, cells.n
     present = {c: cells.given(c) for c in EPOCH_COLUMNS}
     count = sum(present.values())
-    epoch_kind = np.full(n, "", dtype=object)
-    for c in EPOCH_COLUMNS:
-        epoch_kind[present[c]] = c
+    kind = np.zeros(n, np.int64)  # index into ("",) + EPOCH_COLUMNS
+    for i, c in enumerate(EPOCH_COLUMNS):
+        kind[present[c]] = i + 1
     for row in rows[count == 0]:
         cells.err(row, "tp" if cells.has("tp") else ("tc" if cells.has("tc") else "t0"),
                   "missing epoch; give tp (periastron), tc (primary conjunction) or t0 (linear ephemeris)")
     # tp with tc is a row with two epochs: tc is kept here, tp goes to binary_checks.check_second_epoch
     two = present["tp"] & present["tc"] & ~present["t0"] & ~linear
-    epoch_kind[two] = "tc"
+    kind[two] = 1 + EPOCH_COLUMNS.index("tc")
+    epoch_kind = Coded.choose(("",) + EPOCH_COLUMNS, kind)
     for row in rows[(count > 1) & ~two]:
         cells.err(row, "tc", "more than one epoch given (tp, tc, t0); give exactly one, or tc with tp")
     for row in rows[present["t0"] & ~linear]:
@@ -451,7 +547,7 @@ def check_time_system(cells: Cells, full_jd, ra_deg, dec_deg):
     Converted in each target's direction by :func:`planner.timescales.epochs.to_bjd_tdb`; NaN
     where the epoch, the coordinates or the system is bad.
     """
-    system = cells.lookup("time_system", lambda v: v or "BJD_TDB", transform=str.upper, dtype=str)
+    system = cells.coded("time_system", lambda v: v or "BJD_TDB", transform=str.upper)
     bad = cells.lookup("time_system", lambda v: (v or "BJD_TDB") not in epochs.TIME_SYSTEMS, transform=str.upper,
                        dtype=bool)
     for row, v in zip(cells.rows[bad], system[bad]):
@@ -524,7 +620,8 @@ def default_events(linear, e, rv, eclipse) -> tuple:
 
 
 def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
-    """(events, labels): each row's tuple of wanted event names and the label of its event.
+    """(events, labels, counts): each row's tuple of wanted event names, the label of its event,
+    and how many events the tuple holds.
 
     Words of the ``events`` column may be the usual aliases (``transit``, ``primary_eclipse``,
     ``occultation``, ``secondary_eclipse``; :data:`planner.orbits.geometry.EVENT_ALIASES`); a
@@ -586,7 +683,9 @@ def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
     table = np.empty(len(choices), dtype=object)
     for i, choice in enumerate(choices):
         table[i] = choice
-    events = table[np.where(given, codes, len(parsed) + default_key)]
+    index = np.where(given, codes, len(parsed) + default_key)
+    events = table[index]
+    counts = np.array([len(c) for c in choices], dtype=np.int64)[index]
     # the label: the column's, else the kind the events column names, else "periodic" for a linear ephemeris
     names = list(label_texts) + list(PERIODIC_KINDS) + ["periodic", ""]
     single = np.array([next(iter(p[1])) if len(p[1]) == 1 else PERIODIC_KINDS[0] for p in parsed])[codes]
@@ -594,7 +693,7 @@ def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
     named = open_ & (n_kinds == 1) & ~labelled
     label = np.where(labelled, label_codes, np.where(named, kind_code, np.where(
         linear, len(names) - 2, len(names) - 1)))
-    return events, np.array(names, dtype=object)[label]
+    return events, Coded(label, names), counts
 
 
 def _report(cells: Cells, column, codes, texts, problems) -> None:
@@ -634,8 +733,6 @@ def check_requests(cells: Cells, linear, duration_h, a_rstar, k_ms) -> dict:
     rows = cells.rows
     photometric = np.asarray(linear, bool) | np.isfinite(duration_h) | np.isfinite(a_rstar)
     spectroscopic = np.isfinite(k_ms)
-    default = np.where(photometric & ~spectroscopic, "photometry",
-                       np.where(spectroscopic & ~photometric, "rv", "photometry;rv"))
     codes, texts = cells.codes("observe")
     chosen, problem = [], []  # per distinct cell: the words in their order (None: the default), the error
     for text in texts:
@@ -646,7 +743,9 @@ def check_requests(cells: Cells, linear, duration_h, a_rstar, k_ms) -> dict:
                        if unknown else None)
     _report(cells, "observe", codes, texts, problem)
     named = np.array([c is not None for c in chosen])[codes]
-    observe = np.where(named, np.array([c or "" for c in chosen], dtype=object)[codes], default.astype(object))
+    defaults = ("photometry", "rv", "photometry;rv")
+    default_code = np.where(photometric & ~spectroscopic, 0, np.where(spectroscopic & ~photometric, 1, 2))
+    observe = Coded(np.where(named, codes + len(defaults), default_code), defaults + tuple(c or "" for c in chosen))
     fraction = cells.numeric("rv_fraction_k", default=DEFAULT_RV_FRACTION_K)
     bad_fraction = ~((fraction > 0) & (fraction <= 1))
     for row, v in zip(rows[bad_fraction], cells.text_at("rv_fraction_k", bad_fraction)):
@@ -661,7 +760,7 @@ def check_requests(cells: Cells, linear, duration_h, a_rstar, k_ms) -> dict:
             [None if t.strip().lower() in _YES + _NO else f"{t!r} is not yes or no" for t in texts])
     full = np.array([t.strip().lower() in _YES for t in texts], dtype=bool)[codes]
     return {
-        "observe": np.asarray(observe, dtype=object),
+        "observe": observe,
         "rv_fraction_k": np.where(bad_fraction, DEFAULT_RV_FRACTION_K, fraction),
         "rv_visits": np.where(bad_visits, DEFAULT_RV_VISITS, visits).astype(np.int64),
         "rv_gap_h": np.where(np.isnan(gap), DEFAULT_RV_GAP_H, gap),

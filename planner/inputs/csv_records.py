@@ -26,6 +26,7 @@ from __future__ import annotations
 import csv
 import dataclasses
 import io
+import re
 
 import numpy as np
 import pyarrow as pa
@@ -59,11 +60,13 @@ class Records:
     delimiter: str
 
 
-def read_records(text, source: str) -> Records:
+def read_records(text, source: str, numeric=None) -> Records:
     """The records of CSV ``text`` (str, or UTF-8 bytes without a byte-order mark).
 
-    :func:`line_records` when it can read the file, else :func:`csv_records`; ``source`` names the
-    file in messages (:class:`~planner.errors.InputErrors` for text that is not CSV).
+    :func:`typed_records`, else :func:`line_records`, else :func:`csv_records`: the first that can
+    read the file; ``numeric(name)`` says which header names are numeric columns (read as numbers
+    by the first reader); ``source`` names the file in messages (:class:`~planner.errors.InputErrors`
+    for text that is not CSV).
     """
     data = text
     if isinstance(text, str):
@@ -71,9 +74,13 @@ def read_records(text, source: str) -> Records:
             data = text.encode("utf-8")
         except UnicodeEncodeError:  # lone surrogates: only the csv module reads them
             return csv_records(text, source)
-    records = line_records(data)
-    if records is not None:
-        return records
+    lines = Lines.of(data)
+    if lines is not None:
+        records = typed_records(lines, numeric) if numeric is not None else None
+        if records is None:
+            records = line_records(lines)
+        if records is not None:
+            return records
     return csv_records(text if isinstance(text, str) else data.decode("utf-8"), source)
 
 
@@ -133,32 +140,163 @@ def csv_records(text: str, source: str) -> Records:
                    np.array([len(r) for r in body], dtype=np.int64), numbers[0], delimiter)
 
 
-def line_records(data: bytes) -> Records | None:
-    """The records of CSV ``data`` (UTF-8 bytes) when every record is one line, else None.
+@dataclasses.dataclass
+class Lines:
+    """A file's lines as a pyarrow string array (``body``: without their line ends) and what the
+    readers need to know of them; made only for files that may have one record per line."""
 
-    The lines are split on ``\\n`` (``\\r\\n`` taken as one line end); each line not a comment is
-    split at the delimiter, its quoted fields unquoted, and stripped, all with pyarrow compute.
-    Lines whose quotes are not whole quoted fields go one by one to the csv module, which must read
-    each as one complete record; a line that holds the start of a quoted cell running on (or any
-    csv error) sends the whole file to :func:`csv_records`. Rows are line numbers.
+    data: bytes
+    lines: object
+    body: object
+    comment: np.ndarray
+    delimiter: str
+    spaces: str
+
+    @classmethod
+    def of(cls, data: bytes):
+        """The lines of ``data``, or None when a record could span lines in a way the line readers
+        do not follow: NUL characters, a carriage return that does not end a line, a line longer
+        than the csv module's field limit, no data at all."""
+        if not data or b"\x00" in data or len(data) >= 2**31:
+            return None
+        if b"\r" in data and data.count(b"\r") != data.count(b"\r\n"):
+            return None  # a carriage return that does not end a line: csv's own reading of it
+        buf = np.frombuffer(data, dtype=np.uint8)
+        ends = np.flatnonzero(buf == 10) + 1
+        if len(ends) == 0 or ends[-1] != len(data):
+            ends = np.append(ends, len(data))
+        offsets = np.concatenate([[0], ends]).astype(np.int32)
+        if int(np.diff(offsets).max()) > csv.field_size_limit():
+            return None
+        lines = pa.StringArray.from_buffers(len(ends), pa.py_buffer(offsets), pa.py_buffer(data))
+        body = pc.utf8_rtrim(lines, characters="\r\n")
+        return cls(data, lines, body, _comments(body, buf[offsets[:-1]]), delimiter_of(_first_lines(data)),
+                   _spaces(data))
+
+
+@dataclasses.dataclass
+class NumberCells:
+    """A column read as numbers: ``values`` (NaN where empty), ``given`` (False where empty), and
+    ``text(indices)``, the cells' stripped text as the other readers give it, for messages."""
+
+    values: np.ndarray
+    given: np.ndarray
+    text: object
+
+
+def typed_records(lines: Lines, numeric) -> Records | None:
+    """The records of the plainest CSV files, numeric columns read as numbers by pyarrow's CSV reader.
+
+    Taken when the first line is the header and no line holds a quote or is a comment, and when
+    every other line is empty (skipped) or has the header's number of fields. A column whose
+    header name ``numeric(name)`` accepts is read as float64 when its first cell reads as a number
+    (the cast of :func:`line_records`' text: the same numbers); a cell that does not read makes it
+    a text column after all (at most a few retries), anything else returns None. Records whose
+    cells are all empty are dropped, as by the other readers.
     """
-    if not data or b"\x00" in data or len(data) >= 2**31:
+    import pyarrow.csv as pcsv
+
+    data, body, delimiter = lines.data, lines.body, lines.delimiter
+    if b'"' in data or lines.comment.any() or len(body) < 2:
         return None
-    returns = data.count(b"\r")
-    if returns and returns != data.count(b"\r\n"):
-        return None  # a carriage return that does not end a line: csv's own reading of it
-    buf = np.frombuffer(data, dtype=np.uint8)
-    ends = np.flatnonzero(buf == 10) + 1
-    if len(ends) == 0 or ends[-1] != len(data):
-        ends = np.append(ends, len(data))
-    offsets = np.concatenate([[0], ends]).astype(np.int32)
-    if int(np.diff(offsets).max()) > csv.field_size_limit():
+    header_line = body[0].as_py()
+    header = [h.strip() for h in header_line.split(delimiter)]
+    if not "".join(header):
         return None
-    lines = pa.StringArray.from_buffers(len(ends), pa.py_buffer(offsets), pa.py_buffer(data))
-    body = pc.utf8_rtrim(lines, characters="\r\n")
-    comment = pc.starts_with(pc.utf8_ltrim(body, characters=WHITESPACE), "#").to_numpy(zero_copy_only=False)
-    delimiter = delimiter_of(_first_lines(data))
-    idx = np.flatnonzero(~comment)
+    width = len(header)
+    lengths = pc.binary_length(body).to_numpy()
+    data_lines = np.flatnonzero(lengths[1:] > 0) + 1
+    if len(data_lines) == 0 or width < 2:
+        return None
+    first = body[int(data_lines[0])].as_py().split(delimiter)
+    if len(first) != width:
+        return None
+    as_number = [bool(numeric(h)) and _reads_as_number(c.strip()) for h, c in zip(header, first)]
+    names = [f"f{i}" for i in range(width)]
+    for _ in range(4):
+        types = {nm: pa.float64() if num else pa.string() for nm, num in zip(names, as_number)}
+        try:
+            table = pcsv.read_csv(
+                pa.BufferReader(data),
+                read_options=pcsv.ReadOptions(column_names=names, skip_rows=1),
+                parse_options=pcsv.ParseOptions(delimiter=delimiter, quote_char=False, escape_char=False,
+                                                newlines_in_values=False, ignore_empty_lines=True),
+                convert_options=pcsv.ConvertOptions(column_types=types, null_values=[""], strings_can_be_null=False,
+                                                    quoted_strings_can_be_null=False))
+            break
+        except pa.ArrowInvalid as exc:
+            column = re.match(r"In CSV column #(\d+): CSV conversion error to double", str(exc))
+            if column is None or not as_number[int(column.group(1))]:
+                return None
+            as_number[int(column.group(1))] = False
+    else:
+        return None
+    if table.num_rows != len(data_lines):
+        return None
+    columns, empty = [], np.ones(len(data_lines), bool)
+    for i, num in enumerate(as_number):
+        cells = table.column(i).combine_chunks()
+        if num:
+            given = cells.is_valid().to_numpy(zero_copy_only=False)
+            columns.append(NumberCells(cells.to_numpy(zero_copy_only=False, writable=True), given,
+                                       _field_text(body, delimiter, i)))
+        else:
+            cells = _strip(cells, lines.spaces)
+            given = pc.greater(pc.binary_length(cells), 0).to_numpy(zero_copy_only=False)
+            columns.append(cells)
+        empty &= ~given
+    rows = data_lines + 1
+    if empty.any():  # blank records (delimiters and spaces only) count as rows and are dropped
+        keep = np.flatnonzero(~empty)
+        rows = rows[keep]
+        columns = [_take(c, keep) for c in columns]
+    for c in columns:
+        if isinstance(c, NumberCells):
+            c.text.rows = rows
+    return Records(header, columns, rows.astype(np.int64), np.full(len(rows), width, np.int64), 1, delimiter)
+
+
+def _reads_as_number(text: str) -> bool:
+    """True when the cast that reads numbers reads ``text`` (an empty cell reads as a missing one)."""
+    if not text:
+        return True
+    try:
+        pc.cast(pa.array([text]), pa.float64())
+        return True
+    except pa.ArrowInvalid:
+        return False
+
+
+class _field_text:
+    """Field ``i`` of the lines at given records (``rows``: their line numbers), stripped."""
+
+    def __init__(self, body, delimiter, i):
+        self.body, self.delimiter, self.i, self.rows = body, delimiter, i, None
+
+    def __call__(self, indices):
+        lines = self.body.take(pa.array(self.rows[np.asarray(indices, dtype=np.int64)] - 1)).to_pylist()
+        return [line.split(self.delimiter)[self.i].strip() for line in lines]
+
+
+def _take(column, keep):
+    if isinstance(column, NumberCells):
+        return NumberCells(column.values[keep], column.given[keep], column.text)
+    return column.take(pa.array(keep))
+
+
+def line_records(lines: Lines) -> Records | None:
+    """The records of CSV text read line by line, else None.
+
+    The lines are split on ``\n`` (``\r\n`` taken as one line end); each line not a comment is
+    split at the delimiter, its quoted fields unquoted, and stripped, all with pyarrow compute.
+    A line whose quotes are not whole quoted fields starts a record that the csv module reads,
+    from that line on until the record ends (a quoted cell may hold line breaks: the record's row
+    is the line it starts on, and each line it spans beyond the first takes one from the rows of
+    the records after it, as in :func:`csv_records`). A csv error sends the whole file to
+    :func:`csv_records`, which reports it.
+    """
+    data, body, delimiter = lines.data, lines.body, lines.delimiter
+    idx = np.flatnonzero(~lines.comment)
     if len(idx) == 0:
         return None
     text = body.take(pa.array(idx)) if len(idx) < len(body) else body
@@ -169,19 +307,23 @@ def line_records(data: bytes) -> Records | None:
     complex_lines = np.zeros(len(idx), bool)
     if b'"' in data:
         fields, complex_lines = _unquote(fields, starts)
-    fields = _strip(fields, data)
+    fields = _strip(fields, lines.spaces)
     filled = np.add.reduceat(pc.binary_length(fields).to_numpy().astype(np.int64), starts[:-1])
     blank = filled == 0
-    slow = {}
+    slow, inside = {}, np.zeros(len(body), bool)  # records read by the csv module; lines inside them
     for k in np.flatnonzero(complex_lines):
-        try:
-            records = list(csv.reader([text[int(k)].as_py()], delimiter=delimiter, strict=True))
-        except csv.Error:
+        line = int(idx[k])
+        if inside[line]:
+            continue
+        record, used = _csv_record(lines.lines, line, delimiter)
+        if record is None:
             return None
-        if len(records) != 1:
-            return None
-        slow[int(k)] = records[0]
-        blank[k] = not "".join(records[0]).strip()
+        inside[line + 1:line + used] = True
+        slow[int(k)] = record
+        blank[k] = not "".join(record).strip()
+    if inside.any():
+        blank |= inside[idx]
+        complex_lines &= ~inside[idx]
     kept = np.flatnonzero(~blank)
     if len(kept) == 0:
         return None
@@ -211,18 +353,53 @@ def line_records(data: bytes) -> Records | None:
         columns = [pa.concat_arrays([col, pa.array([r[i].strip() if i < len(r) else "" for r in records],
                                                    type=pa.string())]).take(pa.array(order))
                    for i, col in enumerate(columns)]
-    return Records(header, columns, idx[body_k].astype(np.int64) + 1, widths, int(idx[head]) + 1, delimiter)
+    rows = np.arange(1, len(body) + 1) - np.cumsum(inside)  # a record's row, as a spreadsheet counts
+    return Records(header, columns, rows[idx[body_k]].astype(np.int64), widths, int(rows[idx[head]]), delimiter)
+
+
+def _csv_record(raw_lines, start: int, delimiter: str):
+    """(record, lines it spans) read by the csv module from line ``start`` on; (None, 0) on a csv error."""
+    used = [0]
+
+    def feed():
+        for j in range(start, len(raw_lines)):
+            used[0] += 1
+            yield raw_lines[j].as_py()
+
+    try:
+        record = next(csv.reader(feed(), delimiter=delimiter, strict=True))
+    except (csv.Error, StopIteration):
+        return None, 0
+    return record, used[0]
+
+
+def _comments(body, first_bytes) -> np.ndarray:
+    """True for the lines whose first character after whitespace is ``#`` (``line.lstrip()``)."""
+    comment = first_bytes == ord("#")
+    unsure = np.flatnonzero(np.isin(first_bytes, np.frombuffer(_ASCII_SPACE, np.uint8)) | (first_bytes >= 0x80))
+    if len(unsure):
+        lines = body.take(pa.array(unsure))
+        comment[unsure] = pc.starts_with(pc.utf8_ltrim(lines, characters=WHITESPACE), "#").to_numpy(
+            zero_copy_only=False)
+    return comment
 
 
 #: ``str.strip``'s characters among ASCII (less the line ends), as bytes.
 _ASCII_SPACE = b" \t\x0b\x0c\x1c\x1d\x1e\x1f"
 
 
-def _strip(fields, data: bytes):
-    """``fields`` stripped as ``str.strip`` does, with the cheapest kernel that is exact for ``data``."""
-    if data.isascii():
-        if not any(c in data for c in _ASCII_SPACE):
-            return fields
+def _spaces(data: bytes) -> str:
+    """Which strip ``data``'s cells need: ``"none"`` (ASCII without whitespace), ``"ascii"`` or ``"unicode"``."""
+    if not data.isascii():
+        return "unicode"
+    return "ascii" if any(data.find(bytes([c])) >= 0 for c in _ASCII_SPACE) else "none"
+
+
+def _strip(fields, spaces: str):
+    """``fields`` stripped as ``str.strip`` does, with the cheapest kernel that is exact (:func:`_spaces`)."""
+    if spaces == "none":
+        return fields
+    if spaces == "ascii":
         return pc.ascii_trim(fields, characters=" \t\x0b\x0c\x1c\x1d\x1e\x1f\r\n")
     return pc.utf8_trim(fields, characters=WHITESPACE)
 
