@@ -118,6 +118,10 @@ CASES = {
                                                   ["A-3", "12:7x:00", "\u00a041.5", "3", "0.1", "30", "2460000.5", ""],
                                                   ["A-4", "-12:30:00", "41", "3", "0.1", "30", "2460000.5", ""]]), TYPED),
     "duplicate names": (rows_text([HEADER] + targets(3) + [targets(1)[0]]), TYPED),
+    "a few quoted cells": (rows_text([HEADER] + targets(120) + targets(1, "a, b\n\n# c, \"d\"", first=120)
+                                     + targets(60, first=121) + targets(1, "e;f", first=181) + [BAD]), TYPED),
+    "a few quoted numbers": (rows_text([HEADER] + targets(120)) + 'Q-1,10,20,"3.5",0.1,30,"2460000.5",\n'
+                             + 'Q-2,10,20,"-2",0.1,30,2460000.5,"x\ny"\n' + rows_text(targets(60, first=120)), TYPED),
     "whitespace lines": (rows_text([HEADER] + targets(2)) + "   \n\t\n" + rows_text([BAD]), LINES),
     "comments": ("# a comment with a \"quote\" and , commas\n" + rows_text([HEADER] + targets(2, "#1 on the list"))
                  + "  # an indented one\n" + rows_text([BAD]), LINES),

@@ -367,6 +367,10 @@ _PLAIN_SEXAGESIMAL = (r"^(?P<sign>[+-]?) *(?P<a>[0-9]{1,15})[: ]+(?P<b>[0-9]{1,1
                       r"(?:[: ]+(?P<c>[0-9]{1,15}(?:\.[0-9]{0,17})?))?$")
 
 
+#: ... and the usual form of those, ``[+-]d:m`` or ``[+-]d:m:s``, split at its colons.
+_COLON_SEXAGESIMAL = r"^[+-]?[0-9]{1,15}:[0-9]{1,15}(?::[0-9]{1,15}(?:\.[0-9]{0,17})?)?$"
+
+
 def _plain_angles(strings, hours: bool):
     """(degrees, ok) of text cells of decimal or plain sexagesimal angles, as :func:`parse_angle`
     reads them; ``ok`` is False where a cell needs parse_angle itself (its other forms, its errors).
@@ -384,26 +388,43 @@ def _plain_angles(strings, hours: bool):
     ok = decimal & np.isfinite(out)
     rest = np.flatnonzero(~decimal)
     if len(rest):
-        parts = pc.extract_regex(strings.take(pa.array(rest)), _PLAIN_SEXAGESIMAL)
-        matched = parts.is_valid().to_numpy(zero_copy_only=False)
-        if matched.any():
-            parts = parts.filter(pa.array(matched))
-            sign = parts.field("sign").to_numpy(zero_copy_only=False)
-            a = pc.cast(parts.field("a"), pa.float64()).to_numpy(zero_copy_only=False, writable=True)
-            b = pc.cast(parts.field("b"), pa.float64()).to_numpy(zero_copy_only=False, writable=True)
-            c_text = parts.field("c")
-            c = pc.cast(pc.if_else(pc.equal(c_text, ""), "0", c_text), pa.float64()).to_numpy(zero_copy_only=False, writable=True)
-            value = a + b / 60.0 + c / 3600.0
-            good = (b < 60) & (c < 60)
-            if hours:
-                good &= (sign == "") & (value < 24)
-                value = 15.0 * value
-            else:
-                value = np.where(sign == "-", -value, value)
-            at = rest[matched]
-            out[at] = value
-            ok[at] = good
+        texts = strings.take(pa.array(rest))
+        colons = pc.match_substring_regex(texts, _COLON_SEXAGESIMAL).to_numpy(zero_copy_only=False)
+        if colons.any():  # the usual form, split at its colons
+            parts = pc.split_pattern(texts.filter(pa.array(colons)), ":")
+            count = pc.list_value_length(parts).to_numpy()
+            start = np.concatenate([[0], np.cumsum(count)[:-1]])
+            numbers = pc.cast(pc.list_flatten(parts), pa.float64()).to_numpy(zero_copy_only=False)
+            sign = pc.utf8_slice_codeunits(texts.filter(pa.array(colons)), 0, 1).to_numpy(zero_copy_only=False)
+            sign = np.where(np.isin(sign, ["+", "-"]), sign, "")
+            c = np.where(count == 3, numbers[np.minimum(start + 2, len(numbers) - 1)], 0.0)
+            _place_sexagesimal(out, ok, rest[colons], sign, np.abs(numbers[start]), numbers[start + 1], c, hours)
+        others = rest[~colons]
+        if len(others):
+            parts = pc.extract_regex(strings.take(pa.array(others)), _PLAIN_SEXAGESIMAL)
+            matched = parts.is_valid().to_numpy(zero_copy_only=False)
+            if matched.any():
+                parts = parts.filter(pa.array(matched))
+                c_text = parts.field("c")
+                a, b, c = (pc.cast(x, pa.float64()).to_numpy(zero_copy_only=False)
+                           for x in (parts.field("a"), parts.field("b"), pc.if_else(pc.equal(c_text, ""), "0", c_text)))
+                _place_sexagesimal(out, ok, others[matched], parts.field("sign").to_numpy(zero_copy_only=False), a, b,
+                                   c, hours)
     return out, ok
+
+
+def _place_sexagesimal(out, ok, at, sign, a, b, c, hours: bool):
+    """Angles (degrees) of sexagesimal parts a, b, c with their signs into ``out[at]``, as
+    :func:`parse_angle` computes them; ``ok`` False where parse_angle refuses the angle."""
+    value = a + b / 60.0 + c / 3600.0
+    good = (b < 60) & (c < 60)
+    if hours:
+        good &= (sign == "") & (value < 24)
+        value = 15.0 * value
+    else:
+        value = np.where(sign == "-", -value, value)
+    out[at] = value
+    ok[at] = good
 
 
 def _angles(cells: Cells, column: str, is_ra: bool, expected: str) -> np.ndarray:

@@ -184,31 +184,50 @@ class NumberCells:
     text: object
 
 
-def typed_records(lines: Lines, numeric) -> Records | None:
-    """The records of the plainest CSV files, numeric columns read as numbers by pyarrow's CSV reader.
+#: The typed reader takes a file when at most this share of its lines hold a quote (each is read
+#: by the csv module too, to check the reading and to place records that span lines).
+_QUOTED_LINES_SHARE = 0.02
 
-    Taken when the first line is the header and no line holds a quote or is a comment, and when
-    every other line is empty (skipped) or has the header's number of fields. A column whose
-    header name ``numeric(name)`` accepts is read as float64 when its first cell reads as a number
-    (the cast of :func:`line_records`' text: the same numbers); a cell that does not read makes it
-    a text column after all (at most a few retries), anything else returns None. Records whose
-    cells are all empty are dropped, as by the other readers.
+
+def typed_records(lines: Lines, numeric) -> Records | None:
+    """The records of plain CSV files, numeric columns read as numbers by pyarrow's CSV reader.
+
+    Taken when the first line is the header, no line is a comment, few lines hold a quote
+    (:data:`_QUOTED_LINES_SHARE`) and every other line is empty (skipped) or has the header's
+    number of fields. The lines with quotes are read by the csv module as well (from that line
+    on, so that records with line breaks in a quoted cell count as one row), and pyarrow's reading
+    of those records must equal it. A column whose header name ``numeric(name)`` accepts is read
+    as float64 when its first cell reads as a number (the cast of :func:`line_records`' text: the
+    same numbers); a cell that does not read makes it a text column after all (at most a few
+    retries); anything else returns None. Records whose cells are all empty are dropped, as by the
+    other readers.
     """
     import pyarrow.csv as pcsv
 
     data, body, delimiter = lines.data, lines.body, lines.delimiter
-    if b'"' in data or lines.comment.any() or len(body) < 2:
+    if len(body) < 2:
         return None
-    header_line = body[0].as_py()
-    header = [h.strip() for h in header_line.split(delimiter)]
-    if not "".join(header):
+    inside, spans = np.zeros(len(body), bool), {}  # lines inside records that span lines; csv's records
+    if b'"' in data:
+        quoted = np.flatnonzero(pc.match_substring(body, '"').to_numpy(zero_copy_only=False))
+        if len(quoted) > _QUOTED_LINES_SHARE * len(body) or quoted[0] == 0:
+            return None
+        for line in quoted.tolist():
+            if not inside[line]:
+                record, used = _csv_record(lines.lines, line, delimiter)
+                if record is None:
+                    return None
+                spans[line] = record
+                inside[line + 1:line + used] = True
+    if (lines.comment & ~inside).any():
         return None
+    header = [h.strip() for h in body[0].as_py().split(delimiter)]
     width = len(header)
-    lengths = pc.binary_length(body).to_numpy()
-    data_lines = np.flatnonzero(lengths[1:] > 0) + 1
-    if len(data_lines) == 0 or width < 2:
+    data_lines = np.flatnonzero((pc.binary_length(body).to_numpy() > 0) & ~inside)[1:]
+    if not "".join(header) or len(data_lines) == 0 or width < 2 or lines.comment[0]:
         return None
-    first = body[int(data_lines[0])].as_py().split(delimiter)
+    first = int(data_lines[0])
+    first = spans[first] if first in spans else body[first].as_py().split(delimiter)
     if len(first) != width:
         return None
     as_number = [bool(numeric(h)) and _reads_as_number(c.strip()) for h, c in zip(header, first)]
@@ -219,8 +238,9 @@ def typed_records(lines: Lines, numeric) -> Records | None:
             table = pcsv.read_csv(
                 pa.BufferReader(data),
                 read_options=pcsv.ReadOptions(column_names=names, skip_rows=1),
-                parse_options=pcsv.ParseOptions(delimiter=delimiter, quote_char=False, escape_char=False,
-                                                newlines_in_values=False, ignore_empty_lines=True),
+                parse_options=pcsv.ParseOptions(delimiter=delimiter, quote_char='"' if spans else False,
+                                                double_quote=True, escape_char=False,
+                                                newlines_in_values=bool(inside.any()), ignore_empty_lines=True),
                 convert_options=pcsv.ConvertOptions(column_types=types, null_values=[""], strings_can_be_null=False,
                                                     quoted_strings_can_be_null=False))
             break
@@ -239,21 +259,48 @@ def typed_records(lines: Lines, numeric) -> Records | None:
         if num:
             given = cells.is_valid().to_numpy(zero_copy_only=False)
             columns.append(NumberCells(cells.to_numpy(zero_copy_only=False, writable=True), given,
-                                       _field_text(body, delimiter, i)))
+                                       _field_text(body, delimiter, i, spans)))
         else:
             cells = _strip(cells, lines.spaces)
             given = pc.greater(pc.binary_length(cells), 0).to_numpy(zero_copy_only=False)
             columns.append(cells)
         empty &= ~given
-    rows = data_lines + 1
+    if spans and not _same_as_csv(columns, data_lines, spans):
+        return None
+    rows = np.arange(1, len(body) + 1) - np.cumsum(inside)  # a record's row, as a spreadsheet counts
+    rows = rows[data_lines]
     if empty.any():  # blank records (delimiters and spaces only) count as rows and are dropped
         keep = np.flatnonzero(~empty)
-        rows = rows[keep]
+        rows, data_lines = rows[keep], data_lines[keep]
         columns = [_take(c, keep) for c in columns]
     for c in columns:
         if isinstance(c, NumberCells):
-            c.text.rows = rows
+            c.text.lines = data_lines
     return Records(header, columns, rows.astype(np.int64), np.full(len(rows), width, np.int64), 1, delimiter)
+
+
+def _same_as_csv(columns, data_lines, spans) -> bool:
+    """True when pyarrow read each record that holds a quote as the csv module did."""
+    at = np.flatnonzero(np.isin(data_lines, list(spans)))
+    for i, column in enumerate(columns):
+        if isinstance(column, NumberCells):
+            for k, value, given in zip(at, column.values[at], column.given[at]):
+                text = spans[int(data_lines[k])][i].strip()
+                if given != bool(text) or (given and not _same_number(value, text)):
+                    return False
+        else:
+            got = column.take(pa.array(at)).to_pylist()
+            if got != [spans[int(data_lines[k])][i].strip() for k in at]:
+                return False
+    return True
+
+
+def _same_number(value: float, text: str) -> bool:
+    try:
+        read = pc.cast(pa.array([text]), pa.float64())[0].as_py()
+    except pa.ArrowInvalid:
+        return False
+    return read == value or (read != read and value != value)
 
 
 def _reads_as_number(text: str) -> bool:
@@ -268,14 +315,16 @@ def _reads_as_number(text: str) -> bool:
 
 
 class _field_text:
-    """Field ``i`` of the lines at given records (``rows``: their line numbers), stripped."""
+    """Field ``i``, stripped, of the records at given indices (``lines``: each record's first line)."""
 
-    def __init__(self, body, delimiter, i):
-        self.body, self.delimiter, self.i, self.rows = body, delimiter, i, None
+    def __init__(self, body, delimiter, i, spans):
+        self.body, self.delimiter, self.i, self.spans, self.lines = body, delimiter, i, spans, None
 
     def __call__(self, indices):
-        lines = self.body.take(pa.array(self.rows[np.asarray(indices, dtype=np.int64)] - 1)).to_pylist()
-        return [line.split(self.delimiter)[self.i].strip() for line in lines]
+        at = self.lines[np.asarray(indices, dtype=np.int64)]
+        texts = self.body.take(pa.array(at)).to_pylist()
+        return [(self.spans[line] if line in self.spans else text.split(self.delimiter))[self.i].strip()
+                for line, text in zip(at.tolist(), texts)]
 
 
 def _take(column, keep):
