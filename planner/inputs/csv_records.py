@@ -140,17 +140,26 @@ def csv_records(text: str, source: str) -> Records:
                    np.array([len(r) for r in body], dtype=np.int64), numbers[0], delimiter)
 
 
-@dataclasses.dataclass
 class Lines:
-    """A file's lines as a pyarrow string array (``body``: without their line ends) and what the
-    readers need to know of them; made only for files that may have one record per line."""
+    """A file's lines as a pyarrow string array with their line ends (``lines``) or without
+    (``body``), and what the readers need to know of them; made only for files that may have one
+    record per line (:meth:`of`)."""
 
-    data: bytes
-    lines: object
-    body: object
-    comment: np.ndarray
-    delimiter: str
-    spaces: str
+    def __init__(self, data: bytes, lines, lengths, comment, delimiter: str, spaces: str):
+        self.data, self.lines, self.lengths, self.comment = data, lines, lengths, comment
+        self.delimiter, self.spaces = delimiter, spaces
+        self._body = None
+
+    @property
+    def body(self):
+        """The lines without their line ends."""
+        if self._body is None:
+            self._body = pc.utf8_rtrim(self.lines, characters="\r\n")
+        return self._body
+
+    def line(self, i: int) -> str:
+        """Line ``i`` without its line end."""
+        return self.lines[i].as_py().rstrip("\r\n")
 
     @classmethod
     def of(cls, data: bytes):
@@ -166,11 +175,13 @@ class Lines:
         if len(ends) == 0 or ends[-1] != len(data):
             ends = np.append(ends, len(data))
         offsets = np.concatenate([[0], ends]).astype(np.int32)
-        if int(np.diff(offsets).max()) > csv.field_size_limit():
+        sizes = np.diff(offsets)
+        if int(sizes.max()) > csv.field_size_limit():
             return None
         lines = pa.StringArray.from_buffers(len(ends), pa.py_buffer(offsets), pa.py_buffer(data))
-        body = pc.utf8_rtrim(lines, characters="\r\n")
-        return cls(data, lines, body, _comments(body, buf[offsets[:-1]]), delimiter_of(_first_lines(data)),
+        newline = buf[ends - 1] == 10
+        lengths = sizes - newline - (newline & (sizes > 1) & (buf[np.maximum(ends - 2, 0)] == 13))
+        return cls(data, lines, lengths, _comments(lines, buf[offsets[:-1]]), delimiter_of(_first_lines(data)),
                    _spaces(data))
 
 
@@ -204,13 +215,13 @@ def typed_records(lines: Lines, numeric) -> Records | None:
     """
     import pyarrow.csv as pcsv
 
-    data, body, delimiter = lines.data, lines.body, lines.delimiter
-    if len(body) < 2:
+    data, delimiter, n = lines.data, lines.delimiter, len(lines.lines)
+    if n < 2:
         return None
-    inside, spans = np.zeros(len(body), bool), {}  # lines inside records that span lines; csv's records
+    inside, spans = np.zeros(n, bool), {}  # lines inside records that span lines; csv's records
     if b'"' in data:
-        quoted = np.flatnonzero(pc.match_substring(body, '"').to_numpy(zero_copy_only=False))
-        if len(quoted) > _QUOTED_LINES_SHARE * len(body) or quoted[0] == 0:
+        quoted = np.flatnonzero(pc.match_substring(lines.lines, '"').to_numpy(zero_copy_only=False))
+        if len(quoted) > _QUOTED_LINES_SHARE * n or quoted[0] == 0:
             return None
         for line in quoted.tolist():
             if not inside[line]:
@@ -221,13 +232,13 @@ def typed_records(lines: Lines, numeric) -> Records | None:
                 inside[line + 1:line + used] = True
     if (lines.comment & ~inside).any():
         return None
-    header = [h.strip() for h in body[0].as_py().split(delimiter)]
+    header = [h.strip() for h in lines.line(0).split(delimiter)]
     width = len(header)
-    data_lines = np.flatnonzero((pc.binary_length(body).to_numpy() > 0) & ~inside)[1:]
+    data_lines = np.flatnonzero((lines.lengths > 0) & ~inside)[1:]
     if not "".join(header) or len(data_lines) == 0 or width < 2 or lines.comment[0]:
         return None
     first = int(data_lines[0])
-    first = spans[first] if first in spans else body[first].as_py().split(delimiter)
+    first = spans[first] if first in spans else lines.line(first).split(delimiter)
     if len(first) != width:
         return None
     as_number = [bool(numeric(h)) and _reads_as_number(c.strip()) for h, c in zip(header, first)]
@@ -259,7 +270,7 @@ def typed_records(lines: Lines, numeric) -> Records | None:
         if num:
             given = cells.is_valid().to_numpy(zero_copy_only=False)
             columns.append(NumberCells(cells.to_numpy(zero_copy_only=False, writable=True), given,
-                                       _field_text(body, delimiter, i, spans)))
+                                       _field_text(lines, i, spans)))
         else:
             cells = _strip(cells, lines.spaces)
             given = pc.greater(pc.binary_length(cells), 0).to_numpy(zero_copy_only=False)
@@ -267,7 +278,7 @@ def typed_records(lines: Lines, numeric) -> Records | None:
         empty &= ~given
     if spans and not _same_as_csv(columns, data_lines, spans):
         return None
-    rows = np.arange(1, len(body) + 1) - np.cumsum(inside)  # a record's row, as a spreadsheet counts
+    rows = np.arange(1, n + 1) - np.cumsum(inside)  # a record's row, as a spreadsheet counts
     rows = rows[data_lines]
     if empty.any():  # blank records (delimiters and spaces only) count as rows and are dropped
         keep = np.flatnonzero(~empty)
@@ -317,14 +328,13 @@ def _reads_as_number(text: str) -> bool:
 class _field_text:
     """Field ``i``, stripped, of the records at given indices (``lines``: each record's first line)."""
 
-    def __init__(self, body, delimiter, i, spans):
-        self.body, self.delimiter, self.i, self.spans, self.lines = body, delimiter, i, spans, None
+    def __init__(self, lines: Lines, i, spans):
+        self.source, self.i, self.spans, self.lines = lines, i, spans, None
 
     def __call__(self, indices):
         at = self.lines[np.asarray(indices, dtype=np.int64)]
-        texts = self.body.take(pa.array(at)).to_pylist()
-        return [(self.spans[line] if line in self.spans else text.split(self.delimiter))[self.i].strip()
-                for line, text in zip(at.tolist(), texts)]
+        return [(self.spans[line] if line in self.spans else self.source.line(line).split(self.source.delimiter))[
+            self.i].strip() for line in at.tolist()]
 
 
 def _take(column, keep):
@@ -422,12 +432,12 @@ def _csv_record(raw_lines, start: int, delimiter: str):
     return record, used[0]
 
 
-def _comments(body, first_bytes) -> np.ndarray:
+def _comments(lines, first_bytes) -> np.ndarray:
     """True for the lines whose first character after whitespace is ``#`` (``line.lstrip()``)."""
     comment = first_bytes == ord("#")
     unsure = np.flatnonzero(np.isin(first_bytes, np.frombuffer(_ASCII_SPACE, np.uint8)) | (first_bytes >= 0x80))
     if len(unsure):
-        lines = body.take(pa.array(unsure))
+        lines = lines.take(pa.array(unsure))
         comment[unsure] = pc.starts_with(pc.utf8_ltrim(lines, characters=WHITESPACE), "#").to_numpy(
             zero_copy_only=False)
     return comment
