@@ -294,24 +294,22 @@ def _same_as_csv(columns, data_lines, spans) -> bool:
     """True when pyarrow read each record that holds a quote as the csv module did."""
     at = np.flatnonzero(np.isin(data_lines, list(spans)))
     for i, column in enumerate(columns):
+        texts = [spans[int(data_lines[k])][i].strip() for k in at]
         if isinstance(column, NumberCells):
-            for k, value, given in zip(at, column.values[at], column.given[at]):
-                text = spans[int(data_lines[k])][i].strip()
-                if given != bool(text) or (given and not _same_number(value, text)):
-                    return False
-        else:
-            got = column.take(pa.array(at)).to_pylist()
-            if got != [spans[int(data_lines[k])][i].strip() for k in at]:
+            given = np.array([bool(t) for t in texts])
+            if not np.array_equal(given, column.given[at]):
                 return False
+            try:
+                read = pc.cast(pa.array([t or None for t in texts], type=pa.string()), pa.float64()).to_numpy(
+                    zero_copy_only=False)
+            except pa.ArrowInvalid:
+                return False
+            got = column.values[at]
+            if not np.all((read == got) | (np.isnan(read) & np.isnan(got))):
+                return False
+        elif column.take(pa.array(at)).to_pylist() != texts:
+            return False
     return True
-
-
-def _same_number(value: float, text: str) -> bool:
-    try:
-        read = pc.cast(pa.array([text]), pa.float64())[0].as_py()
-    except pa.ArrowInvalid:
-        return False
-    return read == value or (read != read and value != value)
 
 
 def _reads_as_number(text: str) -> bool:
