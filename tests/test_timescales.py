@@ -107,6 +107,51 @@ def test_bulk_conversion_equals_astropy_across_the_2016_leap_second():
     assert list(iso) == ["2017-01-01T00:00:00Z", "2016-12-31T23:59:59Z", "2017-01-01T00:00:01Z"]
 
 
+@pytest.mark.parametrize("start", ["2016-12-30T07:13:00", "2016-12-29T17:00:00", "1998-12-30T01:00:00"])
+def test_bulk_conversion_equals_astropy_when_the_span_starts_mid_day(start):
+    # IERS Bulletin C: leap seconds at the ends of 2016-12-31 and 1998-12-31. astropy's UTC Julian
+    # date stretches a leap second's day to 86401 s, so the offset bends at that day's ends; a
+    # grid that does not start on a day boundary must not interpolate across the bend (it did:
+    # 0.12 s off before the grid nodes were put on whole and half Julian dates).
+    rng = np.random.default_rng(0)
+    utc = Time(start, scale="utc") + np.sort(rng.uniform(0, 4, 5000)) * u.day
+    two_ulp_s = 2 * 2.0**-31 * 86400
+    direct = utc.tdb
+    assert np.max(np.abs(epochs.utc_to_tdb_jd(utc.jd1 + utc.jd2) - (direct.jd1 + direct.jd2))) * 86400 <= two_ulp_s
+    back = epochs._tdb_jd_to_utc_jd(direct.jd1 + direct.jd2)
+    assert np.max(np.abs(back - (utc.jd1 + utc.jd2))) * 86400 <= two_ulp_s
+
+
+@pytest.mark.parametrize("start, days", [("2026-01-10T05:00:00", 500), ("2016-12-29T05:00:00", 4),
+                                         ("1990-01-01T00:00:00", 9000)])
+def test_many_hjd_epochs_equal_the_direct_conversion_and_astropy(start, days):
+    # The bulk path (1,000 epochs or more) sums small terms (TDB - UTC, the Sun's barycentric
+    # offset); the direct path (below 1,000) converts the geocentric instant. They must agree to
+    # float64's resolution, also across the 2016 leap second and over 25 years of leap seconds.
+    rng = np.random.default_rng(2)
+    n = 3000
+    ra, dec = rng.uniform(0, 360, n), np.degrees(np.arcsin(rng.uniform(-1, 1, n)))
+    hjd = Time(start, scale="utc").jd + rng.uniform(0, days, n)
+    bulk = epochs.to_bjd_tdb(hjd, "HJD_UTC", ra, dec)
+    direct = np.concatenate([epochs.to_bjd_tdb(hjd[k:k + 900], "HJD_UTC", ra[k:k + 900], dec[k:k + 900])
+                             for k in range(0, n, 900)])
+    two_ulp_s = 2 * 2.0**-31 * 86400
+    assert np.max(np.abs(bulk - direct)) * 86400 <= two_ulp_s
+    # astropy at the geocentre (outside a leap second's day, where HJD_UTC needs no stretched day)
+    t = Time(hjd[:300], format="jd", scale="utc", location=GEOCENTRE)
+    coords = SkyCoord(ra[:300] * u.deg, dec[:300] * u.deg)
+    geo = t - t.light_travel_time(coords, "heliocentric")
+    for _ in range(2):
+        geo = t - Time(geo, location=GEOCENTRE).light_travel_time(coords, "heliocentric")
+    geo = Time(geo, location=GEOCENTRE)
+    ref = (geo.tdb + geo.light_travel_time(coords)).jd
+    day = np.floor(hjd[:300] - 0.5) + 0.5  # the UTC day of each epoch, and the days either side
+    length_s = [(Time(day + k + 1, format="jd", scale="utc") - Time(day + k, format="jd", scale="utc")).sec
+                for k in (-1, 0, 1)]
+    leap_day = np.any(np.array(length_s) > 86400.5, axis=0)
+    assert np.max(np.abs(bulk[:300] - ref)[~leap_day]) <= INTERPOLATION_D + 2e-10
+
+
 def test_bundled_iers_table_equals_astropys_reading():
     # astro_offline reads the bundled finals2000A file with numpy; astropy's own reader
     # (IERS_A.open, the IERS Rapid Service format) must give the same table.

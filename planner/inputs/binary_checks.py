@@ -12,8 +12,10 @@ import numpy as np
 
 from ..orbits.apsidal import JULIAN_YEAR_D
 from ..timescales import epochs
-from .catalogue_checks import MAX_FULL_JD, MIN_FULL_JD, Cells
+from .catalogue_checks import MAX_FULL_JD, MIN_FULL_JD, Cells, Coded
 
+#: What a row's orbital shape is given as: e and omega (or nothing), ecosw/esinw, secosw/sesinw.
+SHAPE_KINDS = ("", "ecosw", "secosw")
 SHAPE_COLUMNS = ("ecosw", "esinw", "ecosw_err", "esinw_err", "secosw", "sesinw", "secosw_err", "sesinw_err")
 APSIDAL_COLUMNS = ("omega_dot_deg_cycle", "omega_dot_err_deg_cycle", "omega_dot_deg_yr", "omega_dot_err_deg_yr")
 SECOND_EPOCH_COLUMNS = ("tsec", "tsec_err_d")
@@ -37,28 +39,29 @@ def check_shape_alternatives(cells: Cells, e_given, omega_given):
     secosw/sesinw. NaN where not given.
     """
     n, rows = cells.n, cells.rows
-    kind = np.full(n, "", dtype=object)
+    code = np.zeros(n, np.int64)  # index into SHAPE_KINDS
     out = {c: np.full(n, np.nan) for c in ("x", "y", "x_err", "y_err")}
     for name, a, b in (("ecosw", "ecosw", "esinw"), ("secosw", "secosw", "sesinw")):
         ga, gb = cells.given(a), cells.given(b)
         for row, has_a in zip(rows[ga ^ gb], ga[ga ^ gb]):
             cells.err(row, b if has_a else a, f"{a} and {b} come as a pair; give both (or e and omega_deg instead)")
         both = ga & gb
-        clash = both & (kind != "")
+        clash = both & (code != 0)
         for row in rows[clash]:
             cells.err(row, a, "give one parametrisation of the orbit's shape: ecosw/esinw or secosw/sesinw, not both")
         for row in rows[both & (e_given | omega_given)]:
             cells.err(row, a, f"both e/omega_deg and {a}/{b} are given; give one of the two parametrisations")
         use = both & ~clash & ~e_given & ~omega_given
-        kind[use] = name
+        code[use] = SHAPE_KINDS.index(name)
         for key, col in (("x", a), ("y", b)):
             out[key] = np.where(use, cells.numeric(col), out[key])
         for key, col in (("x_err", f"{a}_err"), ("y_err", f"{b}_err")):
             out[key] = np.where(use, cells.numeric(col, default=0.0, nonnegative=True), out[key])
     x, y = out["x"], out["y"]
-    companion = np.char.lower(cells.text("omega_of").astype(str)) == "companion"
+    companion = cells.lookup("omega_of", lambda v: v == "companion", transform=str.lower, dtype=bool)
     x, y = np.where(companion, -x, x), np.where(companion, -y, y)
     r2 = x * x + y * y
+    kind = Coded.choose(SHAPE_KINDS, code)
     e = np.where(kind == "ecosw", np.sqrt(r2), np.where(kind == "secosw", r2, np.nan))
     bad = np.isfinite(e) & (e >= 1.0)
     for row, k, v in zip(rows[bad], kind[bad], e[bad]):
@@ -78,7 +81,7 @@ def check_apsidal(cells: Cells, period_d, linear, e):
     (default: the mean interval between primary minima) or the ``anomalistic`` period.
     """
     rows = cells.rows
-    if "omega_dot" in cells.frame:
+    if cells.has("omega_dot"):
         cells.err(1, "omega_dot", "omega_dot has no unit; name the column omega_dot_deg_cycle "
                   "(degrees per period) or omega_dot_deg_yr (degrees per Julian year)")
     per_cycle = cells.numeric("omega_dot_deg_cycle")
@@ -93,13 +96,13 @@ def check_apsidal(cells: Cells, period_d, linear, e):
     col = np.where(cells.given("omega_dot_deg_cycle"), "omega_dot_deg_cycle", "omega_dot_deg_yr")
     for row, c in zip(rows[given & (linear | (e == 0))], col[given & (linear | (e == 0))]):
         cells.err(row, str(c), "apsidal motion needs an eccentric orbit (e > 0 with omega_deg, or ecosw/esinw)")
-    kind = np.char.lower(cells.text("period_kind").astype(str))
-    kind = np.where(kind == "", "sidereal", kind)
-    bad = ~np.isin(kind, ["sidereal", "anomalistic"])
+    kind = cells.coded("period_kind", lambda v: v or "sidereal", transform=str.lower)
+    bad = cells.lookup("period_kind", lambda v: (v or "sidereal") not in ("sidereal", "anomalistic"),
+                       transform=str.lower, dtype=bool)
     for row, v in zip(rows[bad], kind[bad]):
         cells.err(row, "period_kind", f"{str(v)!r} is not allowed; expected 'sidereal' or 'anomalistic'", v)
     rate = np.where(given & ~linear, rate, 0.0)
-    return rate, np.where(given & ~linear, err, 0.0), kind.astype(str)
+    return rate, np.where(given & ~linear, err, 0.0), kind
 
 
 def _full_epoch(cells: Cells, column, ra_deg, dec_deg, system):
@@ -112,7 +115,9 @@ def _full_epoch(cells: Cells, column, ra_deg, dec_deg, system):
                   f"({MIN_FULL_JD:.0f}-{MAX_FULL_JD:.0f}); reduced dates need time_offset_d", v)
     full = np.where(bad, np.nan, full)
     out = np.full(cells.n, np.nan)
-    ok = np.isfinite(full) & np.isfinite(ra_deg) & np.isfinite(dec_deg) & np.isin(system, epochs.TIME_SYSTEMS)
+    if not np.isfinite(full).any():
+        return out
+    ok = np.isfinite(full) & np.isfinite(ra_deg) & np.isfinite(dec_deg) & system.isin(epochs.TIME_SYSTEMS)
     for s in epochs.TIME_SYSTEMS:
         sel = ok & (system == s)
         if sel.any():
@@ -135,16 +140,17 @@ def check_second_epoch(cells: Cells, epoch_kind, epoch_err, linear, ra_deg, dec_
         cells.err(row, "tsec", "at most two epochs: tsec with tc or tp, or tc with tp")
     for row in rows[tsec & linear]:
         cells.err(row, "tsec", "tsec (secondary conjunction) needs e and omega_deg (or ecosw/esinw)")
-    kind2 = np.where(both, "tp", np.where(tsec & ~both & ~linear, "tsec", ""))
+    kind2 = Coded.choose(("", "tp", "tsec"), np.where(both, 1, np.where(tsec & ~both & ~linear, 2, 0)))
+    given2 = kind2 != ""
     epoch2 = np.where(both, _full_epoch(cells, "tp", ra_deg, dec_deg, system),
                       np.where(kind2 == "tsec", _full_epoch(cells, "tsec", ra_deg, dec_deg, system), np.nan))
     err2 = np.where(both, cells.numeric("tp_err_d", default=0.0, nonnegative=True),
                     cells.numeric("tsec_err_d", default=0.0, nonnegative=True))
-    for row, k, e1, e2, kind1 in zip(rows, kind2, epoch_err, err2, epoch_kind):
-        if k and not (e1 > 0 and e2 > 0):
-            cells.err(row, f"{k}_err_d" if not e2 > 0 else f"{kind1}_err_d",
-                      "two epochs need both 1-sigma errors (they are checked against each other and combined)")
-    return kind2.astype(str), np.where(kind2 != "", epoch2, np.nan), np.where(kind2 != "", err2, 0.0)
+    unsure = given2 & ~((epoch_err > 0) & (err2 > 0))
+    for row, k, e2, kind1 in zip(rows[unsure], kind2[unsure], err2[unsure], epoch_kind[unsure]):
+        cells.err(row, f"{k}_err_d" if not e2 > 0 else f"{kind1}_err_d",
+                  "two epochs need both 1-sigma errors (they are checked against each other and combined)")
+    return kind2, np.where(given2, epoch2, np.nan), np.where(given2, err2, 0.0)
 
 
 def check_epoch_agreement(cells: Cells, tension_sigma, kind2):

@@ -19,7 +19,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..orbits.geometry import ALL_EVENTS, canonical_event
-from .catalogue_checks import Cells
+from .catalogue_checks import Cells, Coded
 
 WEEK_RULE_WORDS = ("every", "best", "first")
 CAMPAIGN_COLUMNS = ("week_rule", "phase_bins", "sites", "campaign_events")
@@ -27,36 +27,48 @@ CAMPAIGN_COLUMNS = ("week_rule", "phase_bins", "sites", "campaign_events")
 
 def check_campaign(cells: Cells) -> dict:
     """Engine columns ``week_rule`` (text, "" = default), ``phase_bins`` (0 = none), ``sites``
-    (default 1) and ``campaign_events`` (a dict event -> count per target)."""
+    (default 1) and ``campaign_events`` (a dict event -> count per target; rows whose cells read
+    the same share one dict, to be read, not changed)."""
     rows = cells.rows
-    rules = []
-    for row, text in zip(rows, cells.text("week_rule")):
-        word = text.strip().lower()
-        if word and word not in WEEK_RULE_WORDS:
-            cells.err(row, "week_rule", f"{text!r} is not a week rule; expected every, best or first", text)
-            word = ""
-        rules.append(word)
+    codes, texts = cells.codes("week_rule")
+    words = [t.strip().lower() for t in texts]
+    known = [not w or w in WEEK_RULE_WORDS for w in words]
+    bad = ~np.array(known, dtype=bool)[codes]
+    for row, code in zip(rows[bad], codes[bad]):
+        cells.err(row, "week_rule", f"{texts[code]!r} is not a week rule; expected every, best or first", texts[code])
+    rules = Coded(codes, [w if ok else "" for w, ok in zip(words, known)])
     bins = cells.numeric("phase_bins", default=0.0)
     bad = ~((bins == 0) | ((bins >= 2) & (np.mod(bins, 1.0) == 0)))
-    for row, v in zip(rows[bad], cells.text("phase_bins")[bad]):
+    for row, v in zip(rows[bad], cells.text_at("phase_bins", bad)):
         cells.err(row, "phase_bins", f"{v} is not a whole number of phase bins >= 2", v)
     sites = cells.numeric("sites", default=1.0)
     bad_sites = ~((sites >= 1) & (np.mod(sites, 1.0) == 0))
-    for row, v in zip(rows[bad_sites], cells.text("sites")[bad_sites]):
+    for row, v in zip(rows[bad_sites], cells.text_at("sites", bad_sites)):
         cells.err(row, "sites", f"{v} is not a whole number of sites >= 1", v)
-    wanted = []
-    for row, text in zip(rows, cells.text("campaign_events")):
-        counts = {}
-        for item in (p.strip() for p in text.split(";") if p.strip()):
-            name, _, n = item.partition(":")
-            event = canonical_event(name.strip().lower()) or ""
-            if event not in ALL_EVENTS or not n.strip().isdigit() or int(n) < 1:
-                cells.err(row, "campaign_events", f"{item!r} is not event:count; expected e.g. "
-                          "primary_conjunction:4 or transit:3;periastron:1", text)
-                continue
-            counts[event] = int(n)
-        wanted.append(counts)
-    return {"week_rule": np.asarray(rules, dtype=object),
+    codes, texts = cells.codes("campaign_events")
+    parsed = [_campaign_counts(t) for t in texts]
+    wrong = np.array([bool(p[1]) for p in parsed], dtype=bool)[codes]
+    for row, code in zip(rows[wrong], codes[wrong]):
+        for item in parsed[code][1]:
+            cells.err(row, "campaign_events", f"{item!r} is not event:count; expected e.g. "
+                      "primary_conjunction:4 or transit:3;periastron:1", texts[code])
+    counts = np.empty(len(parsed), dtype=object)
+    for i, p in enumerate(parsed):
+        counts[i] = p[0]
+    return {"week_rule": rules,
             "phase_bins": np.where(bad, 0, bins).astype(np.int64),
             "sites": np.where(bad_sites, 1, sites).astype(np.int64),
-            "campaign_events": np.asarray(wanted + [None], dtype=object)[:-1]}
+            "campaign_events": counts[codes]}
+
+
+def _campaign_counts(text):
+    """({event: count}, items that are not event:count) of a ``campaign_events`` cell."""
+    counts, bad = {}, []
+    for item in (p.strip() for p in text.split(";") if p.strip()):
+        name, _, n = item.partition(":")
+        event = canonical_event(name.strip().lower()) or ""
+        if event not in ALL_EVENTS or not n.strip().isdigit() or int(n) < 1:
+            bad.append(item)
+            continue
+        counts[event] = int(n)
+    return counts, bad

@@ -82,20 +82,20 @@ absent; ``epoch_tension_sigma`` is the disagreement of two epochs in combined si
 
 from __future__ import annotations
 
-import csv
 import difflib
-import io
 import warnings
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
 
 from ..errors import InputError, InputErrors
 from . import binary_checks
 from . import catalogue_checks as checks
 from .campaign_checks import check_campaign
 from .catalogue_checks import EPOCH_COLUMNS, parse_angle
-from .textfile import decode_text, read_bytes
+from .csv_records import read_records
+from .textfile import read_bytes, utf8_bytes
 
 __all__ = ["KNOWN_COLUMNS", "OUTPUT_COLUMNS", "load_columns", "parse_angle", "parse_catalogue", "read_catalogue"]
 
@@ -115,6 +115,8 @@ NUMERIC_COLUMNS = (
 TEXT_COLUMNS = ("name", "ra", "dec", "time_system", "omega_of", "events", "label", "notes", "observe",
                 "full_coverage", "week_rule", "campaign_events", "rv_phases") + binary_checks.TEXT_COLUMNS
 KNOWN_COLUMNS = TEXT_COLUMNS + NUMERIC_COLUMNS
+#: Columns a CSV reader may read as numbers (coordinates are numbers unless sexagesimal).
+NUMBER_COLUMNS = frozenset(NUMERIC_COLUMNS + ("ra", "dec"))
 
 OUTPUT_COLUMNS = (
     "name", "ra_deg", "dec_deg", "ephemeris", "period_d", "period_err_d", "e", "e_err",
@@ -157,76 +159,20 @@ def parse_catalogue(data, source: str = "<catalogue>") -> pd.DataFrame:
 
     The delimiter is the one of ``,``, ``;`` or tab that the header row uses most. Rows are
     numbered as a spreadsheet shows them: the header is row 1, every record is one row (a quoted
-    cell with line breaks inside is still one row), comment and blank lines count as rows.
+    cell with line breaks inside is still one row), comment and blank lines count as rows
+    (:mod:`planner.inputs.csv_records`).
     """
     if isinstance(data, bytes):
-        data = decode_text(data, source, "a CSV catalogue with a header row")
-    header, rows, row_numbers, delimiter, header_row = _split_rows(data, source)
+        data = utf8_bytes(data, source, "a CSV catalogue with a header row")
+    records = read_records(data, source, numeric=lambda h: h.strip().lower() in NUMBER_COLUMNS)
     errors: list[InputError] = []
-    width = len(header)
-    for row_number, row in zip(row_numbers, rows):
-        if len(row) > width:
-            sep = {",": "comma", ";": "semicolon", "\t": "tab"}[delimiter]
-            errors.append(InputError(
-                f"{len(row)} fields but the header has {width}; check for an unquoted {sep}",
-                file=source, row=row_number))
-    padded = [row[:width] + [""] * (width - len(row)) for row in rows]
-    values = [np.array([r[i].strip() for r in padded], dtype=object) for i in range(width)]
-    return load_columns(header, values, np.array(row_numbers, dtype=np.int64), source,
-                        header_row=header_row, errors=errors)
-
-
-def _split_rows(text: str, source: str):
-    """(header, records, row numbers, delimiter, header row) of CSV text; comment and blank rows dropped.
-
-    The text is parsed whole by the csv reader, so a quoted cell may hold line breaks. A line
-    that starts with ``#`` where a record would begin is a comment and is dropped before the
-    reader sees it (a quote inside a comment cannot swallow the lines after it); a ``#`` inside a
-    quoted cell is text.
-    """
-    state = {"row": 0, "at_start": True}
-
-    def lines():
-        for line in io.StringIO(text, newline=""):
-            if state["at_start"] and line.lstrip().startswith("#"):
-                state["row"] += 1
-                continue
-            state["at_start"] = False
-            yield line
-
-    delimiter = _delimiter(text)
-    records, numbers = [], []
-    try:
-        for record in csv.reader(lines(), delimiter=delimiter, strict=True):
-            state["row"] += 1
-            state["at_start"] = True
-            if "".join(record).strip():
-                records.append(record)
-                numbers.append(state["row"])
-    except csv.Error as exc:
-        reason = str(exc)
-        if "unexpected end of data" in reason:
-            reason = 'a quote (") opened in this row is never closed; the rest of the file would be one cell'
-        elif "expected after" in reason:
-            reason = ('text follows a closing quote ("); inside a quoted cell write a quote twice (""), '
-                      "or do not quote the cell")
-        raise InputErrors([InputError(f"not readable as CSV: {reason}", file=source, row=state["row"] + 1)]) from None
-    if not records:
-        raise InputErrors([InputError(
-            "empty catalogue; expected a header row such as 'name,ra,dec,period_d,e,omega_deg,tp' "
-            "and one row per target", file=source)])
-    header = [h.strip() for h in records[0]]
-    return header, records[1:], numbers[1:], delimiter, numbers[0]
-
-
-def _delimiter(text: str) -> str:
-    """``,``, ``;`` or tab: the one the first non-comment line holds most often (``,`` on a tie)."""
-    for line in io.StringIO(text, newline=""):
-        if line.strip() and not line.lstrip().startswith("#"):
-            counts = {d: line.count(d) for d in (",", ";", "\t")}
-            best = max(counts, key=lambda d: (counts[d], d == ","))
-            return best if counts[best] else ","
-    return ","
+    width = len(records.header)
+    sep = {",": "comma", ";": "semicolon", "\t": "tab"}[records.delimiter]
+    for row_number, count in zip(records.rows[records.widths > width], records.widths[records.widths > width]):
+        errors.append(InputError(f"{count} fields but the header has {width}; check for an unquoted {sep}",
+                                 file=source, row=int(row_number)))
+    return load_columns(records.header, records.columns, records.rows, source, header_row=records.header_row,
+                        errors=errors)
 
 
 def load_columns(header, values, rows, source, header_row=None, units=None, errors=None) -> pd.DataFrame:
@@ -254,15 +200,15 @@ def load_columns(header, values, rows, source, header_row=None, units=None, erro
             v, notes[eng] = to_engine_unit(v, unit, eng, h, source, errors)
         frame_cols[eng] = v
         names[eng] = h
-    frame = pd.DataFrame(frame_cols, index=pd.Index(rows, name="row"))
-    result = _validate(checks.Cells(frame, source, errors, names=names, notes={k: v for k, v in notes.items() if v}))
+    result, n_events = _validate(checks.Cells(frame_cols, rows, source, errors, names=names,
+                                    notes={k: v for k, v in notes.items() if v}))
     if errors:
         order = {h: i for i, h in enumerate(header)}
         errors.sort(key=lambda err: (err.row or 0, order.get(err.column, -1)))
         raise InputErrors(errors)
     for h, v in extras.items():
         result[h] = _extra_column(v)
-    none = [int(r) for r, evs in zip(rows, result["events"]) if not evs]
+    none = [int(r) for r in np.asarray(rows)[n_events == 0]]
     if none:
         shown = ", ".join(map(str, none[:5])) + (f" and {len(none) - 5} more" if len(none) > 5 else "")
         warnings.warn(f"{source}: row{'s' if len(none) > 1 else ''} {shown}: no event to predict (a circular "
@@ -271,15 +217,27 @@ def load_columns(header, values, rows, source, header_row=None, units=None, erro
     return result
 
 
-def _extra_column(values: np.ndarray) -> np.ndarray:
+def _extra_column(values):
     """A column periplan does not use, as carried on the target table: floats when every cell is a number."""
-    if values.dtype.kind == "f":
+    if isinstance(values, np.ndarray) and values.dtype.kind == "f":
         return values
-    text = pd.Series(values, dtype=object).astype(str)
-    numbers = pd.to_numeric(text.where(text != "", None), errors="coerce")
-    if ((text == "") | numbers.notna()).all() and (text != "").any():
-        return numbers.to_numpy(float)
-    return text.to_numpy(object)
+    cells = checks.Cells({"x": values}, np.arange(len(values)), "", [])
+    numbers = checks.all_numbers(cells.strings("x"))
+    return numbers if numbers is not None else _str_column(cells.strings("x"))
+
+
+#: Engine columns of text (the default pandas text dtype on the target table).
+TEXT_OUTPUT_COLUMNS = ("name", "ephemeris", "epoch_kind", "time_system", "label", "observe", "week_rule",
+                       "shape_kind", "period_kind", "epoch2_kind")
+
+
+def _str_column(strings):
+    """A pandas column of the default text dtype from text: pyarrow, :class:`Coded` or an array of str."""
+    if isinstance(strings, checks.Coded):
+        strings = strings.strings()
+    elif not isinstance(strings, pa.Array):
+        strings = pa.array(np.asarray(strings, dtype=object), type=pa.large_string())
+    return pd.array(strings.cast(pa.large_string()), dtype="str")
 
 
 #: Columns named for their unit (``period_d``) by the name without it (``period``): a table
@@ -368,8 +326,8 @@ def _check_header(header, source, header_row=1, has_unit=None):
     return engine
 
 
-def _validate(cells: checks.Cells) -> pd.DataFrame:
-    """The target table (:data:`OUTPUT_COLUMNS`) from the raw cells, one validator per concern."""
+def _validate(cells: checks.Cells):
+    """(target table (:data:`OUTPUT_COLUMNS`), events per row) from the raw cells, one validator per concern."""
     names = checks.check_names(cells)
     ra, dec = checks.check_coordinates(cells)
     period, period_err = checks.check_period(cells)
@@ -386,7 +344,7 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
     observing = checks.check_observing(cells)
     duration, a_rstar, inc, rp = checks.check_geometry(cells, e, omega)
     eclipse = np.isfinite(duration) | (np.isfinite(a_rstar) & np.isfinite(inc) & np.isfinite(rp))
-    events, labels = checks.check_events(cells, linear, e, rv=np.isfinite(observing["k_ms"]) & (observing["k_ms"] > 0),
+    events, labels, n_events = checks.check_events(cells, linear, e, rv=np.isfinite(observing["k_ms"]) & (observing["k_ms"] > 0),
                                          eclipse=eclipse)
     requests = checks.check_requests(cells, linear, duration, a_rstar, observing["k_ms"])
     campaign = check_campaign(cells)
@@ -401,26 +359,28 @@ def _validate(cells: checks.Cells) -> pd.DataFrame:
     tp[linear] = np.nan
 
     binary = {
-        "shape_kind": shape[0].astype(str), "shape_x": shape[1], "shape_y": shape[2], "shape_x_err": shape[3],
+        "shape_kind": shape[0], "shape_x": shape[1], "shape_y": shape[2], "shape_x_err": shape[3],
         "shape_y_err": shape[4], "omega_dot_deg_d": omega_dot, "omega_dot_err_deg_d": omega_dot_err,
         "period_kind": period_kind, "epoch2_kind": kind2, "epoch2_bjd_tdb": epoch2, "epoch2_err_d": epoch2_err,
         "epoch_tension_sigma": np.full(len(names), np.nan),
         **dict(zip(("p3_d", "t3_bjd_tdb", "e3", "omega3_deg", "ltte_amp_d"), third)),
     }
-    table = pd.DataFrame({
+    columns = {
         "name": names, "ra_deg": ra, "dec_deg": dec,
-        "ephemeris": np.where(linear, "linear", "orbit"),
+        "ephemeris": checks.Coded.choose(("orbit", "linear"), linear),
         "period_d": period, "period_err_d": period_err,
         "e": np.where(linear, np.nan, e), "e_err": e_err,
         "omega_deg": np.where(linear, np.nan, omega), "omega_err_deg": omega_err,
-        "epoch_kind": epoch_kind.astype(str), "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
+        "epoch_kind": epoch_kind, "epoch_bjd_tdb": epoch_bjd, "epoch_err_d": epoch_err,
         "tp_bjd_tdb": tp, "time_system": system, "events": events, "duration_h": duration,
         "a_rstar": a_rstar, "inc_deg": inc, "rp_rstar": rp, "label": labels, **observing, **binary,
         "events_given": cells.given("events"), **requests, **campaign, **phases,
-    }, columns=list(OUTPUT_COLUMNS))
+    }
+    table = pd.DataFrame({c: _str_column(columns[c]) if c in TEXT_OUTPUT_COLUMNS else columns[c]
+                          for c in OUTPUT_COLUMNS})
     if (kind2 != "").any() and not cells.errors:
         from ..orbits.binary_events import epoch_tension_sigma
 
         table["epoch_tension_sigma"] = epoch_tension_sigma(table)
         binary_checks.check_epoch_agreement(cells, table["epoch_tension_sigma"].to_numpy(float), kind2)
-    return table
+    return table, n_events

@@ -16,11 +16,14 @@ import re
 
 import numpy as np
 import pandas as pd
+import pyarrow as pa
+import pyarrow.compute as pc
 
 from ..errors import InputError
 from ..orbits.geometry import (EVENT_WORDS, ORBIT_EVENTS, PERIODIC_EVENT, PERIODIC_KINDS, canonical_event,
                                periodic_kind)
 from ..timescales import epochs
+from .csv_records import NumberCells
 
 EPOCH_COLUMNS = ("tp", "tc", "t0")
 #: Smallest full Julian date accepted as an epoch (JD 2000000 is 763 AD); anything below it is
@@ -32,80 +35,282 @@ _DECIMAL_COMMA = re.compile(r"^\s*[+-]?\d+,\d+\s*$")
 _SEXAGESIMAL = re.compile(r"^\s*([+-]?)\s*(\d+)[:\s]+(\d+)(?:[:\s]+(\d+(?:\.\d*)?))?\s*$")
 
 
+#: Numbers that the arrow cast reads exactly as Python's ``float`` (both round correctly); cells
+#: of other forms go to :func:`pandas.to_numeric`, one by one.
+_DECIMAL = r"^[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?$"
+
+
 @dataclasses.dataclass
 class Cells:
-    """The raw catalogue (index = row number) with its source name and error list.
+    """The raw catalogue (one entry per record) with its source name and error list.
 
-    Cells are text (``""`` when empty), or floats (NaN when empty) for numeric columns of a
-    table read with its types. ``names`` maps an engine column to the column name the user gave
+    ``columns`` maps an engine column to its cells: text (a pyarrow string array, stripped,
+    ``""`` when empty; a numpy array of str is converted) or floats (a numpy array, NaN when
+    empty) for numeric columns of a table read with its types. ``rows`` is each record's row as
+    messages show it. ``names`` maps an engine column to the column name the user gave
     (``period`` for ``period_d``), ``notes`` to a remark added to its messages (a unit
     conversion); messages name the user's column.
+
+    Every accessor works on whole columns (pyarrow compute, numpy); text is made into Python
+    strings only for the distinct values of a column (:meth:`codes`) and for the cells named in
+    messages (:meth:`text_at`).
     """
 
-    frame: pd.DataFrame
+    columns: dict
+    rows: np.ndarray
     source: str
     errors: list
     names: dict = dataclasses.field(default_factory=dict)
     notes: dict = dataclasses.field(default_factory=dict)
 
-    @property
-    def n(self) -> int:
-        return len(self.frame)
+    def __post_init__(self):
+        self.rows = np.asarray(self.rows, dtype=np.int64)
+        self.columns = {k: _as_cells(v) for k, v in self.columns.items()}
+        self._cache = {}
 
     @property
-    def rows(self) -> np.ndarray:
-        return self.frame.index.to_numpy()
+    def n(self) -> int:
+        return len(self.rows)
+
+    def has(self, column) -> bool:
+        return column in self.columns
 
     def err(self, row, column, message, value=None) -> None:
         self.errors.append(InputError(message + self.notes.get(column, ""), file=self.source, row=int(row),
                                       column=self.names.get(column, column), value=value))
 
     def _is_float(self, column) -> bool:
-        return column in self.frame and self.frame[column].dtype.kind == "f"
+        return isinstance(self.columns.get(column), (np.ndarray, NumberCells))
+
+    def strings(self, column):
+        """The column's cells as a pyarrow string array (floats as their shortest text, ``""`` for NaN)."""
+        if column not in self.columns:
+            return pa.array(np.full(self.n, "", dtype=object), type=pa.string())
+        values = self.columns[column]
+        if isinstance(values, (np.ndarray, NumberCells)):
+            return pa.array(self.text(column), type=pa.string())
+        return values
 
     def text(self, column) -> np.ndarray:
-        """The column's text cells (``""`` for every row when the column is absent)."""
-        if column not in self.frame:
-            return np.full(self.n, "", dtype=object)
-        if self._is_float(column):
-            values = self.frame[column].to_numpy(float)
-            return np.array(["" if np.isnan(v) else _float_text(v) for v in values], dtype=object)
-        return self.frame[column].astype(str).to_numpy()
+        """The column's text cells as str objects (``""`` for every row when the column is absent)."""
+        return self.text_at(column, np.arange(self.n))
+
+    def text_at(self, column, where) -> np.ndarray:
+        """The text of the cells at ``where`` (a boolean mask or indices) as str objects."""
+        where = np.flatnonzero(where) if np.asarray(where).dtype == bool else np.asarray(where, dtype=np.int64)
+        if column not in self.columns:
+            return np.full(len(where), "", dtype=object)
+        values = self.columns[column]
+        if isinstance(values, NumberCells):
+            return np.array(values.text(where) + [None], dtype=object)[:-1]
+        if isinstance(values, np.ndarray):
+            return np.array(["" if np.isnan(v) else _float_text(v) for v in values[where]], dtype=object)
+        return np.array(values.take(pa.array(where)).to_pylist() + [None], dtype=object)[:-1]
 
     def given(self, column) -> np.ndarray:
         """True where the column exists and its cell is not empty."""
-        if self._is_float(column):
-            return ~np.isnan(self.frame[column].to_numpy(float))
-        return self.text(column) != ""
+        if column not in self.columns:
+            return np.zeros(self.n, bool)
+        key = ("given", column)
+        if key not in self._cache:
+            values = self.columns[column]
+            if isinstance(values, NumberCells):
+                self._cache[key] = values.given
+            elif isinstance(values, np.ndarray):
+                self._cache[key] = ~np.isnan(values)
+            else:
+                self._cache[key] = _nonempty(values)
+        return self._cache[key]
+
+    def codes(self, column, transform=None):
+        """(codes, values): the column's distinct texts and each cell's index into them.
+
+        ``transform`` (e.g. ``str.lower``) is applied to each distinct text first; ``values`` is
+        a list of str, ``codes`` an int64 array with one entry per record.
+        """
+        key = ("codes", column, transform)
+        if key in self._cache:
+            return self._cache[key]
+        if column not in self.columns:
+            codes, values = np.zeros(self.n, np.int64), [""]
+        elif isinstance(self.columns[column], np.ndarray):
+            codes, uniques = pd.factorize(self.columns[column], use_na_sentinel=False)
+            values = ["" if np.isnan(v) else _float_text(v) for v in uniques]
+        else:
+            encoded = pc.dictionary_encode(self.strings(column))
+            codes, values = encoded.indices.to_numpy().astype(np.int64), encoded.dictionary.to_pylist()
+        if transform is not None:
+            values = [transform(v) for v in values]
+        if len(set(values)) < len(values):  # merge texts that the transform made equal
+            index = {}
+            remap = np.array([index.setdefault(v, len(index)) for v in values], dtype=np.int64)
+            codes, values = remap[codes], list(index)
+        if not values:
+            values = [""]
+        self._cache[key] = (codes, values)
+        return codes, values
+
+    def coded(self, column, function, transform=None) -> Coded:
+        """``function`` of each cell's text (after ``transform``) as :class:`Coded` text."""
+        codes, values = self.codes(column, transform)
+        return Coded(codes, [function(v) for v in values])
+
+    def lookup(self, column, function, transform=None, dtype=None) -> np.ndarray:
+        """``function`` of each cell's text (after ``transform``), evaluated once per distinct text."""
+        codes, values = self.codes(column, transform)
+        table = np.array([function(v) for v in values], dtype=dtype)
+        return table[codes]
+
+    def _numbers(self, column):
+        key = ("numbers", column)
+        if key not in self._cache:
+            values = self.columns[column]
+            if isinstance(values, NumberCells):
+                values = values.values
+            self._cache[key] = values if isinstance(values, np.ndarray) else _text_to_float(values)
+        return self._cache[key]
 
     def numeric(self, column, default=np.nan, positive=False, nonnegative=False) -> np.ndarray:
         """Column as floats; bad cells become NaN (or ``default``) and an InputError each."""
-        if column not in self.frame:
+        if column not in self.columns:
             return np.full(self.n, default, dtype=float)
-        if self._is_float(column):
-            values = self.frame[column].to_numpy(float, copy=True)
-            bad_number = np.isinf(values)
-            text = pd.Series(self.text(column), index=self.frame.index) if bad_number.any() or positive or nonnegative \
-                else None
-        else:
-            text = self.frame[column].astype(str)
-            values = pd.to_numeric(text.where(text != "", None), errors="coerce").to_numpy(dtype=float, copy=True)
-            bad_number = (text != "").to_numpy() & ~np.isfinite(values)
-        for row, v in zip(self.frame.index[bad_number], text[bad_number] if bad_number.any() else ()):
+        values = self._numbers(column).copy()
+        bad_number = self.given(column) & ~np.isfinite(values)
+        for row, v in zip(self.rows[bad_number], self.text_at(column, bad_number)):
             hint = " (a decimal comma? write numbers with a decimal point)" if _DECIMAL_COMMA.match(v) else ""
             self.err(row, column, f"{v!r} is not a number{hint}", v)
         values[bad_number] = np.nan
         if positive:
             bad = values <= 0
-            for row, v in zip(self.frame.index[bad], text[bad]):
+            for row, v in zip(self.rows[bad], self.text_at(column, bad)):
                 self.err(row, column, f"{v} must be positive", v)
             values[bad] = np.nan
         if nonnegative:
             bad = values < 0
-            for row, v in zip(self.frame.index[bad], text[bad]):
+            for row, v in zip(self.rows[bad], self.text_at(column, bad)):
                 self.err(row, column, f"{v} must not be negative (it is a 1-sigma uncertainty)", v)
             values[bad] = np.nan
         return np.where(np.isnan(values), default, values) if not np.isnan(default) else values
+
+
+class Coded:
+    """Text per row as an index into its few distinct values (a column the loader computes).
+
+    Compares with a str (``kind == "tc"`` gives a boolean array), selects with a mask or indices
+    (an array of str), and becomes a table column without a Python string per row.
+    """
+
+    def __init__(self, codes, values):
+        values = list(values)
+        index = {}
+        remap = np.array([index.setdefault(v, len(index)) for v in values] or [0], dtype=np.int64)
+        self.codes = remap[np.asarray(codes, dtype=np.int64)]
+        self.values = tuple(index) or ("",)
+
+    @classmethod
+    def choose(cls, values, index):
+        """Row i gets ``values[index[i]]``."""
+        return cls(index, values)
+
+    def __len__(self):
+        return len(self.codes)
+
+    def __eq__(self, text):
+        return self.codes == self.values.index(text) if text in self.values else np.zeros(len(self.codes), bool)
+
+    def __ne__(self, text):
+        return ~(self == text)
+
+    def isin(self, texts) -> np.ndarray:
+        return np.isin(self.codes, [i for i, v in enumerate(self.values) if v in texts])
+
+    def __getitem__(self, where):
+        return np.array(self.values, dtype=object)[self.codes[where]]
+
+    def array(self) -> np.ndarray:
+        return self[slice(None)]
+
+    def strings(self):
+        """The column as a pyarrow large_string array."""
+        return pc.take(pa.array(self.values, type=pa.large_string()), pa.array(self.codes))
+
+
+def _as_cells(values):
+    """A column as :class:`Cells` keeps it: float numpy arrays as they are, text as a pyarrow string array."""
+    if isinstance(values, NumberCells):
+        return values
+    if isinstance(values, (pa.Array, pa.ChunkedArray)):
+        values = values.combine_chunks() if isinstance(values, pa.ChunkedArray) else values
+        return values if values.type == pa.string() else values.cast(pa.string())
+    values = np.asarray(values)
+    if values.dtype.kind == "f":
+        return values.astype(float, copy=False)
+    return pa.array(values.astype(object), type=pa.string())
+
+
+def _nonempty(strings) -> np.ndarray:
+    """True for the text cells that are not empty."""
+    return pc.greater(pc.binary_length(strings), 0).to_numpy(zero_copy_only=False)
+
+
+def _without(strings, keep: np.ndarray):
+    """The text cells with the ones not in ``keep`` made null (no copy of the text)."""
+    if strings.null_count:
+        keep = keep & strings.is_valid().to_numpy(zero_copy_only=False)
+    bitmap = pa.py_buffer(np.packbits(keep, bitorder="little"))
+    return pa.Array.from_buffers(strings.type, len(strings), [bitmap] + strings.buffers()[1:],
+                                 offset=0) if strings.offset == 0 else pc.if_else(
+        pa.array(keep), strings, pa.scalar(None, strings.type))
+
+
+def all_numbers(strings):
+    """Floats (NaN for empty cells) of text cells that are all numbers or empty, at least one a
+    number; else None. The same reading as :func:`_text_to_float`, stopping at the first cell
+    that is not a number (a column of words is seen as such at its first word)."""
+    given = _nonempty(strings)
+    if not given.any():
+        return None
+    cells = _without(strings, given)
+    try:
+        out = pc.cast(cells, pa.float64()).to_numpy(zero_copy_only=False, writable=True)
+        return None if np.isnan(out[given]).any() else out
+    except pa.ArrowInvalid:
+        pass
+    decimal = pc.match_substring_regex(cells, _DECIMAL).fill_null(False).to_numpy(zero_copy_only=False)
+    other = np.flatnonzero(~decimal & given)
+    start, size = 0, 1
+    while start < len(other):  # batches of 1, 2, 4, ... cells: a column of words stops at its first
+        text = pd.Series(strings.take(pa.array(other[start:start + size])).to_pylist(), dtype=object)
+        if pd.to_numeric(text, errors="coerce").isna().any():
+            return None
+        start, size = start + size, 2 * size
+    out = _text_to_float(strings)
+    return None if np.isnan(out[given]).any() else out
+
+
+def _text_to_float(strings) -> np.ndarray:
+    """Floats of text cells: NaN for empty cells and for text that is not a number (inf/nan as read).
+
+    Decimal numbers (:data:`_DECIMAL`) are cast by arrow, which rounds correctly as Python's
+    ``float`` does; any other non-empty cell (``inf``, ``1_000``, words) goes to
+    :func:`pandas.to_numeric` (NaN when it is not a number).
+    """
+    given = _nonempty(strings)
+    cells = _without(strings, given)
+    try:
+        return pc.cast(cells, pa.float64()).to_numpy(zero_copy_only=False, writable=True)
+    except pa.ArrowInvalid:
+        pass
+    decimal = pc.match_substring_regex(cells, _DECIMAL).fill_null(False).to_numpy(zero_copy_only=False)
+    try:
+        out = pc.cast(_without(strings, decimal), pa.float64()).to_numpy(zero_copy_only=False, writable=True)
+    except pa.ArrowInvalid:  # a form the cast refuses after all: every cell one by one
+        out, decimal = np.full(len(strings), np.nan), np.zeros(len(strings), bool)
+    other = np.flatnonzero(~decimal & given)
+    if len(other):
+        text = pd.Series(strings.take(pa.array(other)).to_pylist(), dtype=object)
+        out[other] = pd.to_numeric(text, errors="coerce").to_numpy(dtype=float)
+    return out
 
 
 def _float_text(value: float) -> str:
@@ -139,29 +344,105 @@ def parse_angle(text: str, hours: bool) -> float:
     return value
 
 
-def check_names(cells: Cells) -> np.ndarray:
-    """Target names: not empty, unique in the file."""
-    rows, names = cells.rows, cells.text("name")
-    for row in rows[names == ""]:
+def check_names(cells: Cells):
+    """Target names (a pyarrow string array): not empty, unique in the file."""
+    rows, names, given = cells.rows, cells.strings("name"), cells.given("name")
+    for row in rows[~given]:
         cells.err(row, "name", "empty target name")
-    dup = pd.Series(names).duplicated(keep="first").to_numpy() & (names != "")
-    first_row = {}
-    for row, nm in zip(rows, names):
-        first_row.setdefault(nm, row)
-    for row, nm in zip(rows[dup], names[dup]):
-        cells.err(row, "name", f"duplicate target name {nm!r} (first at row {first_row[nm]}); names must be unique", nm)
+    encoded = pc.dictionary_encode(names)
+    if len(encoded.dictionary) < cells.n:
+        codes = encoded.indices.to_numpy().astype(np.int64)
+        _, first = np.unique(codes, return_index=True)
+        position = np.arange(cells.n)
+        dup = (position != first[codes]) & given
+        for row, nm, at in zip(rows[dup], cells.text_at("name", dup), first[codes[dup]]):
+            cells.err(row, "name", f"duplicate target name {nm!r} (first at row {rows[at]}); names must be unique",
+                      nm)
     return names
 
 
+#: Sexagesimal angles of the plainest form (ASCII digits, ``:`` or spaces between the parts),
+#: read by arrow; every other form goes through :func:`parse_angle` one cell at a time.
+_PLAIN_SEXAGESIMAL = (r"^(?P<sign>[+-]?) *(?P<a>[0-9]{1,15})[: ]+(?P<b>[0-9]{1,15})"
+                      r"(?:[: ]+(?P<c>[0-9]{1,15}(?:\.[0-9]{0,17})?))?$")
+
+
+#: ... and the usual form of those, ``[+-]d:m`` or ``[+-]d:m:s``, split at its colons.
+_COLON_SEXAGESIMAL = r"^[+-]?[0-9]{1,15}:[0-9]{1,15}(?::[0-9]{1,15}(?:\.[0-9]{0,17})?)?$"
+
+
+def _plain_angles(strings, hours: bool):
+    """(degrees, ok) of text cells of decimal or plain sexagesimal angles, as :func:`parse_angle`
+    reads them; ``ok`` is False where a cell needs parse_angle itself (its other forms, its errors).
+    ``hours``: a sexagesimal right ascension (hours, no sign, below 24)."""
+    n = len(strings)
+    try:  # a column of decimal degrees (what the cast reads, Python's float reads the same)
+        out = pc.cast(strings, pa.float64()).to_numpy(zero_copy_only=False, writable=True)
+        return out, np.isfinite(out)
+    except pa.ArrowInvalid:
+        pass
+    decimal = pc.match_substring_regex(strings, _DECIMAL).to_numpy(zero_copy_only=False)
+    out = np.full(n, np.nan)
+    if decimal.any():
+        out[decimal] = pc.cast(strings.filter(pa.array(decimal)), pa.float64()).to_numpy(zero_copy_only=False, writable=True)
+    ok = decimal & np.isfinite(out)
+    rest = np.flatnonzero(~decimal)
+    if len(rest):
+        texts = strings.take(pa.array(rest))
+        colons = pc.match_substring_regex(texts, _COLON_SEXAGESIMAL).to_numpy(zero_copy_only=False)
+        if colons.any():  # the usual form, split at its colons
+            parts = pc.split_pattern(texts.filter(pa.array(colons)), ":")
+            count = pc.list_value_length(parts).to_numpy()
+            start = np.concatenate([[0], np.cumsum(count)[:-1]])
+            numbers = pc.cast(pc.list_flatten(parts), pa.float64()).to_numpy(zero_copy_only=False)
+            sign = pc.utf8_slice_codeunits(texts.filter(pa.array(colons)), 0, 1).to_numpy(zero_copy_only=False)
+            sign = np.where(np.isin(sign, ["+", "-"]), sign, "")
+            c = np.where(count == 3, numbers[np.minimum(start + 2, len(numbers) - 1)], 0.0)
+            _place_sexagesimal(out, ok, rest[colons], sign, np.abs(numbers[start]), numbers[start + 1], c, hours)
+        others = rest[~colons]
+        if len(others):
+            parts = pc.extract_regex(strings.take(pa.array(others)), _PLAIN_SEXAGESIMAL)
+            matched = parts.is_valid().to_numpy(zero_copy_only=False)
+            if matched.any():
+                parts = parts.filter(pa.array(matched))
+                c_text = parts.field("c")
+                a, b, c = (pc.cast(x, pa.float64()).to_numpy(zero_copy_only=False)
+                           for x in (parts.field("a"), parts.field("b"), pc.if_else(pc.equal(c_text, ""), "0", c_text)))
+                _place_sexagesimal(out, ok, others[matched], parts.field("sign").to_numpy(zero_copy_only=False), a, b,
+                                   c, hours)
+    return out, ok
+
+
+def _place_sexagesimal(out, ok, at, sign, a, b, c, hours: bool):
+    """Angles (degrees) of sexagesimal parts a, b, c with their signs into ``out[at]``, as
+    :func:`parse_angle` computes them; ``ok`` False where parse_angle refuses the angle."""
+    value = a + b / 60.0 + c / 3600.0
+    good = (b < 60) & (c < 60)
+    if hours:
+        good &= (sign == "") & (value < 24)
+        value = 15.0 * value
+    else:
+        value = np.where(sign == "-", -value, value)
+    out[at] = value
+    ok[at] = good
+
+
 def _angles(cells: Cells, column: str, is_ra: bool, expected: str) -> np.ndarray:
-    out = np.full(cells.n, np.nan)
     what = "right ascension" if is_ra else "declination"
-    for i, (row, text) in enumerate(zip(cells.rows, cells.text(column))):
+    if cells._is_float(column):
+        out = cells._numbers(column).copy()
+        ok = np.isfinite(out)
+    elif cells.has(column):
+        out, ok = _plain_angles(cells.columns[column], hours=is_ra)
+    else:
+        out, ok = np.full(cells.n, np.nan), np.zeros(cells.n, bool)
+    out[~ok] = np.nan
+    for i, text in zip(np.flatnonzero(~ok), cells.text_at(column, ~ok)):
         try:
             out[i] = parse_angle(text, hours=is_ra and (":" in text or " " in text.strip()))
         except ValueError as exc:
             reason = str(exc) if "could not convert" not in str(exc) else "not a number"
-            cells.err(row, column, f"{text!r} is not a {what} ({reason}); expected {expected}", text)
+            cells.err(cells.rows[i], column, f"{text!r} is not a {what} ({reason}); expected {expected}", text)
     return out
 
 
@@ -169,12 +450,12 @@ def check_coordinates(cells: Cells):
     """(ra_deg, dec_deg): ICRS degrees from decimal degrees or sexagesimal text; NaN where bad."""
     ra = _angles(cells, "ra", True, "degrees 0-360 or hh:mm:ss.s")
     bad = np.isfinite(ra) & ~((ra >= 0.0) & (ra < 360.0))
-    for row, text in zip(cells.rows[bad], cells.text("ra")[bad]):
+    for row, text in zip(cells.rows[bad], cells.text_at("ra", bad)):
         cells.err(row, "ra", f"{text} is outside 0 <= ra < 360 deg", text)
     ra[bad] = np.nan
     dec = _angles(cells, "dec", False, "degrees or +dd:mm:ss")
     bad = np.isfinite(dec) & ~((dec >= -90.0) & (dec <= 90.0))
-    for row, text, r in zip(cells.rows[bad], cells.text("dec")[bad], ra[bad]):
+    for row, text, r in zip(cells.rows[bad], cells.text_at("dec", bad), ra[bad]):
         hint = " (are ra and dec swapped?)" if -90 <= r <= 90 else ""
         cells.err(row, "dec", f"{text} is outside -90..+90 deg{hint}", text)
     dec[bad] = np.nan
@@ -222,11 +503,11 @@ def check_shape(cells: Cells):
         cells.err(row, "e", "missing eccentricity (omega_deg is given); leave both empty for a linear ephemeris")
     e = np.where(bad_e, np.nan, e)
 
-    omega_of = np.char.lower(cells.text("omega_of").astype(str))
-    bad_of = ~np.isin(omega_of, ["", "primary", "companion"])
-    for row, v in zip(rows[bad_of], omega_of[bad_of]):
-        cells.err(row, "omega_of", f"{str(v)!r} is not allowed; expected 'primary' or 'companion'", v)
-    omega = np.where(omega_of == "companion", omega + 180.0, omega)
+    codes, words = cells.codes("omega_of", str.lower)
+    bad_of = np.isin(words, ["", "primary", "companion"], invert=True)[codes]
+    for row, code in zip(rows[bad_of], codes[bad_of]):
+        cells.err(row, "omega_of", f"{words[code]!r} is not allowed; expected 'primary' or 'companion'", words[code])
+    omega = np.where(np.array(words, dtype=object)[codes] == "companion", omega + 180.0, omega)
     omega = np.where(np.isnan(omega) & (e == 0), 90.0, omega)  # circular: Tp = Tc convention
     omega = np.mod(omega, 360.0)
     e_err = cells.numeric("e_err", default=0.0, nonnegative=True)
@@ -243,16 +524,16 @@ def check_epoch(cells: Cells, linear: np.ndarray):
     rows, n = cells.rows, cells.n
     present = {c: cells.given(c) for c in EPOCH_COLUMNS}
     count = sum(present.values())
-    epoch_kind = np.full(n, "", dtype=object)
-    for c in EPOCH_COLUMNS:
-        epoch_kind[present[c]] = c
-    frame = cells.frame
+    kind = np.zeros(n, np.int64)  # index into ("",) + EPOCH_COLUMNS
+    for i, c in enumerate(EPOCH_COLUMNS):
+        kind[present[c]] = i + 1
     for row in rows[count == 0]:
-        cells.err(row, "tp" if "tp" in frame else ("tc" if "tc" in frame else "t0"),
+        cells.err(row, "tp" if cells.has("tp") else ("tc" if cells.has("tc") else "t0"),
                   "missing epoch; give tp (periastron), tc (primary conjunction) or t0 (linear ephemeris)")
     # tp with tc is a row with two epochs: tc is kept here, tp goes to binary_checks.check_second_epoch
     two = present["tp"] & present["tc"] & ~present["t0"] & ~linear
-    epoch_kind[two] = "tc"
+    kind[two] = 1 + EPOCH_COLUMNS.index("tc")
+    epoch_kind = Coded.choose(("",) + EPOCH_COLUMNS, kind)
     for row in rows[(count > 1) & ~two]:
         cells.err(row, "tc", "more than one epoch given (tp, tc, t0); give exactly one, or tc with tp")
     for row in rows[present["t0"] & ~linear]:
@@ -287,9 +568,9 @@ def check_time_system(cells: Cells, full_jd, ra_deg, dec_deg):
     Converted in each target's direction by :func:`planner.timescales.epochs.to_bjd_tdb`; NaN
     where the epoch, the coordinates or the system is bad.
     """
-    system = np.char.upper(cells.text("time_system").astype(str))
-    system = np.where(system == "", "BJD_TDB", system)
-    bad = ~np.isin(system, epochs.TIME_SYSTEMS)
+    system = cells.coded("time_system", lambda v: v or "BJD_TDB", transform=str.upper)
+    bad = cells.lookup("time_system", lambda v: (v or "BJD_TDB") not in epochs.TIME_SYSTEMS, transform=str.upper,
+                       dtype=bool)
     for row, v in zip(cells.rows[bad], system[bad]):
         cells.err(row, "time_system", f"unknown time system {str(v)!r}; expected one of {', '.join(epochs.TIME_SYSTEMS)}", v)
     epoch_bjd = np.full(cells.n, np.nan)
@@ -363,7 +644,8 @@ def default_events(linear, e, rv, eclipse) -> tuple:
 
 
 def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
-    """(events, labels): each row's tuple of wanted event names and the label of its event.
+    """(events, labels, counts): each row's tuple of wanted event names, the label of its event,
+    and how many events the tuple holds.
 
     Words of the ``events`` column may be the usual aliases (``transit``, ``primary_eclipse``,
     ``occultation``, ``secondary_eclipse``; :data:`planner.orbits.geometry.EVENT_ALIASES`); a
@@ -375,36 +657,82 @@ def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
     n = cells.n
     rv = np.zeros(n, bool) if rv is None else np.asarray(rv, bool)
     eclipse = np.zeros(n, bool) if eclipse is None else np.asarray(eclipse, bool)
-    labels = cells.text("label").astype(object)
-    out = []
-    parsed = {}  # cell text -> (unknown words, periodic kinds, wanted names): most rows repeat a few lists
-    for i, (row, t, lin, ecc) in enumerate(zip(cells.rows, cells.text("events"), linear, e)):
-        if not t:
-            out.append(default_events(lin, ecc, rv[i], eclipse[i]))
-            continue
-        if t not in parsed:
-            words = [w.strip() for w in t.split(";") if w.strip()]
-            names = [canonical_event(w) for w in words]
-            parsed[t] = ([w for w, nm in zip(words, names) if nm is None], {nm for nm in names if nm in PERIODIC_KINDS},
-                         tuple(dict.fromkeys(PERIODIC_EVENT if nm in PERIODIC_KINDS else nm for nm in names)))
-        unknown, kinds, wanted = parsed[t]
-        kinds = set(kinds)
-        if unknown:
-            cells.err(row, "events", f"unknown event {unknown[0]!r}; expected a semicolon list of "
-                      f"{', '.join(EVENT_WORDS)}", t)
-        elif lin and set(wanted) - {PERIODIC_EVENT}:
-            cells.err(row, "events", "a linear ephemeris (no e, omega_deg) has only the event 'periodic' "
-                      "(or 'maximum' / 'minimum')", t)
-        elif not lin and PERIODIC_EVENT in wanted:
-            cells.err(row, "events", f"{'/'.join(sorted(kinds)) or 'periodic'!r} is the event of a linear "
-                      "ephemeris; this row has orbital elements", t)
-        elif len(kinds) > 1 or (kinds and labels[i] and periodic_kind(labels[i]) not in ("", *kinds)):
-            cells.err(row, "events", f"the events column says {' and '.join(sorted(kinds))} but the label says "
-                      f"{labels[i]!r}; a linear ephemeris has one event", t)
-        elif kinds and not labels[i]:
-            labels[i] = kinds.pop()
-        out.append(wanted)
-    return out, np.where(labels == "", np.where(linear, "periodic", ""), labels)
+    linear = np.asarray(linear, bool)
+    codes, texts = cells.codes("events")
+    parsed = [_parse_events(t) for t in texts]  # most rows repeat a few lists
+    unknown = np.array([bool(p[0]) for p in parsed])[codes]
+    n_kinds = np.array([len(p[1]) for p in parsed], dtype=np.int64)[codes]
+    other = np.array([bool(set(p[2]) - {PERIODIC_EVENT}) for p in parsed])[codes]
+    periodic = np.array([PERIODIC_EVENT in p[2] for p in parsed])[codes]
+    label_codes, label_texts = cells.codes("label")
+    labelled = np.array([t != "" for t in label_texts])[label_codes]
+    given = np.array([t != "" for t in texts])[codes]
+    open_ = given.copy()  # rows not yet given an error, in the order of the checks below
+    problems = []
+    for kind, mask in (("unknown", unknown), ("linear", linear & other), ("orbit", ~linear & periodic)):
+        hit = open_ & mask
+        problems.append((kind, hit))
+        open_ &= ~hit
+    clash = (n_kinds > 1) | ((n_kinds == 1) & labelled)
+    if (open_ & clash & (n_kinds == 1)).any():  # a label that names the other periodic kind
+        pairs = open_ & clash & (n_kinds == 1)
+        keys = codes[pairs] * len(label_texts) + label_codes[pairs]
+        uniq, inverse = np.unique(keys, return_inverse=True)
+        differs = np.array([periodic_kind(label_texts[k % len(label_texts)])
+                            not in ("", *parsed[k // len(label_texts)][1]) for k in uniq])
+        clash[pairs] = differs[inverse.ravel()]
+    hit = open_ & clash
+    problems.append(("label", hit))
+    open_ &= ~hit
+    for kind, hit in problems:
+        for row, code, lc in zip(cells.rows[hit], codes[hit], label_codes[hit]):
+            t, kinds = texts[code], parsed[code][1]
+            if kind == "unknown":
+                cells.err(row, "events", f"unknown event {parsed[code][0][0]!r}; expected a semicolon list of "
+                          f"{', '.join(EVENT_WORDS)}", t)
+            elif kind == "linear":
+                cells.err(row, "events", "a linear ephemeris (no e, omega_deg) has only the event 'periodic' "
+                          "(or 'maximum' / 'minimum')", t)
+            elif kind == "orbit":
+                cells.err(row, "events", f"{'/'.join(sorted(kinds)) or 'periodic'!r} is the event of a linear "
+                          "ephemeris; this row has orbital elements", t)
+            else:
+                cells.err(row, "events", f"the events column says {' and '.join(sorted(kinds))} but the label says "
+                          f"{label_texts[lc]!r}; a linear ephemeris has one event", t)
+    # the events of each row: its column's, or the defaults of its kind of target
+    choices = [p[2] for p in parsed]
+    default_key = (linear.astype(np.int64) * 8 + (np.asarray(e) > 0) * 4 + rv * 2 + eclipse).astype(np.int64)
+    for key in range(16):
+        choices.append(default_events(bool(key & 8), float(bool(key & 4)), bool(key & 2), bool(key & 1)))
+    table = np.empty(len(choices), dtype=object)
+    for i, choice in enumerate(choices):
+        table[i] = choice
+    index = np.where(given, codes, len(parsed) + default_key)
+    events = table[index]
+    counts = np.array([len(c) for c in choices], dtype=np.int64)[index]
+    # the label: the column's, else the kind the events column names, else "periodic" for a linear ephemeris
+    names = list(label_texts) + list(PERIODIC_KINDS) + ["periodic", ""]
+    single = np.array([next(iter(p[1])) if len(p[1]) == 1 else PERIODIC_KINDS[0] for p in parsed])[codes]
+    kind_code = len(label_texts) + np.searchsorted(np.array(PERIODIC_KINDS), single)
+    named = open_ & (n_kinds == 1) & ~labelled
+    label = np.where(labelled, label_codes, np.where(named, kind_code, np.where(
+        linear, len(names) - 2, len(names) - 1)))
+    return events, Coded(label, names), counts
+
+
+def _report(cells: Cells, column, codes, texts, problems) -> None:
+    """One error per row whose distinct text (``codes`` into ``texts``) has a problem (a message, or None)."""
+    bad = np.array([p is not None for p in problems], dtype=bool)[codes]
+    for row, code in zip(cells.rows[bad], codes[bad]):
+        cells.err(row, column, problems[code], texts[code])
+
+
+def _parse_events(text):
+    """(unknown words, periodic kinds, wanted event names) of an ``events`` cell."""
+    words = [w.strip() for w in text.split(";") if w.strip()]
+    names = [canonical_event(w) for w in words]
+    return ([w for w, nm in zip(words, names) if nm is None], {nm for nm in names if nm in PERIODIC_KINDS},
+            tuple(dict.fromkeys(PERIODIC_EVENT if nm in PERIODIC_KINDS else nm for nm in names)))
 
 
 #: Words of the ``observe`` column: what the observer does for a target.
@@ -429,33 +757,34 @@ def check_requests(cells: Cells, linear, duration_h, a_rstar, k_ms) -> dict:
     rows = cells.rows
     photometric = np.asarray(linear, bool) | np.isfinite(duration_h) | np.isfinite(a_rstar)
     spectroscopic = np.isfinite(k_ms)
-    default = np.where(photometric & ~spectroscopic, "photometry",
-                       np.where(spectroscopic & ~photometric, "rv", "photometry;rv"))
-    observe = []
-    for row, text, d in zip(rows, cells.text("observe"), default):
+    codes, texts = cells.codes("observe")
+    chosen, problem = [], []  # per distinct cell: the words in their order (None: the default), the error
+    for text in texts:
         words = [w.strip().lower() for w in text.split(";") if w.strip()]
         unknown = [w for w in words if w not in OBSERVE_WORDS]
-        if unknown:
-            cells.err(row, "observe", f"unknown observation {unknown[0]!r}; expected photometry, rv or "
-                      "'photometry;rv'", text)
-        observe.append(";".join(w for w in OBSERVE_WORDS if w in words) if words and not unknown else d)
+        chosen.append(";".join(w for w in OBSERVE_WORDS if w in words) if words and not unknown else None)
+        problem.append(f"unknown observation {unknown[0]!r}; expected photometry, rv or 'photometry;rv'"
+                       if unknown else None)
+    _report(cells, "observe", codes, texts, problem)
+    named = np.array([c is not None for c in chosen])[codes]
+    defaults = ("photometry", "rv", "photometry;rv")
+    default_code = np.where(photometric & ~spectroscopic, 0, np.where(spectroscopic & ~photometric, 1, 2))
+    observe = Coded(np.where(named, codes + len(defaults), default_code), defaults + tuple(c or "" for c in chosen))
     fraction = cells.numeric("rv_fraction_k", default=DEFAULT_RV_FRACTION_K)
     bad_fraction = ~((fraction > 0) & (fraction <= 1))
-    for row, v in zip(rows[bad_fraction], cells.text("rv_fraction_k")[bad_fraction]):
+    for row, v in zip(rows[bad_fraction], cells.text_at("rv_fraction_k", bad_fraction)):
         cells.err(row, "rv_fraction_k", f"{v} is outside 0 < fraction <= 1 (a fraction of K)", v)
     visits = cells.numeric("rv_visits", default=float(DEFAULT_RV_VISITS))
     bad_visits = ~((visits >= 1) & (np.mod(visits, 1.0) == 0))
-    for row, v in zip(rows[bad_visits], cells.text("rv_visits")[bad_visits]):
+    for row, v in zip(rows[bad_visits], cells.text_at("rv_visits", bad_visits)):
         cells.err(row, "rv_visits", f"{v} is not a whole number of visits >= 1", v)
     gap = cells.numeric("rv_gap_h", default=DEFAULT_RV_GAP_H, nonnegative=True)
-    full = []
-    for row, text in zip(rows, cells.text("full_coverage")):
-        word = text.strip().lower()
-        if word not in _YES + _NO:
-            cells.err(row, "full_coverage", f"{text!r} is not yes or no", text)
-        full.append(word in _YES)
+    codes, texts = cells.codes("full_coverage")
+    _report(cells, "full_coverage", codes, texts,
+            [None if t.strip().lower() in _YES + _NO else f"{t!r} is not yes or no" for t in texts])
+    full = np.array([t.strip().lower() in _YES for t in texts], dtype=bool)[codes]
     return {
-        "observe": np.asarray(observe, dtype=object),
+        "observe": observe,
         "rv_fraction_k": np.where(bad_fraction, DEFAULT_RV_FRACTION_K, fraction),
         "rv_visits": np.where(bad_visits, DEFAULT_RV_VISITS, visits).astype(np.int64),
         "rv_gap_h": np.where(np.isnan(gap), DEFAULT_RV_GAP_H, gap),
@@ -480,34 +809,38 @@ def check_wanted_phases(cells: Cells, linear) -> dict:
     rows = cells.rows
     tol = cells.numeric("rv_phase_tol", default=DEFAULT_RV_PHASE_TOL)
     bad_tol = ~((tol > 0) & (tol < 0.5))
-    for row, v in zip(rows[bad_tol], cells.text("rv_phase_tol")[bad_tol]):
+    for row, v in zip(rows[bad_tol], cells.text_at("rv_phase_tol", bad_tol)):
         cells.err(row, "rv_phase_tol", f"{v} is outside 0 < tolerance < 0.5 (the half-width of each wanted "
                   "phase's window, in orbits)", v)
-    wanted = []
-    for row, text, lin in zip(rows, cells.text("rv_phases"), linear):
-        phases = []
-        items = [w.strip() for w in str(text).split(";") if w.strip()]
-        if items and lin:
-            cells.err(row, "rv_phases", "wanted orbital phases need an orbit with a periastron (e, omega_deg and "
-                      "tp or tc); this row is a linear ephemeris", text)
-            wanted.append(())
-            continue
-        for item in items:
+    codes, texts = cells.codes("rv_phases")
+    parsed, problem = [], []  # per distinct cell: its phases, its first problem
+    for text in texts:
+        phases, why = [], None
+        for item in (w.strip() for w in text.split(";") if w.strip()):
             try:
                 value = float(item)
             except ValueError:
                 value = math.nan
             if not math.isfinite(value):
                 hint = " (a decimal comma? write numbers with a decimal point)" if _DECIMAL_COMMA.match(item) else ""
-                cells.err(row, "rv_phases", f"{item!r} is not an orbital phase{hint}; expected a ;-list of numbers "
-                          "0 <= phase < 1 such as 0.25;0.75", text)
+                why = why or (f"{item!r} is not an orbital phase{hint}; expected a ;-list of numbers "
+                              "0 <= phase < 1 such as 0.25;0.75")
             elif not 0.0 <= value < 1.0:
-                cells.err(row, "rv_phases", f"{item} is outside 0 <= phase < 1 (mean anomaly / 360 deg after "
-                          "periastron)", text)
+                why = why or f"{item} is outside 0 <= phase < 1 (mean anomaly / 360 deg after periastron)"
             elif value in phases:
-                cells.err(row, "rv_phases", f"phase {item} is listed twice", text)
+                why = why or f"phase {item} is listed twice"
             else:
                 phases.append(value)
-        wanted.append(tuple(phases))
-    return {"rv_phases": np.asarray(wanted + [None], dtype=object)[:-1],
+        parsed.append(tuple(phases))
+        problem.append(why)
+    _report(cells, "rv_phases", codes, texts, problem)
+    wanted = np.asarray(parsed + [None], dtype=object)[:-1][codes]
+    listed = np.array([bool(t.strip()) and p is None for t, p in zip(texts, problem)])[codes]
+    linear_wanted = np.asarray(linear, bool) & listed
+    for row, text in zip(rows[linear_wanted], cells.text_at("rv_phases", linear_wanted)):
+        cells.err(row, "rv_phases", "wanted orbital phases need an orbit with a periastron (e, omega_deg and "
+                  "tp or tc); this row is a linear ephemeris", text)
+    for row in np.flatnonzero(linear_wanted):
+        wanted[row] = ()
+    return {"rv_phases": wanted,
             "rv_phase_tol": np.where(bad_tol, DEFAULT_RV_PHASE_TOL, tol)}

@@ -43,3 +43,20 @@ def decode_text(data: bytes, source: str, expected: str) -> str:
     except UnicodeDecodeError as exc:
         raise InputErrors([InputError(f"not UTF-8 text (byte {exc.start}); save it as UTF-8 ({expected})",
                                       file=source)]) from None
+
+
+def utf8_bytes(data: bytes, source: str, expected: str) -> bytes:
+    """``data`` as UTF-8 without a byte-order mark, with the errors of :func:`decode_text`.
+
+    UTF-16 text (opening with its byte-order mark) is re-encoded; UTF-8 is checked, not decoded.
+    """
+    if data[:2] in (codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE) or b"\x00" in data:
+        return decode_text(data, source, expected).encode("utf-8")
+    if not data.isascii():
+        try:
+            data.decode("utf-8")
+        except UnicodeDecodeError:
+            decode_text(data, source, expected)  # raises its one-line error
+        if data.startswith(codecs.BOM_UTF8):
+            data = data[len(codecs.BOM_UTF8):]
+    return data

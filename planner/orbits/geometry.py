@@ -98,11 +98,26 @@ def event_phases(e, omega_rad):
     c, s = np.cos(0.5 * w), np.sin(0.5 * w)
     sin_half = np.stack(np.broadcast_arrays(c - s, c + s, -s, c), axis=-1)
     cos_half = np.stack(np.broadcast_arrays(c + s, s - c, c, s), axis=-1)
-    ee = e[..., None]
-    big_e = 2.0 * np.arctan2(np.sqrt(1.0 - ee) * sin_half, np.sqrt(1.0 + ee) * cos_half)
-    m = big_e - ee * np.sin(big_e)
-    out[..., 2:] = kepler.wrap_angle(m) / kepler.TWO_PI
+    out[..., 2:] = _phase_from_half_angle(e[..., None], sin_half, cos_half)
     return out
+
+
+def _phase_from_half_angle(e, sin_half, cos_half):
+    """Mean-anomaly phase in [0, 1) of the true anomaly whose half angle has these (scaled) sine and cosine."""
+    big_e = 2.0 * np.arctan2(np.sqrt(1.0 - e) * sin_half, np.sqrt(1.0 + e) * cos_half)
+    m = big_e - e * np.sin(big_e)
+    return kepler.wrap_angle(m) / kepler.TWO_PI
+
+
+def conjunction_phase(e, omega_rad, secondary: bool = False):
+    """Mean-anomaly phase (in [0, 1)) of primary (or secondary) conjunction after periastron.
+
+    Column 2 (3) of :func:`event_phases`, computed alone with the same operations.
+    """
+    e = np.asarray(e, dtype=float)
+    w = np.asarray(omega_rad, dtype=float)
+    c, s = np.cos(0.5 * w), np.sin(0.5 * w)
+    return _phase_from_half_angle(e, c + s if secondary else c - s, s - c if secondary else c + s)
 
 
 def tp_from_tc(tc, period_d, e, omega_rad, secondary: bool = False):
@@ -114,8 +129,7 @@ def tp_from_tc(tc, period_d, e, omega_rad, secondary: bool = False):
     (Kallrath & Milone, *Eclipsing Binary Stars*, 2nd ed. 2009, sec. 3.1), with M_c taken in
     [0, 2 pi).
     """
-    k = 3 if secondary else 2
-    phase = event_phases(e, omega_rad)[..., k]
+    phase = conjunction_phase(e, omega_rad, secondary)
     return np.asarray(tc, dtype=float) - np.asarray(period_d, dtype=float) * phase
 
 
@@ -124,8 +138,7 @@ def tc_from_tp(tp, period_d, e, omega_rad, secondary: bool = False):
 
     Inverse of :func:`tp_from_tc`; same units and scale as ``tp``.
     """
-    k = 3 if secondary else 2
-    phase = event_phases(e, omega_rad)[..., k]
+    phase = conjunction_phase(e, omega_rad, secondary)
     return np.asarray(tp, dtype=float) + np.asarray(period_d, dtype=float) * phase
 
 
