@@ -296,11 +296,12 @@ def _lagrangian_bound(value, rows, upper, telescope, start, end_padded, kept, ti
     that rule), which holds for any y >= 0. The prices are the row duals of the LP on the options
     ``kept`` (the ones the nights' branch and bound ran on; 0 for rows with none of them): on a
     3,000-target week this gives the bound of the LP of all 45,000 options (28,245), from an LP
-    of 5,000 options (0.3 s against 7 s). None when that LP is not solved.
+    of 5,000 options (0.3 s against 7 s). None when that LP is not solved, or would not fit
+    ``time_limit_s`` (:data:`LP_SECONDS_PER_OPTION`).
     """
     keep = np.flatnonzero(kept)
-    if keep.size == 0:
-        return None
+    if keep.size == 0 or keep.size * LP_SECONDS_PER_OPTION > time_limit_s:
+        return None  # nothing kept, or an LP too big for the time left (its crossover ignores the limit)
     sub, row_of = _cut(value, rows, upper, keep, telescope, start, end_padded)
     prices = _lp_prices(sub, time_limit_s)
     if prices is None:
