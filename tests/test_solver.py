@@ -150,6 +150,62 @@ def test_reduced_value_fixing_keeps_the_optimum_of_the_whole_programme():
         assert report.bound >= value[ref].sum() - 1e-6, case
 
 
+def test_working_set_rounds_keep_the_optimum_of_the_whole_programme(monkeypatch):
+    # A large programme is solved on a working set grown by pricing (planner.scheduling.solver.
+    # _sifted), forced here on random nights of 400 options (first set: 60 of them); reference:
+    # HiGHS's branch and bound on every option of the same programme. Proven optimal means equal.
+    from planner.scheduling import solver
+
+    monkeypatch.setattr(solver, "SIFT_ABOVE", 100)
+    monkeypatch.setattr(solver, "SIFT_START", 60)
+    rng = np.random.default_rng(9)
+    for case in range(12):
+        n = 400
+        start = rng.uniform(0.0, 0.5, n)
+        value = rng.uniform(1.0, 100.0, n)
+        end = start + rng.uniform(0.01, 0.08, n) + 0.007
+        labels = rng.integers(0, 120, n)
+        rows = [np.flatnonzero(labels == k).tolist() for k in range(120) if np.sum(labels == k) > 1]
+        upper = np.ones(len(rows))
+        tel = np.array(["one"] * n, object)
+        chosen, report, kept = solver._solve(value, rows, upper, tel, start, end, 60.0, 1e-9)
+        whole = solver._Programme.build(value, rows, upper, tel, start, end)
+        ref, ref_report = solver._branch_and_bound(whole, tel, start, end, 60.0, 1e-9, None)
+        assert report.optimal and ref_report.optimal, case
+        assert value[chosen].sum() == pytest.approx(value[ref].sum(), rel=1e-9), case
+        assert report.bound >= value[ref].sum() - 1e-6, case
+        assert kept.sum() < n, case  # the rounds proved it without branching on every option
+
+
+def test_option_bounds_are_the_best_plans_holding_each_option():
+    # _option_bounds(i) = v_i + best overlap-only plan before i's start + after i's end; reference:
+    # exhaustive search over every non-overlapping subset holding i, on random small cases.
+    from itertools import combinations
+
+    from planner.scheduling import solver
+
+    rng = np.random.default_rng(4)
+    for case in range(40):
+        n = int(rng.integers(1, 9))
+        start = rng.uniform(0.0, 1.0, n)
+        end = start + rng.uniform(0.05, 0.4, n)
+        value = rng.uniform(-5.0, 10.0, n)
+        tel = np.array(["one"] * n, object)
+        got = solver._option_bounds(tel, start, end, value)
+        for i in range(n):
+            best = -np.inf
+            for k in range(n + 1):
+                for subset in combinations(range(n), k):
+                    if i not in subset:
+                        continue
+                    order = sorted(subset, key=lambda j: start[j])
+                    if all(end[p] <= start[q] for p, q in zip(order, order[1:])):
+                        best = max(best, value[i] + sum(max(value[j], 0.0) for j in subset if j != i))
+            assert got[i] == pytest.approx(best, abs=1e-9), (case, i)
+        assert solver._interval_bound(tel, start, end, value) == pytest.approx(
+            max([0.0] + [solver._option_bounds(tel, start, end, np.maximum(value, 0.0))[i] for i in range(n)]))
+
+
 @pytest.mark.parametrize("limit", [1e-3, 0.05, 0.3])
 def test_plans_taken_when_the_limit_stops_the_solver_keep_every_rule(limit):
     # Whatever stops first (the LP, or branch and bound on the kept options), the plan used (the
