@@ -126,6 +126,27 @@ def test_night_by_night_solution_keeps_every_rule_and_brackets_the_optimum(monke
         assert report.bound >= best - TOTAL_TOL, case
 
 
+def test_the_week_is_improved_where_night_by_night_in_time_order_falls_short(monkeypatch):
+    # Night by night in time order, night 1 takes a once-a-week request (10) over a block that only
+    # night 1 has (9), and night 2 is then left empty (10 in all); the week's LP-guided
+    # neighbourhoods (planner.scheduling.solver._neighbourhoods) find 9 + 10 = 19, the exhaustive
+    # optimum of the same model (tests' brute_force), and the report says the plan was improved.
+    from planner.scheduling import solver
+
+    monkeypatch.setattr(solver, "SPLIT_ABOVE", 0)
+    opts = pd.DataFrame({
+        "telescope": ["north"] * 3,
+        "start_jd_utc": [0.10, 0.12, 1.10], "end_jd_utc": [0.30, 0.32, 1.30],
+        "value": [10.0, 9.0, 10.0], "instance": ["weekly", "only-night-1", "weekly"],
+        "monitor": ["", "", ""], "gap_d": [0.0, 0.0, 0.0],
+    })
+    chosen, report = choose_options(opts, 0.01, exclusive=("instance",))
+    assert np.flatnonzero(chosen).tolist() == [1, 2]
+    assert opts["value"][chosen].sum() == pytest.approx(brute_force(opts, 0.01, ("instance",), None)) == 19.0
+    assert report.status == "optimal"
+    assert report.bound == pytest.approx(19.0)
+
+
 def test_reduced_value_fixing_keeps_the_optimum_of_the_whole_programme():
     # The branch and bound runs on the options whose LP reduced value is within a margin
     # (planner.scheduling.solver._solve); reference: HiGHS's branch and bound on every option of
