@@ -116,40 +116,46 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
     value = options["value"].to_numpy(float)
     if not (np.all(np.isfinite(start)) and np.all(end > start) and np.all(np.isfinite(value))):
         raise PeriplanError("every option needs finite times with end after start and a finite value")
-    rows: list[list[int]] = []
+    rows: list = []  # each an int array of option positions
     upper: list[float] = []
     for col in exclusive:
-        labels = options[col].astype("string").fillna("").to_numpy(object)
         caps = options[capacity[col]].to_numpy(float) if capacity and col in capacity else None
-        for label, members in pd.Series(np.arange(n)).groupby(labels):
-            cap = 1.0 if caps is None else float(np.nanmax(caps[members.to_numpy()]))
-            if label != "" and len(members) > cap:
-                rows.append(members.tolist())
+        for members in _groups(options[col]).values():
+            cap = 1.0 if caps is None else float(np.nanmax(caps[members]))
+            if len(members) > cap:
+                rows.append(members)
                 upper.append(cap)
     if spacing is not None:
         group_col, gap_col = spacing
-        labels = options[group_col].astype("string").fillna("").to_numpy(object)
         gaps = options[gap_col].to_numpy(float)
-        for label, members in pd.Series(np.arange(n)).groupby(labels):
-            gap = np.nanmax(gaps[members.to_numpy()]) if label != "" else 0.0
-            if label != "" and len(members) > 1 and gap > 0:
-                m = members.to_numpy()
-                for c in _window_cliques(start[m], gap):
-                    rows.append(m[c].tolist())
+        for members in _groups(options[group_col]).values():
+            gap = np.nanmax(gaps[members])
+            if len(members) > 1 and gap > 0:
+                for c in _window_cliques(start[members], gap):
+                    rows.append(members[c])
                     upper.append(1.0)
     if excludes is not None:
-        leader = options[excludes[0]].astype("string").fillna("").to_numpy(object)
+        leaders = _groups(options[excludes[0]])
         member = options[excludes[1]].astype("string").fillna("").to_numpy(object)
-        leaders = pd.Series(np.arange(n)).groupby(leader).apply(list).to_dict()
         for j in np.flatnonzero(member != ""):
-            lead = leaders.get(member[j], [])
-            if lead:
-                rows.append(list(lead) + [int(j)])
+            lead = leaders.get(member[j])
+            if lead is not None:
+                rows.append(np.r_[lead, j])
                 upper.append(1.0)
     tel = options["telescope"].to_numpy(object)
     chosen, report = _solve_parts(value, rows, np.asarray(upper, float), tel, start, end + overhead_d, time_limit_s,
                                   rel_gap)
     return chosen, dataclasses.replace(report, seconds=time.perf_counter() - t0)
+
+
+def _groups(labels: pd.Series) -> dict:
+    """{label: its rows' positions (sorted int array)} for every non-empty label, in label order
+    (an empty label or NA is in no group)."""
+    codes, uniques = pd.factorize(labels.astype("string").fillna(""), sort=True)
+    order = np.argsort(codes, kind="stable")
+    cuts = np.flatnonzero(np.diff(codes[order])) + 1
+    parts = np.split(order, cuts) if order.size else []
+    return {str(uniques[codes[p[0]]]): p for p in parts if uniques[codes[p[0]]] != ""}
 
 
 def _runs(telescope, start, end_padded):
