@@ -186,6 +186,27 @@ def write_night_chart(path, night, times_jd_utc, alt_deg, names, blocks, min_alt
                                  moon_alt_deg, **marks), path)
 
 
+#: Width of a label character at the week chart's 7 pt, in points (DejaVu Sans averages about
+#: 0.6 em a character; an estimate that errs towards too wide).
+_LABEL_CHAR_PT = 0.62 * 7
+
+
+def _block_labels(ax, fig, names, lo, hi):
+    """Each block's target name inside its bar when it fits, else beside it in dark text (to the
+    right, or to the left at the chart's right edge), so that no name runs unreadably over the
+    bar's edge. ``names``: (start h, end h, row, name, flexible)."""
+    pt_per_h = ax.get_position().width * fig.get_figwidth() * 72 / (hi - lo)
+    for xs, xe, y, name, flexible in names:
+        need_h = len(name) * _LABEL_CHAR_PT / pt_per_h
+        if need_h <= 0.92 * (xe - xs):
+            ax.text(0.5 * (xs + xe), y, name, ha="center", va="center", fontsize=7,
+                    color="black" if flexible else "white", clip_on=True)
+        elif xe + 0.1 + need_h <= hi:
+            ax.text(xe + 0.1, y, name, ha="left", va="center", fontsize=7, color="#222222", clip_on=True)
+        else:
+            ax.text(xs - 0.1, y, name, ha="right", va="center", fontsize=7, color="#222222", clip_on=True)
+
+
 def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None, title: str | None = None,
                 styles=None):
     """Overview of the week's blocks, one row per night: a matplotlib Figure.
@@ -204,7 +225,7 @@ def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = N
     targets = sorted(set(schedule["target"].astype(str))) if len(schedule) else []
     styles = styles or target_style.plan_styles(targets)
     colour = {nm: styles[nm].colour for nm in targets}
-    spans = []
+    spans, names = [], []
     for i, (_, night) in enumerate(nights.iterrows()):
         def to_h(v, day=str(night["night"])):
             return clock.local_clock_h(v, tz, day)  # the zone's rules at each instant
@@ -225,14 +246,14 @@ def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = N
             ax.broken_barh([(xs, xe - xs)], (y - 0.3, 0.6), facecolors=colour[str(b["target"])],
                            alpha=0.55 if flexible else 0.9, hatch="//" if flexible else None,
                            edgecolor="white", lw=0.8, gid="block")
-            ax.text(0.5 * (xs + xe), y, str(b["target"]), ha="center", va="center", fontsize=7,
-                    color="black" if flexible else "white", clip_on=True)
+            names.append((xs, xe, y, str(b["target"]), flexible))
         if here.empty:
             dark = np.isfinite(night.get("dark_start_jd_utc", np.nan))
             ax.text(24.0, y, "nothing scheduled" if dark else f"no {darkness_of(night)[0]}", ha="center",
                     va="center", fontsize=8, color="#555555", style="italic")
     lo, hi = (min(spans) - 0.5, max(spans) + 0.5) if spans else (16.0, 32.0)
     ax.set_xlim(lo, hi)
+    _block_labels(ax, fig, names, lo, hi)
     ax.set_ylim(-0.6, n - 0.4)
     ax.set_yticks(range(n), labels[::-1])
     _clock_ticks(ax, lo, hi)
