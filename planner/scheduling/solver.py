@@ -143,8 +143,8 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
                 rows.append(np.r_[lead, j])
                 upper.append(1.0)
     tel = options["telescope"].to_numpy(object)
-    chosen, report = _solve_parts(value, rows, np.asarray(upper, float), tel, start, end + overhead_d, time_limit_s,
-                                  rel_gap)
+    left = max(time_limit_s - (time.perf_counter() - t0), 0.2)  # the limit counts the model's building too
+    chosen, report = _solve_parts(value, rows, np.asarray(upper, float), tel, start, end + overhead_d, left, rel_gap)
     return chosen, dataclasses.replace(report, seconds=time.perf_counter() - t0)
 
 
