@@ -147,39 +147,19 @@ def test_the_week_is_improved_where_night_by_night_in_time_order_falls_short(mon
     assert report.bound == pytest.approx(19.0)
 
 
-def test_reduced_value_fixing_keeps_the_optimum_of_the_whole_programme():
-    # The branch and bound runs on the options whose LP reduced value is within a margin
-    # (planner.scheduling.solver._solve); reference: HiGHS's branch and bound on every option of
-    # the same programme (no fixing), on random nights of 400 options with instance rows.
+@pytest.mark.parametrize("way", ["reduced-value fixing", "working set"])
+def test_each_way_of_solving_keeps_the_optimum_of_the_whole_programme(way, monkeypatch):
+    # Reduced-value fixing: the branch and bound runs on the options whose LP reduced value is
+    # within a margin (planner.scheduling.solver._solve_whole). Working set: a large programme is
+    # solved on a set grown by pricing (solver._sifted), forced here with a first set of 60.
+    # Reference: HiGHS's branch and bound on every option of the same programme, on random
+    # nights of 400 options with instance rows. Proven optimal means equal totals.
     from planner.scheduling import solver
 
+    if way == "working set":
+        monkeypatch.setattr(solver, "SIFT_ABOVE", 100)
+        monkeypatch.setattr(solver, "SIFT_START", 60)
     rng = np.random.default_rng(5)
-    for case in range(12):
-        n = 400
-        start = rng.uniform(0.0, 0.5, n)
-        value = rng.uniform(1.0, 100.0, n)
-        end = start + rng.uniform(0.01, 0.08, n) + 0.007
-        labels = rng.integers(0, 120, n)
-        rows = [np.flatnonzero(labels == k).tolist() for k in range(120) if np.sum(labels == k) > 1]
-        upper = np.ones(len(rows))
-        tel = np.array(["one"] * n, object)
-        chosen, report, _ = solver._solve(value, rows, upper, tel, start, end, 60.0, 1e-9)
-        whole = solver._Programme.build(value, rows, upper, tel, start, end)
-        ref, ref_report = solver._branch_and_bound(whole, tel, start, end, 60.0, 1e-9, None)
-        assert report.optimal and ref_report.optimal, case
-        assert value[chosen].sum() == pytest.approx(value[ref].sum(), rel=1e-9), case
-        assert report.bound >= value[ref].sum() - 1e-6, case
-
-
-def test_working_set_rounds_keep_the_optimum_of_the_whole_programme(monkeypatch):
-    # A large programme is solved on a working set grown by pricing (planner.scheduling.solver.
-    # _sifted), forced here on random nights of 400 options (first set: 60 of them); reference:
-    # HiGHS's branch and bound on every option of the same programme. Proven optimal means equal.
-    from planner.scheduling import solver
-
-    monkeypatch.setattr(solver, "SIFT_ABOVE", 100)
-    monkeypatch.setattr(solver, "SIFT_START", 60)
-    rng = np.random.default_rng(9)
     for case in range(12):
         n = 400
         start = rng.uniform(0.0, 0.5, n)
@@ -195,7 +175,7 @@ def test_working_set_rounds_keep_the_optimum_of_the_whole_programme(monkeypatch)
         assert report.optimal and ref_report.optimal, case
         assert value[chosen].sum() == pytest.approx(value[ref].sum(), rel=1e-9), case
         assert report.bound >= value[ref].sum() - 1e-6, case
-        assert kept.sum() < n, case  # the rounds proved it without branching on every option
+        assert kept.sum() < n, case  # proven without branching on every option
 
 
 def test_option_bounds_are_the_best_plans_holding_each_option():
