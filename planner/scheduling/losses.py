@@ -25,33 +25,74 @@ import numpy as np
 import pandas as pd
 
 from ..sky.limits import REASONS as LIMIT_REASONS
-from ..sky.limits import limiting_constraint
+from ..sky.limits import limit_codes
 from ..timescales.clock import jd_utc_to_iso_z
-from .blocks import instance_keys
+from .blocks import MIN_PER_DAY
 from .requests import request_kinds
 
 UNSCHEDULED_COLUMNS = ("night", "target", "event", "request", "priority", "event_utc", "best_value",
                        "reason_code", "reason")
 #: Moments of a window at which the limiting constraint is asked for.
 WINDOW_SAMPLES = 9
+#: Moments asked for at once (bounds the memory of a survey-sized list of losses).
+LIMIT_CHUNK = 200_000
+_CODES = tuple(LIMIT_REASONS)
+LOST = "lost to higher-value blocks: "
 
 
 def _limit_reasons(targets, site, tracks, ti, w0, w1):
-    """Per row, the limit that stops its target at most of its window's moments (code, words)."""
+    """Per row, the limit that stops its target at most of its window's moments: (codes, words),
+    object arrays; ``too_short`` where no moment is stopped. A tie goes to the limit checked first."""
     t = w0[:, None] + (w1 - w0)[:, None] * np.linspace(0.0, 1.0, WINDOW_SAMPLES)[None, :]
-    inside = (t >= tracks.jd_utc[1]) & (t <= tracks.jd_utc[-2])
-    codes = np.full(t.shape, "", dtype=object)
-    if inside.any():
-        tis = np.broadcast_to(ti[:, None], t.shape)
-        codes[inside] = limiting_constraint(targets, site, tis[inside], t[inside], tracks)
-    out = []
-    for row in codes:
-        found = [c for c in row if c]
-        if not found:
-            out.append(("too_short", "something is observable, but no stretch long enough to be worth a block"))
-        else:
-            code = max(set(found), key=found.count)
-            out.append((code, LIMIT_REASONS[code]))
+    tis = np.broadcast_to(ti[:, None], t.shape).ravel()
+    t = t.ravel()
+    counts = np.zeros((len(ti), len(_CODES)), int)
+    inside = np.flatnonzero((t >= tracks.jd_utc[1]) & (t <= tracks.jd_utc[-2]))
+    for lo in range(0, len(inside), LIMIT_CHUNK):
+        at = inside[lo:lo + LIMIT_CHUNK]
+        codes = limit_codes(targets, site, tis[at], t[at], tracks)
+        found = codes >= 0
+        np.add.at(counts, (at[found] // WINDOW_SAMPLES, codes[found]), 1)
+    code = np.asarray(_CODES, object)[counts.argmax(axis=1)]
+    words = np.asarray([LIMIT_REASONS[c] for c in _CODES], object)[counts.argmax(axis=1)]
+    none = counts.sum(axis=1) == 0
+    code[none] = "too_short"
+    words[none] = "something is observable, but no stretch long enough to be worth a block"
+    return code, words
+
+
+def _index(*columns):
+    """A pandas MultiIndex of equal-length columns (rows to look up or to look in)."""
+    return pd.MultiIndex.from_arrays([np.asarray(c) for c in columns])
+
+
+def _minutes(jd_utc):
+    """The UTC minute of each moment: how the schedule, its candidates and the log name one
+    event instance (:func:`planner.scheduling.blocks.instance_keys`); -1 for no moment (a
+    monitor visit), so that such rows still match each other."""
+    minute = np.round(np.asarray(jd_utc, float) * MIN_PER_DAY)
+    return np.where(np.isfinite(minute), minute, -1).astype(np.int64)
+
+
+def _rivals(starts, ends, sites, schedule, both):
+    """Per lost row (its best option widened by the overhead: ``starts``..``ends`` UTC JD, at
+    ``sites``), the schedule's blocks it overlaps, named with their values; one text per distinct
+    set. A site's blocks never overlap (the solver's no-overlap rows), so sorted by start the blocks
+    a stretch overlaps are a run: those starting before its end, after the last ending before its
+    start."""
+    out = np.full(len(starts), LOST + "the week's other blocks", dtype=object)
+    b_site = schedule["site"].astype(str).to_numpy(object) if both else np.zeros(len(schedule), object)
+    for place in pd.unique(b_site):
+        rows = np.flatnonzero(sites == place) if both else np.arange(len(starts))
+        block = schedule[b_site == place].sort_values("start_jd_utc", kind="stable")
+        b0, b1 = block["start_jd_utc"].to_numpy(float), block["end_jd_utc"].to_numpy(float)
+        lo = np.searchsorted(np.maximum.accumulate(b1), starts[rows], side="right")
+        hi = np.searchsorted(b0, ends[rows], side="left")
+        names = [f"{t} {str(e).replace('_', ' ')} ({v:.0f})"
+                 for t, e, v in zip(block["target"], block["event"], block["score"].to_numpy(float))]
+        runs, which = np.unique(np.stack([lo, hi], axis=1), axis=0, return_inverse=True)
+        texts = np.array([LOST + (", ".join(names[a:b]) or "the week's other blocks") for a, b in runs], dtype=object)
+        out[rows] = texts[which.ravel()]
     return out
 
 
@@ -63,74 +104,86 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
     ``candidates`` are every block the scheduler chose from (with ``night``), ``never`` the
     never-rising table (:func:`planner.sky.windows.never_rising`), ``tracks`` the Sun/Moon tracks of
     the site; ``week_rule`` the plan's default (a target's ``week_rule`` column overrides it).
-    Sorted by night, then by priority (highest first).
+    Sorted by night, then by priority (highest first). Vectorised over the requests (a survey's
+    week lists millions).
     """
     kinds = request_kinds(visible, targets) if len(visible) else np.zeros(0, object)
     v = visible[kinds != ""].assign(request=kinds[kinds != ""]).reset_index(drop=True)
     if v.empty:
         return pd.DataFrame({c: [] for c in UNSCHEDULED_COLUMNS})
-    served = set(instance_keys(schedule["target_index"], schedule["event"], schedule["event_jd_utc"])) if len(schedule) else set()
-    for serves, ti, night in zip(schedule.get("serves", []), schedule.get("target_index", []),
-                                 schedule.get("night", [])):
-        for name in str(serves or "").split(";")[1:]:  # the second event a merged block serves
-            served.add(f"{ti}|{name}|{night}")
-    ckeys = np.array(instance_keys(candidates["target_index"], candidates["event"], candidates["event_jd_utc"]), dtype=object) \
-        if len(candidates) else np.zeros(0, object)
-    by_key = pd.Series(np.arange(len(candidates))).groupby(ckeys).apply(list).to_dict() if len(candidates) else {}
-    never_idx = set(never["target_index"].astype(int))
+    ti = v["target_index"].to_numpy(int)
+    event = v["event"].astype(str).to_numpy(object)
+    night = v["night"].astype(str).to_numpy(object)
+    instance = _index(ti, event, _minutes(v["jd_utc"]))
+    s_ti = schedule["target_index"].to_numpy(int) if len(schedule) else np.zeros(0, int)
+    s_event = schedule["event"].astype(str).to_numpy(object) if len(schedule) else np.zeros(0, object)
+    s_night = schedule["night"].astype(str).to_numpy(object) if len(schedule) else np.zeros(0, object)
+    served = instance.isin(_index(s_ti, s_event, _minutes(schedule["event_jd_utc"]) if len(schedule)
+                                  else np.zeros(0, np.int64)))
+    second = [(t, name, n) for serves, t, n in zip(schedule.get("serves", []), s_ti, s_night)
+              for name in str(serves or "").split(";")[1:]]  # the second event a merged block serves
+    if second:
+        served |= _index(ti, event, night).isin(_index(*zip(*second)))
+    keep = ~served
+    v, ti, event, night, instance = v[keep].reset_index(drop=True), ti[keep], event[keep], night[keep], instance[keep]
+
+    # the best candidate of each instance (the first of the highest score)
+    score = candidates["score"].to_numpy(float) if len(candidates) else np.zeros(0)
+    if len(candidates):
+        first = np.lexsort((np.arange(len(candidates)), -score))
+        cands = _index(candidates["target_index"].to_numpy(int)[first],
+                       candidates["event"].astype(str).to_numpy(object)[first],
+                       _minutes(candidates["event_jd_utc"].to_numpy(float)[first]))
+        unique = ~cands.duplicated()
+        at = pd.Index(cands[unique]).get_indexer(instance)
+        best = np.where(at >= 0, first[unique][np.maximum(at, 0)], -1)
+    else:
+        best = np.full(len(v), -1)
+    has = best >= 0
+    value = np.where(has, score[np.maximum(best, 0)] if len(score) else np.nan, np.nan)
+
     dark = dict(zip(nights["night"].astype(str), np.isfinite(nights["dark_start_jd_utc"].to_numpy(float))))
-    done_nights = {}
-    for ti, ev, night in zip(schedule.get("target_index", []), schedule.get("event", []), schedule.get("night", [])):
-        done_nights.setdefault((int(ti), ev), []).append(str(night))
     rules = (targets["week_rule"].astype(str).replace("", week_rule).to_numpy(object) if "week_rule" in targets
              else np.full(len(targets), week_rule, dtype=object))
-    rows, pending = [], []
-    priority = targets["priority"].to_numpy(float)
-    keys = instance_keys(v["target_index"], v["event"], v["jd_utc"])
-    score = candidates["score"].to_numpy(float) if len(candidates) else np.zeros(0)
-    event_utc = jd_utc_to_iso_z(v["jd_utc"].to_numpy(float))
-    c_start = candidates["start_jd_utc"].to_numpy(float) if len(candidates) else np.zeros(0)
-    c_end = candidates["end_jd_utc"].to_numpy(float) if len(candidates) else np.zeros(0)
-    both = "site" in candidates and "site" in schedule
-    c_site = candidates["site"].astype(str).to_numpy(object) if both else None
-    b_start = schedule["start_jd_utc"].to_numpy(float) if len(schedule) else np.zeros(0)
-    b_end = schedule["end_jd_utc"].to_numpy(float) if len(schedule) else np.zeros(0)
-    b_site = schedule["site"].astype(str).to_numpy(object) if both else None
-    b_target = schedule["target"].to_numpy(object) if len(schedule) else np.zeros(0, object)
-    b_event = schedule["event"].astype(str).to_numpy(object) if len(schedule) else np.zeros(0, object)
-    b_score = schedule["score"].to_numpy(float) if len(schedule) else np.zeros(0)
-    for k, (key, r) in enumerate(zip(keys, v.itertuples())):
-        ti = int(r.target_index)
-        if key in served or f"{ti}|{r.event}|{r.night}" in served:
+    done = pd.DataFrame({"ti": s_ti, "event": s_event, "night": s_night})
+    done_on = {k: f"done on {', '.join(sorted(set(g)))} instead" for k, g in done.groupby(["ti", "event"])["night"]}
+    pair = _index(ti, event)
+    done_elsewhere = (pair.isin(_index(s_ti, s_event)) & ~_index(ti, event, night).isin(_index(s_ti, s_event, s_night)))
+    observable = v["observable_h"].to_numpy(float) > 0
+
+    code = np.full(len(v), "", dtype=object)
+    words = np.full(len(v), "", dtype=object)
+    steps = [  # the first reason that applies, in the docstring's order
+        ("never_rises", np.isin(ti, never["target_index"].to_numpy(int)), "never rises high enough at the site"),
+        ("no_darkness", np.isin(night, [n for n, d in dark.items() if not d]), "the night has no darkness at the site"),
+        ("limit", ~has & ~observable, None),
+        ("too_short", ~has, "observable only in stretches too short or holding no contact with its baseline"),
+        ("better_night", (rules[ti] != "every") & done_elsewhere, None),
+        ("lost", np.ones(len(v), bool), None),
+    ]
+    open_ = np.ones(len(v), bool)
+    for name, applies, text in steps:
+        rows = np.flatnonzero(open_ & applies)
+        open_[rows] = False
+        if name == "limit" and len(rows):
+            code[rows], words[rows] = _limit_reasons(targets, site, tracks, ti[rows],
+                                                     v["window_start_jd_utc"].to_numpy(float)[rows],
+                                                     v["window_end_jd_utc"].to_numpy(float)[rows])
             continue
-        members = by_key.get(key, [])
-        value = float(score[members].max()) if members else np.nan
-        night = str(r.night)
-        if ti in never_idx:
-            code, words = "never_rises", "never rises high enough at the site"
-        elif not dark.get(night, True):
-            code, words = "no_darkness", "the night has no darkness at the site"
-        elif not members and not (r.observable_h > 0):
-            code, words = "", ""  # the limit that stops it, found for all such rows at once below
-            pending.append((len(rows), ti, r.window_start_jd_utc, r.window_end_jd_utc))
-        elif not members:
-            code, words = "too_short", "observable only in stretches too short or holding no contact with its baseline"
-        elif rules[ti] != "every" and (ti, r.event) in done_nights and night not in done_nights[(ti, r.event)]:
-            code, words = "better_night", f"done on {', '.join(sorted(set(done_nights[(ti, r.event)])))} instead"
+        code[rows] = name
+        if name == "better_night":
+            words[rows] = [done_on[(t, e)] for t, e in zip(ti[rows], event[rows])]
+        elif name == "lost" and len(rows):
+            both = "site" in candidates and "site" in schedule
+            c_site = candidates["site"].astype(str).to_numpy(object)[best[rows]] if both else None
+            words[rows] = _rivals(candidates["start_jd_utc"].to_numpy(float)[best[rows]] - overhead_d,
+                                  candidates["end_jd_utc"].to_numpy(float)[best[rows]] + overhead_d,
+                                  c_site, schedule, both)
         else:
-            best = members[int(np.argmax(score[members]))]
-            s0, s1 = c_start[best] - overhead_d, c_end[best] + overhead_d
-            hit = (b_start < s1) & (b_end > s0) & ((b_site == c_site[best]) if c_site is not None else True)
-            named = ", ".join(f"{t} {e.replace('_', ' ')} ({v:.0f})" for t, e, v in
-                              zip(b_target[hit], b_event[hit], b_score[hit])) or "the week's other blocks"
-            code, words = "lost", f"lost to higher-value blocks: {named}"
-        rows.append({"night": night, "target": r.target, "event": r.event, "request": r.request,
-                     "priority": priority[ti], "event_utc": event_utc[k],
-                     "best_value": value, "reason_code": code, "reason": words})
-    if pending:
-        at, ti, w0, w1 = (np.array(x) for x in zip(*pending))
-        for k, (code, words) in zip(at, _limit_reasons(targets, site, tracks, ti.astype(int), w0.astype(float),
-                                                       w1.astype(float))):
-            rows[k]["reason_code"], rows[k]["reason"] = code, words
-    out = pd.DataFrame(rows, columns=list(UNSCHEDULED_COLUMNS))
+            words[rows] = text
+    out = pd.DataFrame({"night": night, "target": v["target"].to_numpy(object), "event": event,
+                        "request": v["request"].to_numpy(object),
+                        "priority": targets["priority"].to_numpy(float)[ti],
+                        "event_utc": jd_utc_to_iso_z(v["jd_utc"].to_numpy(float)),
+                        "best_value": value, "reason_code": code, "reason": words}, columns=list(UNSCHEDULED_COLUMNS))
     return out.sort_values(["night", "priority"], ascending=[True, False], kind="stable").reset_index(drop=True)

@@ -33,10 +33,17 @@ def limiting_constraint(targets, site, target_index, jd_utc, tracks) -> np.ndarr
     ``target_index`` (rows of ``targets``) and ``jd_utc`` (UTC Julian dates inside ``tracks``, a
     :class:`~planner.sky.positions.SkyTracks` of the site) broadcast together.
     """
+    codes = limit_codes(targets, site, target_index, jd_utc, tracks)
+    return np.asarray(tuple(REASONS) + ("",), dtype=object)[codes]
+
+
+def limit_codes(targets, site, target_index, jd_utc, tracks) -> np.ndarray:
+    """:func:`limiting_constraint` as integers: the position of the code in :data:`REASONS`, -1
+    where no limit fails (an int8 array, the broadcast shape)."""
     ti, jd = np.broadcast_arrays(np.asarray(target_index, dtype=int), np.asarray(jd_utc, dtype=float))
     shape = ti.shape
     ti, jd = ti.ravel(), jd.ravel()
-    out = np.full(ti.shape, "", dtype=object)
+    out = np.full(ti.shape, -1, dtype=np.int8)
     if ti.size == 0:
         return out.reshape(shape)
     ra = targets["ra_deg"].to_numpy(float)[ti]
@@ -60,15 +67,15 @@ def limiting_constraint(targets, site, target_index, jd_utc, tracks) -> np.ndarr
         ha_bad |= pos.ha_h <= site.min_hour_angle_h
     if site.max_hour_angle_h is not None:
         ha_bad |= pos.ha_h >= site.max_hour_angle_h
-    checks = [
-        ("no_darkness", ~(sun_alt < site.darkness_sun_alt_deg)),
-        ("declination", dec_bad),
-        ("altitude", ~(pos.alt_deg > alt_floor)),
-        ("horizon", ~(pos.alt_deg > altitude_limit_deg(site, pos.az_deg))),
-        ("hour_angle", ha_bad),
-        ("moon", moon_sep < site.moon_min_sep_at_deg(tracks.moon_illumination(jd))),
-        ("sun", sun_sep < site.sun_min_sep_deg),
-    ]
-    for code, bad in reversed(checks):  # the earliest check wins: written last
-        out[bad] = code
+    checks = {
+        "no_darkness": ~(sun_alt < site.darkness_sun_alt_deg),
+        "declination": dec_bad,
+        "altitude": ~(pos.alt_deg > alt_floor),
+        "horizon": ~(pos.alt_deg > altitude_limit_deg(site, pos.az_deg)),
+        "hour_angle": ha_bad,
+        "moon": moon_sep < site.moon_min_sep_at_deg(tracks.moon_illumination(jd)),
+        "sun": sun_sep < site.sun_min_sep_deg,
+    }
+    for k, code in reversed(list(enumerate(REASONS))):  # the earliest check wins: written last
+        out[checks[code]] = k
     return out.reshape(shape)
