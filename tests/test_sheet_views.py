@@ -116,6 +116,20 @@ def test_unscheduled_requests_are_listed_with_their_reason(week):
             assert reason in page
 
 
+
+def test_a_long_list_of_losses_keeps_the_highest_priority_rows_on_the_page(week, monkeypatch):
+    plan, _ = week
+    un = plan.unscheduled
+    groups = un.groupby(["target", "event", "reason_code"])["priority"].max()
+    assert len(groups) > 2 and groups.nunique() > 1  # the demo week loses requests of several priorities
+    monkeypatch.setattr(week_page, "UNSCHEDULED_ROWS", 2)
+    page = html.unescape("".join(week_page._unscheduled_lines(plan, ["unscheduled.csv"])))
+    cells = re.findall(r"<tr><td>([^<]*)</td><td>([^<]*)</td>", page)  # target, event in words
+    assert len(cells) == 2
+    shown = [groups[(t, e.replace(" ", "_"))].max() for t, e in cells]
+    assert min(shown) == groups.sort_values(ascending=False).iloc[1]  # the two of highest priority
+    assert f"of {len(groups)}; " in page and 'href="unscheduled.csv"' in page and f"({len(un)})" in page
+
 def test_each_scheduled_target_has_a_page_with_its_events(week):
     plan, out = week
     for ti in sorted(set(plan.schedule["target_index"])):

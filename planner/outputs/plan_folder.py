@@ -174,7 +174,7 @@ def write_plan(plan, out_dir, force: bool = False, summary_text: str | None = No
             jobs.append((_write_text, (path("unobservable.csv"), text), {}))
         if summary_text is not None:
             jobs.append((_write_text, (path("summary.txt"), summary_text), {}))
-        jobs.append((_write_text, (path("unscheduled.csv"), unscheduled_csv(plan)), {}))
+        jobs.append((_write_unscheduled_csv, (path("unscheduled.csv"), plan), {}))
         jobs.append((_write_text, (path("schedule-info.json"), schedule_info_json(plan)), {}))
         jobs.append((write_log_template, (path("log-template.csv"), schedule), {}))
         _draw(jobs, workers)
@@ -254,8 +254,8 @@ def chart_jobs(plan, path) -> list[tuple]:
     The astronomy (altitude curves) is done here, so a job only draws.
     """
     from . import charts
-    from .file_names import unique_file_parts
     from .target_style import plan_styles
+    from .week_page import file_part
 
     schedule, nights, tz = plan.schedule, plan.nights, plan.site.timezone
     styles = plan_styles(schedule["target"].astype(str)) if len(schedule) else {}  # one look in every chart
@@ -278,39 +278,28 @@ def chart_jobs(plan, path) -> list[tuple]:
                      {"tz": tz, "title": f"{plan.site.name}, night of {night['night']}",
                       "moon_alt_deg": plan.tracks.moon_altaz_deg(t)[0], "styles": styles, "az_deg": pos.az_deg,
                       "ha_h": pos.ha_h, "site": plan.site}))
-    # file names from the whole catalogue's names, so a target keeps its file name whichever
-    # targets are scheduled with it
-    parts = unique_file_parts(plan.targets["name"].astype(str))
     for ti in sorted(set(schedule["target_index"].astype(int))) if len(schedule) else []:
         target = plan.targets.iloc[ti]
         if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
             ev = plan.events[plan.events["target_index"].astype(int) == ti] if len(plan.events) else plan.events
             sigma = ev.groupby("event")["sigma_d"].median().to_dict() if len(ev) else {}
-            jobs.append((charts.write_rv_chart, (path(f"rv-{parts[str(target['name'])]}.png"), target,
+            jobs.append((charts.write_rv_chart, (path(f"rv-{file_part(plan, target['name'])}.png"), target,
                                                  schedule[schedule["target_index"] == ti]),
                          {"styles": styles, "event_sigma_d": sigma}))
     return jobs
 
 
 def week_page_jobs(plan, path, made) -> list[tuple]:
-    """``index.html`` and the target pages as one job (they link to the files in ``made``).
-
-    The job gets only the tables the pages read (they pickle quickly), so a worker process
-    builds the pages while the other draws charts.
-    """
-    import types
-
+    """``index.html`` and the target pages as one job (they link to the files in ``made``), so a
+    worker process builds the pages while the other draws charts."""
     from . import week_page
 
     names = week_page.page_files(plan)
     staging = os.path.dirname(path(names[0]))
     for name in names[1:]:
         path(name)
-    parts = types.SimpleNamespace(site=plan.site, targets=plan.targets, nights=plan.nights, events=plan.events,
-                                  schedule=plan.schedule, never_rising=plan.never_rising,
-                                  **({"unscheduled": plan.unscheduled} if hasattr(plan, "unscheduled") else {}))
     # ``made`` itself: the files named after this call (sheets, calendar) are in it when the job runs
-    return [(week_page.write_week_pages, (staging, parts, made), {})]
+    return [(week_page.write_week_pages, (staging, plan, made), {})]
 
 
 def _write_text(path, text):
@@ -321,6 +310,15 @@ def _write_text(path, text):
 def _run_job(job):
     writer, args, kwargs = job
     writer(*args, **kwargs)
+
+
+#: The jobs of the running :func:`_draw`: forked workers find them here, so a survey's tables
+#: (a million unscheduled requests) are never pickled to reach them.
+_PENDING: list = []
+
+
+def _run_pending(k):
+    _run_job(_PENDING[k])
 
 
 def _draw(jobs, workers):
@@ -339,12 +337,19 @@ def _draw(jobs, workers):
     import matplotlib.backends.backend_agg  # noqa: F401  imported once here, not in each worker
     import matplotlib.figure  # noqa: F401
 
+    _PENDING[:] = jobs  # before the pool forks its workers
     try:
         with ProcessPoolExecutor(max_workers=workers, mp_context=mp.get_context("fork")) as pool:
-            for future in [pool.submit(_run_job, job) for job in jobs]:
+            for future in [pool.submit(_run_pending, k) for k in range(len(jobs))]:
                 future.result()
     except BrokenProcessPool:
         raise PeriplanError("a plan file could not be made (its process stopped); nothing was written") from None
+    finally:
+        _PENDING.clear()
+
+
+def _write_unscheduled_csv(path, plan):
+    _write_text(path, unscheduled_csv(plan))
 
 
 def unscheduled_csv(plan) -> str:

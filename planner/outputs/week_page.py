@@ -38,9 +38,10 @@ nav a { margin-right: 1em; }
 
 
 def file_part(plan, target_name: str) -> str:
-    """The target's part of file names in this plan: unique and readable across the catalogue
-    (:func:`planner.outputs.file_names.unique_file_parts`), computed once per plan object and
-    kept on it (a page set asks for it hundreds of times)."""
+    """The target's part of file names in this plan: unique and readable across the whole
+    catalogue (:func:`planner.outputs.file_names.unique_file_parts`), so a target keeps its file
+    names whichever targets are scheduled with it; computed once per plan object and kept on it
+    (a page set asks for it hundreds of times)."""
     parts = vars(plan).get("_file_parts")
     if parts is None:
         from .file_names import unique_file_parts
@@ -84,28 +85,41 @@ def _table(header, rows):
     return out
 
 
-def _unscheduled_lines(plan) -> list[str]:
+#: Most rows of the index page's table of what got no block; the rest are in unscheduled.csv.
+UNSCHEDULED_ROWS = 300
+
+
+def _unscheduled_lines(plan, files=()) -> list[str]:
     """The table of what got no block (:mod:`planner.scheduling.losses`): one row per target,
     event and reason.
 
     Each row counts the requests, names the nights (first to last), gives the best value a
     candidate block of them had and the reason in words (the first one's, for blocks lost to
-    others), so a catalogue of thousands of targets still gives a page one can read.
+    others), so a catalogue of thousands of targets still gives a page one can read. Beyond
+    :data:`UNSCHEDULED_ROWS` rows the page keeps those of highest priority, then best value, and
+    says how many more ``unscheduled.csv`` holds (a survey's week leaves a million requests).
     """
     e = html.escape
     un = plan.unscheduled
     if un is None or un.empty:
         return ["<p>Every request of the nights got a block.</p>"]
-    un = un.assign(what=[str(ev).replace("_", " ") for ev in un["event"]])
-    groups = un.groupby(["target", "what", "reason_code"], sort=True).agg(
+    groups = un.groupby(["target", "event", "reason_code"], sort=True).agg(
         requests=("night", "size"), first=("night", "min"), last=("night", "max"),
-        best=("best_value", "max"), reason=("reason", "first"))
+        best=("best_value", "max"), reason=("reason", "first"), priority=("priority", "max")).reset_index()
+    note = []
+    if len(groups) > UNSCHEDULED_ROWS:
+        shown = groups.assign(best0=groups["best"].fillna(-np.inf)).sort_values(
+            ["priority", "best0"], ascending=False, kind="stable").index[:UNSCHEDULED_ROWS]
+        csv = '<a href="unscheduled.csv">unscheduled.csv</a>' if "unscheduled.csv" in files else "unscheduled.csv"
+        note = [f"<p>The {UNSCHEDULED_ROWS} rows of highest priority, then best value, of {len(groups)}; "
+                f"{csv} lists every request ({len(un)}).</p>"]
+        groups = groups.loc[np.sort(shown)]
     rows = []
-    for t, what, _code, k, lo, hi, best, why in groups.reset_index().itertuples(index=False):
+    for t, ev, _code, k, lo, hi, best, why, _p in groups.itertuples(index=False):
         value = f"{best:.0f}" if np.isfinite(best) else ""
-        rows.append([e(str(t)), e(what), f'<td class="num">{k}</td>', e(lo if lo == hi else f"{lo} to {hi}"),
-                     f'<td class="num">{e(value)}</td>', e(str(why))])
-    return _table(["target", "event", "requests", "nights", "best value", "reason"], rows)
+        rows.append([e(str(t)), e(str(ev).replace("_", " ")), f'<td class="num">{k}</td>',
+                     e(lo if lo == hi else f"{lo} to {hi}"), f'<td class="num">{e(value)}</td>', e(str(why))])
+    return note + _table(["target", "event", "requests", "nights", "best value", "reason"], rows)
 
 
 def index_html(plan, files) -> str:
@@ -149,7 +163,7 @@ def index_html(plan, files) -> str:
         rows.append(cells)
     body += _table(header, rows) if rows else ["<p>No block could be scheduled in these nights.</p>"]
     body.append('<h2 id="unscheduled">Not scheduled, and why</h2>')
-    body += _unscheduled_lines(plan)
+    body += _unscheduled_lines(plan, files)
     body.append('<h2 id="targets">Targets with blocks</h2><ul>')
     for nm in sorted(set(sched["target"].astype(str))) if len(sched) else []:
         body.append(f'<li><a href="{e(page_name(plan, nm))}">{e(nm)}</a></li>')
