@@ -112,6 +112,8 @@ def rv_window_offsets_d(period_d, e, omega_rad, fraction_k, maximum=True):
 #: own: the hours where the curve changes fastest; no single source).
 SWING_LEVEL = 0.5
 _SWING_SAMPLES = 721
+#: Orbits evaluated at once (bounds the (orbits, samples) grid: 4 MB per array).
+_SWING_CHUNK = 700
 
 
 def rv_swing_offsets_d(period_d, e, omega_rad, level=SWING_LEVEL):
@@ -126,6 +128,10 @@ def rv_swing_offsets_d(period_d, e, omega_rad, level=SWING_LEVEL):
     p = np.atleast_1d(np.asarray(period_d, float))
     ecc = np.atleast_1d(np.asarray(e, float))
     w = np.atleast_1d(np.asarray(omega_rad, float))
+    if p.size > _SWING_CHUNK:  # a survey's orbits, a slice at a time
+        parts = [rv_swing_offsets_d(p[k:k + _SWING_CHUNK], ecc[k:k + _SWING_CHUNK], w[k:k + _SWING_CHUNK], level)
+                 for k in range(0, p.size, _SWING_CHUNK)]
+        return np.concatenate([lo for lo, _ in parts]), np.concatenate([hi for _, hi in parts])
     nu = np.linspace(-np.pi, np.pi, _SWING_SAMPLES)[None, :]
     rate = np.abs(np.sin(nu + w[:, None])) * (1.0 + ecc[:, None] * np.cos(nu)) ** 2
     above = rate >= level * rate.max(axis=1, keepdims=True)
