@@ -258,3 +258,16 @@ def test_bad_phase_cells_are_reported_row_by_row_in_one_run():
         "phase's window, in orbits)",
         "cat.csv, row 7, column rv_phases: phase 0.30 is listed twice",
     ]
+
+
+def test_an_instance_a_merged_block_serves_from_another_night_is_not_listed_as_lost(week):
+    """HAT-P-2 b with a 0.3 d timing sigma: the RV maximum's window reaches from the night of its
+    moment into the night before, where a block of periastron serves it too."""
+    site, _, dark, _, _ = week
+    plan = planner.make_plan(hatp2(phases=f"{dark}", errors="0.0001,0.3,0.01,1"), site,
+                             NIGHT - dt.timedelta(days=1), 3)
+    merged = plan.schedule[["rv_max" in str(s).split(";")[1:] for s in plan.schedule["serves"]]]
+    assert len(merged) == 1
+    rv_max = plan.events[plan.events["event"] == "rv_max"]
+    assert len(rv_max) == 1 and rv_max["night"].iloc[0] != merged["night"].iloc[0]  # the case in point
+    assert "rv_max" not in set(plan.unscheduled["event"])

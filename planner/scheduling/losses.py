@@ -96,6 +96,18 @@ def _rivals(starts, ends, sites, schedule, both):
     return out
 
 
+def _second_instances(second, candidates):
+    """The instances (target, event, minute) that merged blocks serve besides their own event:
+    per ``(target_index, event, night, block middle)`` of ``second``, the candidate of that
+    target and event whose moment is nearest the block (its night may be another: an RV window
+    lasting days), so every row of that instance is served."""
+    blocks = pd.DataFrame([(t, name, mid) for t, name, _, mid in second], columns=["target_index", "event", "mid"])
+    c = candidates[["target_index", "event", "event_jd_utc"]].astype({"event": str}).merge(blocks)
+    c = c.assign(off=np.abs(c["event_jd_utc"] - c["mid"])).sort_values("off", kind="stable")
+    c = c.drop_duplicates(["target_index", "event", "mid"])
+    return _index(c["target_index"].to_numpy(int), c["event"].to_numpy(object), _minutes(c["event_jd_utc"]))
+
+
 def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.DataFrame, targets: pd.DataFrame,
                 site, nights: pd.DataFrame, tracks, never: pd.DataFrame, overhead_d: float = 0.0,
                 week_rule: str = "every") -> pd.DataFrame:
@@ -120,10 +132,13 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
     s_night = schedule["night"].astype(str).to_numpy(object) if len(schedule) else np.zeros(0, object)
     served = instance.isin(_index(s_ti, s_event, _minutes(schedule["event_jd_utc"]) if len(schedule)
                                   else np.zeros(0, np.int64)))
-    second = [(t, name, n) for serves, t, n in zip(schedule.get("serves", []), s_ti, s_night)
+    second = [(t, name, n, 0.5 * (b0 + b1)) for serves, t, n, b0, b1 in
+              zip(schedule.get("serves", []), s_ti, s_night, schedule.get("start_jd_utc", []),
+                  schedule.get("end_jd_utc", []))
               for name in str(serves or "").split(";")[1:]]  # the second event a merged block serves
     if second:
-        served |= _index(ti, event, night).isin(_index(*zip(*second)))
+        served |= _index(ti, event, night).isin(_index(*list(zip(*second))[:3]))
+        served |= instance.isin(_second_instances(second, candidates))
     keep = ~served
     v, ti, event, night, instance = v[keep].reset_index(drop=True), ti[keep], event[keep], night[keep], instance[keep]
 
