@@ -260,14 +260,32 @@ def test_bad_phase_cells_are_reported_row_by_row_in_one_run():
     ]
 
 
-def test_an_instance_a_merged_block_serves_from_another_night_is_not_listed_as_lost(week):
-    """HAT-P-2 b with a 0.3 d timing sigma: the RV maximum's window reaches from the night of its
-    moment into the night before, where a block of periastron serves it too."""
+@pytest.fixture(scope="module")
+def chain(week):
+    """HAT-P-2 b with a 0.3 d timing sigma over three nights: the RV maximum's window reaches from
+    the night of its moment into the night before, where periastron could share its visit, and
+    holds the wanted phase too; a chain of three requests that can each merge with it."""
     site, _, dark, _, _ = week
-    plan = planner.make_plan(hatp2(phases=f"{dark}", errors="0.0001,0.3,0.01,1"), site,
+    return planner.make_plan(hatp2(phases=f"{dark}", errors="0.0001,0.3,0.01,1"), site,
                              NIGHT - dt.timedelta(days=1), 3)
+
+
+def test_an_instance_a_merged_block_serves_from_another_night_is_not_listed_as_lost(chain):
+    plan = chain
     merged = plan.schedule[["rv_max" in str(s).split(";")[1:] for s in plan.schedule["serves"]]]
     assert len(merged) == 1
     rv_max = plan.events[plan.events["event"] == "rv_max"]
     assert len(rv_max) == 1 and rv_max["night"].iloc[0] != merged["night"].iloc[0]  # the case in point
     assert "rv_max" not in set(plan.unscheduled["event"])
+
+
+def test_a_chain_of_mergeable_requests_does_not_shut_out_its_third(chain):
+    # one request merges with one other: periastron + RV maximum on the first night leaves the
+    # wanted phase free to share a visit with apastron on the next (one exclusive group of all
+    # four requests let one block serve two and lose the other two)
+    plan = chain
+    served = sorted(n for s in plan.schedule["serves"] for n in str(s).split(";"))
+    phase = [n for n in served if n.startswith("phase_")]
+    assert len(plan.schedule) == 2 and len(phase) == 1
+    assert served == sorted(["periastron", "rv_max", "apastron", phase[0]])
+    assert plan.unscheduled.empty and plan.report.status == "optimal"

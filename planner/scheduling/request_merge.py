@@ -10,8 +10,11 @@ Two candidates of one target, of different events and one placement, merge when
 The merged candidate lists both events in ``serves``, both covers in ``covers`` (``event: parts``
 joined by `` | ``), is worth the sum of the two values (both requests are served), and joins the
 two requests into one ``group``: a scheduler takes at most one candidate of a group, so a
-request is never served twice. The two single candidates stay, as alternatives. One pass over
-pairs: a chain of three overlapping requests gives its pairs, not a triple.
+request is never served twice. The two single candidates stay, as alternatives. Each request
+merges with at most one other: of the pairs that could merge, those of highest merged value are
+taken first (a greedy matching), so a group is one request or two, and a chain of three
+overlapping requests (a periastron block serving an RV maximum whose window also holds a wanted
+phase) cannot shut its third request out of the week.
 """
 
 from __future__ import annotations
@@ -36,6 +39,19 @@ def _groups(ids, pairs):
         if ra != rb:
             parent[max(ra, rb)] = min(ra, rb)
     return np.array([find(int(x)) if x in parent else x for x in ids], dtype=np.int64)
+
+
+def _matched(ra, rb, value):
+    """Mask over candidate pairs (requests ``ra``, ``rb``, merged value ``value``): the pairs
+    between requests of a greedy matching, highest value first; each request joins at most one."""
+    pairs = pd.DataFrame({"a": np.minimum(ra, rb), "b": np.maximum(ra, rb), "v": value})
+    best = pairs.groupby(["a", "b"], sort=False)["v"].max().sort_values(ascending=False, kind="stable")
+    used, chosen = set(), []
+    for a, b in best.index:
+        if a not in used and b not in used:
+            used.update((a, b))
+            chosen.append((a, b))
+    return pd.MultiIndex.from_frame(pairs[["a", "b"]]).isin(chosen)
 
 
 def merge_requests(cands: pd.DataFrame) -> pd.DataFrame:
@@ -64,6 +80,9 @@ def merge_requests(cands: pd.DataFrame) -> pd.DataFrame:
     ok = ok_mov | ok_fix
     if not ok.any():
         return c
+    ia, ib, ok_mov, m_lo, m_hi, long_d = ia[ok], ib[ok], ok_mov[ok], m_lo[ok], m_hi[ok], long_d[ok]
+    score = c["score"].to_numpy(float)
+    ok = _matched(c["request_id"].to_numpy(np.int64)[ia], c["request_id"].to_numpy(np.int64)[ib], score[ia] + score[ib])
     ia, ib, ok_mov, m_lo, m_hi, long_d = ia[ok], ib[ok], ok_mov[ok], m_lo[ok], m_hi[ok], long_d[ok]
     merged = c.iloc[ia].reset_index(drop=True)
     other = c.iloc[ib].reset_index(drop=True)
