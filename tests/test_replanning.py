@@ -129,13 +129,13 @@ def test_phase_bins_ask_for_visits_in_the_empty_bins_only():
 def test_campaign_event_count_stops_requests_once_reached(demo):
     targets, site, plan = demo
     cat = pd.read_csv(SAMPLE_TARGETS, comment="#")
-    cat["campaign_events"] = np.where(cat["name"] == "Halcon EB-12", "primary_conjunction:1", "")
+    cat["campaign_events"] = np.where(cat["name"] == "Varda-7 b", "rv_min:1", "")
     targets2 = planner.read_catalogue(cat)
-    assert (plan.schedule["target"] + plan.schedule["event"]).eq("Halcon EB-12primary_conjunction").any()
-    log = parse_log("target,start,end,purpose,outcome\nHalcon EB-12,2026-11-01T20:00:00Z,2026-11-01T23:00:00Z,"
-                    "primary_conjunction,done\n", targets2, "log.csv")
+    assert (plan.schedule["target"] + plan.schedule["event"]).eq("Varda-7 brv_min").any()
+    log = parse_log("target,start,end,purpose,outcome\nVarda-7 b,2026-11-01T20:00:00Z,2026-11-01T20:30:00Z,"
+                    "rv_min,done\n", targets2, "log.csv")
     again = planner.make_plan(targets2, site, FIRST, 3, log=log)
-    assert not ((again.schedule["target"] == "Halcon EB-12") & (again.schedule["event"] == "primary_conjunction")).any()
+    assert not ((again.schedule["target"] == "Varda-7 b") & (again.schedule["event"] == "rv_min")).any()
 
 
 def test_bad_campaign_columns_are_one_line_errors(tmp_path, capsys):
