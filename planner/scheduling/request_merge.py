@@ -44,14 +44,17 @@ def _groups(ids, pairs):
 def _matched(ra, rb, value):
     """Mask over candidate pairs (requests ``ra``, ``rb``, merged value ``value``): the pairs
     between requests of a greedy matching, highest value first; each request joins at most one."""
-    pairs = pd.DataFrame({"a": np.minimum(ra, rb), "b": np.maximum(ra, rb), "v": value})
-    best = pairs.groupby(["a", "b"], sort=False)["v"].max().sort_values(ascending=False, kind="stable")
+    a, b = np.minimum(ra, rb), np.maximum(ra, rb)
+    key = a * (int(b.max()) + 1) + b  # one int64 per pair of requests
+    order = np.lexsort((key, -value))  # highest value first
+    first = np.unique(key[order], return_index=True)[1]
+    best = order[np.sort(first)]  # each request pair once, at its highest value, in that order
     used, chosen = set(), []
-    for a, b in best.index:
-        if a not in used and b not in used:
-            used.update((a, b))
-            chosen.append((a, b))
-    return pd.MultiIndex.from_frame(pairs[["a", "b"]]).isin(chosen)
+    for x, y, k in zip(a[best].tolist(), b[best].tolist(), key[best].tolist()):
+        if x not in used and y not in used:
+            used.update((x, y))
+            chosen.append(k)
+    return np.isin(key, chosen)
 
 
 def merge_requests(cands: pd.DataFrame) -> pd.DataFrame:
