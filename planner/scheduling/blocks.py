@@ -150,8 +150,15 @@ def mean_airmass(airmass):
     return np.where(count > 0, total / np.maximum(count, 1), np.nan)
 
 
+def instance_minutes(jd_utc) -> np.ndarray:
+    """The UTC minute (int64) of each event moment, the part of an instance's name that says
+    which passage it is (the moment it is seen from the Earth); -1 for no moment (a monitor
+    visit), so that such rows still match each other."""
+    minute = np.round(np.asarray(jd_utc, float) * MIN_PER_DAY)
+    return np.where(np.isfinite(minute), minute, -1).astype(np.int64)
+
+
 def instance_keys(target_index, event, jd_utc) -> list[str]:
     """``target|event|minute`` of each event instance: one instance, whichever site, candidate or
-    log row names it (the UTC minute of the moment it is seen from the Earth)."""
-    minute = np.round(np.asarray(jd_utc, float) * MIN_PER_DAY)
-    return [f"{t}|{e}|{m:.0f}" for t, e, m in zip(np.asarray(target_index, int), event, minute)]
+    log row names it (:func:`instance_minutes`)."""
+    return [f"{t}|{e}|{m}" for t, e, m in zip(np.asarray(target_index, int), event, instance_minutes(jd_utc).tolist())]

@@ -27,7 +27,7 @@ import pandas as pd
 from ..sky.limits import REASONS as LIMIT_REASONS
 from ..sky.limits import limit_codes
 from ..timescales.clock import jd_utc_to_iso_z
-from .blocks import MIN_PER_DAY
+from .blocks import instance_minutes
 from .requests import request_kinds
 
 UNSCHEDULED_COLUMNS = ("night", "target", "event", "request", "priority", "event_utc", "best_value",
@@ -66,14 +66,6 @@ def _index(*columns):
     return pd.MultiIndex.from_arrays([np.asarray(c) for c in columns])
 
 
-def _minutes(jd_utc):
-    """The UTC minute of each moment: how the schedule, its candidates and the log name one
-    event instance (:func:`planner.scheduling.blocks.instance_keys`); -1 for no moment (a
-    monitor visit), so that such rows still match each other."""
-    minute = np.round(np.asarray(jd_utc, float) * MIN_PER_DAY)
-    return np.where(np.isfinite(minute), minute, -1).astype(np.int64)
-
-
 def _rivals(starts, ends, sites, schedule, both):
     """Per lost row (its best option widened by the overhead: ``starts``..``ends`` UTC JD, at
     ``sites``), the schedule's blocks it overlaps, named with their values; one text per distinct
@@ -105,7 +97,7 @@ def _second_instances(second, candidates):
     c = candidates[["target_index", "event", "event_jd_utc"]].astype({"event": str}).merge(blocks)
     c = c.assign(off=np.abs(c["event_jd_utc"] - c["mid"])).sort_values("off", kind="stable")
     c = c.drop_duplicates(["target_index", "event", "mid"])
-    return _index(c["target_index"].to_numpy(int), c["event"].to_numpy(object), _minutes(c["event_jd_utc"]))
+    return _index(c["target_index"].to_numpy(int), c["event"].to_numpy(object), instance_minutes(c["event_jd_utc"]))
 
 
 def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.DataFrame, targets: pd.DataFrame,
@@ -126,11 +118,11 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
     ti = v["target_index"].to_numpy(int)
     event = v["event"].astype(str).to_numpy(object)
     night = v["night"].astype(str).to_numpy(object)
-    instance = _index(ti, event, _minutes(v["jd_utc"]))
+    instance = _index(ti, event, instance_minutes(v["jd_utc"]))
     s_ti = schedule["target_index"].to_numpy(int) if len(schedule) else np.zeros(0, int)
     s_event = schedule["event"].astype(str).to_numpy(object) if len(schedule) else np.zeros(0, object)
     s_night = schedule["night"].astype(str).to_numpy(object) if len(schedule) else np.zeros(0, object)
-    served = instance.isin(_index(s_ti, s_event, _minutes(schedule["event_jd_utc"]) if len(schedule)
+    served = instance.isin(_index(s_ti, s_event, instance_minutes(schedule["event_jd_utc"]) if len(schedule)
                                   else np.zeros(0, np.int64)))
     second = [(t, name, n, 0.5 * (b0 + b1)) for serves, t, n, b0, b1 in
               zip(schedule.get("serves", []), s_ti, s_night, schedule.get("start_jd_utc", []),
@@ -148,7 +140,7 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
         first = np.lexsort((np.arange(len(candidates)), -score))
         cands = _index(candidates["target_index"].to_numpy(int)[first],
                        candidates["event"].astype(str).to_numpy(object)[first],
-                       _minutes(candidates["event_jd_utc"].to_numpy(float)[first]))
+                       instance_minutes(candidates["event_jd_utc"].to_numpy(float)[first]))
         unique = ~cands.duplicated()
         at = pd.Index(cands[unique]).get_indexer(instance)
         best = np.where(at >= 0, first[unique][np.maximum(at, 0)], -1)
@@ -162,8 +154,8 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
              else np.full(len(targets), week_rule, dtype=object))
     done = pd.DataFrame({"ti": s_ti, "event": s_event, "night": s_night})
     done_on = {k: f"done on {', '.join(sorted(set(g)))} instead" for k, g in done.groupby(["ti", "event"])["night"]}
-    pair = _index(ti, event)
-    done_elsewhere = (pair.isin(_index(s_ti, s_event)) & ~_index(ti, event, night).isin(_index(s_ti, s_event, s_night)))
+    done_elsewhere = (_index(ti, event).isin(_index(s_ti, s_event))
+                      & ~_index(ti, event, night).isin(_index(s_ti, s_event, s_night)))
     observable = v["observable_h"].to_numpy(float) > 0
 
     code = np.full(len(v), "", dtype=object)
