@@ -175,6 +175,10 @@ def test_whole_flow_runs_offline(tmp_path, monkeypatch, capsys):
     code, out, err = run(["demo", "--start", START, "--nights", "2", "--out", str(tmp_path / "d")], capsys)
     assert code == 0, err
     assert "files in" in out
+    # the terminal summary reads in a 100-column terminal and closes with the safety caution
+    assert max(len(ln) for ln in out.splitlines() if "files in" not in ln) <= 100  # that one names the folder
+    assert out.rstrip().endswith("the observatory's own safety rules and local regulations come first.")
+    assert "Never point the telescope at or near the Sun" in out
 
 
 def test_charts_drawn_in_parallel_equal_sequential(tmp_path):

@@ -153,9 +153,25 @@ def test_writers_produce_one_text_and_one_html_per_night_and_the_csv(tmp_path):
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".periplan-")]  # no temporary left
 
 
+def test_summary_of_a_full_night_keeps_lines_within_100_characters_and_each_block_whole():
+    # sixteen 40-minute blocks (a large catalogue's night); the line wrapped at block boundaries
+    rows = [block(0.27 + 0.029 * k, 0.295 + 0.029 * k, f"Target {k:02d}", event="periastron") for k in range(16)]
+    lines = sheets.week_summary_text(pd.DataFrame(rows)[list(schedule.SCHEDULE_COLUMNS)], pd.DataFrame([NIGHT]),
+                                     TZ).splitlines()
+    assert max(map(len, lines)) <= sheets.TEXT_WIDTH
+    night = [ln for ln in lines if not ln.startswith("16 blocks, ")]
+    assert night[0].startswith("2026-12-07") and len(night) > 2
+    assert all(ln.startswith(" " * 12) and ln[12] != " " for ln in night[1:])  # continued under "dark"
+    joined = " ".join(ln.strip() for ln in night)
+    assert [joined.index(f"Target {k:02d} periastron") for k in range(16)] == sorted(
+        joined.index(f"Target {k:02d} periastron") for k in range(16))
+
+
 def test_summary_lists_each_night_in_order():
     nights = pd.DataFrame([NIGHT, NO_DARK])
     summary = sheets.week_summary_text(blocks_shuffled(), nights, TZ).splitlines()
     assert summary[0].startswith("2026-12-07") and "3 blocks" in summary[0]
-    assert summary[0].index("Early one") < summary[0].index("Middle one") < summary[0].index("Late one")
+    second = next(k for k, ln in enumerate(summary) if ln.startswith("2026-12-08"))
+    first = " ".join(summary[:second])  # a night's line continues on indented lines
+    assert first.index("Early one") < first.index("Middle one") < first.index("Late one")
     assert summary[-1].startswith("3 blocks, 3 targets, 2 nights")

@@ -18,12 +18,10 @@ from ..errors import TimeScaleError
 from ..timescales import clock
 from . import explain
 from .atomic import atomic_write
+from .wording import CAUTION_SHORT
 
 PRODID = "-//periplan//observing plan//EN"
 UID_DOMAIN = "periplan.invalid"
-#: Short form of the safety caution, carried in every event's description.
-CAUTION_SHORT = ("Never point the telescope at or near the Sun; the observatory's own safety rules and "
-                 "local regulations come first.")
 
 
 def block_uid(night: str, target: str, event: str, start_jd_utc: float) -> str:

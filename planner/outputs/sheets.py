@@ -454,10 +454,9 @@ def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | No
         if here.empty:
             lines.append(f"{label}  {dark_text}  nothing scheduled")
             continue
-        items = ", ".join(f"{_clock(b['start_jd_utc'], tz)} {b['target']} "
-                          f"{_what(b)}"
-                          for _, b in here.iterrows())
-        lines.append(f"{label}  {dark_text}  {len(here)} block{'s' if len(here) != 1 else ''}: {items}")
+        items = [f"{_clock(b['start_jd_utc'], tz)} {b['target']} {_what(b)}" for _, b in here.iterrows()]
+        lines += _fill(f"{label}  {dark_text}  {len(here)} block{'s' if len(here) != 1 else ''}:", items,
+                       indent=" " * (len(label) + 2))
     n = len(schedule)
     clock = f"local time ({tz})" if tz else "UTC"
     if n == 0:
@@ -467,4 +466,18 @@ def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | No
                      f"{count(len(nights), 'night')}; times in {clock}.")
     if report is not None and report.n_options:
         lines.append(f"Choice of blocks: {report.describe()}.")
-    return "\n".join(lines) + "\n"
+    return "\n".join(_wrap(lines)) + "\n"
+
+
+def _fill(head: str, items, indent: str, width: int = TEXT_WIDTH) -> list[str]:
+    """``head`` and the ``items`` joined by ", " in lines of at most ``width`` characters, each
+    item whole on one line (one longer than a line stands alone), continuation lines indented."""
+    lines, line = [], head
+    for k, item in enumerate(items):
+        piece = item + ("," if k < len(items) - 1 else "")
+        if len(line) + 1 + len(piece) > width and line.strip():
+            lines.append(line)
+            line = indent + piece
+        else:
+            line += " " + piece
+    return lines + [line]

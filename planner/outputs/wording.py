@@ -1,6 +1,12 @@
-"""Small pieces of English for messages and summaries: counts with the right plural."""
+"""Small pieces of English for messages and summaries: counts with the right plural, the short
+safety caution."""
 
 from __future__ import annotations
+
+#: Short form of the safety caution: in every calendar event's description and closing the
+#: terminal summary of a plan.
+CAUTION_SHORT = ("Never point the telescope at or near the Sun; the observatory's own safety rules and "
+                 "local regulations come first.")
 
 
 def count(n: int, singular: str, plural: str | None = None) -> str:
