@@ -392,6 +392,29 @@ def test_every_request_is_in_the_schedule_or_unscheduled_with_its_reason(tmp_pat
             assert any(not fits(c, rivals, overhead_d) for _, c in mine.iterrows()), name
 
 
+
+def test_a_window_of_days_gets_the_limit_that_stops_it_in_the_dark(tmp_path):
+    # "Low Night" culminates at noon: at midnight it stands at dec - (90 - lat) = 20 - 52.4 < 0 deg
+    # (spherical geometry), so in darkness the altitude limit stops it; by day it is high. A
+    # 1-day epoch error spreads its conjunction over days of daylight and darkness alike.
+    (tmp_path / "site.toml").write_text(SITE)
+    site = planner.read_site(tmp_path / "site.toml")
+    n = planner.night_table(site, dt.date(2026, 12, 7), 1)
+    mid = 0.5 * float(n["dark_start_jd_utc"].iloc[0] + n["dark_end_jd_utc"].iloc[0])
+    ra = ra_culminating_at(mid)
+    rows = [f"Low Night,{(ra + 180) % 360:.4f},20,9.3,0,,{mid + 1.0:.6f},1.0,JD_UTC,,3,,2.0",
+            f"Noon Transit,{(ra + 180) % 360:.4f},20,9.7,0,,{mid + 1.5:.6f},0.0003,JD_UTC,,3,,2.0"]
+    cat = parse_catalogue(HEADER + "\n" + "\n".join(rows) + "\n")
+    pl = planner.make_plan(cat, site, dt.date(2026, 12, 7), 3)
+    low = pl.unscheduled[pl.unscheduled["target"] == "Low Night"]
+    wide = pl.events[pl.events["target"] == "Low Night"]
+    assert (wide["window_end_jd_utc"] - wide["window_start_jd_utc"]).min() > 1.0  # days of daylight in it
+    assert len(low) > 0 and set(low["reason_code"]) == {"altitude"}
+    # a 2-hour transit at noon: its window misses every night's darkness
+    noon = pl.unscheduled[pl.unscheduled["target"] == "Noon Transit"]
+    assert set(noon["reason_code"]) == {"no_darkness"}
+    assert set(noon["reason"]) == {"in daylight or twilight: its window misses the night's darkness"}
+
 # --- a time limit that stops the solver early ---------------------------------------------------
 
 def keeps_the_rules(opts, chosen, overhead_d):

@@ -5,10 +5,11 @@ and has no block in the schedule gets the first reason that applies, in this ord
 
 ==================  ==========================================================================
 ``never_rises``     the target never rises above the site's limits
-``no_darkness``     the night has no dark time
+``no_darkness``     the night has no dark time, or the window misses it
 ``outside_nights``  the event's window lies outside the planned nights
 ``declination``,    no part of the window is observable, for this limit (the one that stops the
-``altitude``,       target at most of the window's moments, :func:`planner.sky.limits.limiting_constraint`)
+``altitude``,       target at most of the moments of the window's part in its night's darkness,
+                    :func:`planner.sky.limits.limiting_constraint`)
 ``horizon``,
 ``hour_angle``,
 ``moon``, ``sun``
@@ -38,6 +39,8 @@ WINDOW_SAMPLES = 9
 LIMIT_CHUNK = 200_000
 _CODES = tuple(LIMIT_REASONS)
 LOST = "lost to higher-value blocks: "
+#: The reason of a window that lies wholly in its night's daylight or twilight.
+MISSES_DARKNESS = "in daylight or twilight: its window misses the night's darkness"
 
 
 def _limit_reasons(targets, site, tracks, ti, w0, w1):
@@ -173,9 +176,17 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
         rows = np.flatnonzero(open_ & applies)
         open_[rows] = False
         if name == "limit" and len(rows):
-            code[rows], words[rows] = _limit_reasons(targets, site, tracks, ti[rows],
-                                                     v["window_start_jd_utc"].to_numpy(float)[rows],
-                                                     v["window_end_jd_utc"].to_numpy(float)[rows])
+            # the part of the window in its night's darkness: a window of days (a poorly known
+            # periastron) is mostly daylight, but the limit that matters is the one in the dark
+            by_night = nights.set_index(nights["night"].astype(str))
+            w0 = np.maximum(v["window_start_jd_utc"].to_numpy(float)[rows],
+                            by_night["dark_start_jd_utc"].reindex(night[rows]).to_numpy(float))
+            w1 = np.minimum(v["window_end_jd_utc"].to_numpy(float)[rows],
+                            by_night["dark_end_jd_utc"].reindex(night[rows]).to_numpy(float))
+            missed = ~(w1 > w0)
+            code[rows[missed]], words[rows[missed]] = "no_darkness", MISSES_DARKNESS
+            inside = rows[~missed]
+            code[inside], words[inside] = _limit_reasons(targets, site, tracks, ti[inside], w0[~missed], w1[~missed])
             continue
         code[rows] = name
         if name == "better_night":
