@@ -371,6 +371,10 @@ def _week_lp(value, rows, upper, telescope, start, end_padded, work, time_limit_
 #: 3,000-target weeks the fourth (0.6 %) reached a plan 2 % better than night by night in 0.3 s].
 NEIGHBOURHOOD_FIRST = 1e-4
 NEIGHBOURHOOD_ROUNDS = 5
+#: ... and the rounds go on widening after one that finds nothing better while the plan is
+#: further than this from the bound [our choice: on a 3-night week of 3,000 targets the round
+#: after such a one took the gap from 1.34 % to 0.82 % in 0.8 s].
+WIDEN_GAP = 0.01
 
 
 def _neighbourhoods(value, rows, upper, telescope, start, end_padded, incumbent, week, time_limit_s, rel_gap):
@@ -380,7 +384,8 @@ def _neighbourhoods(value, rows, upper, telescope, start, end_padded, incumbent,
     options where the plan and the LP agree are fixed; those where they differ, where the LP is
     fractional, or whose LP reduced value is within a margin of 0 are solved exactly
     (:func:`_solve`) with the room the fixed ones leave, and the margin grows while time is left,
-    the gap to ``week.bound`` exceeds ``rel_gap`` and a wider margin still finds a better plan.
+    the gap to ``week.bound`` exceeds ``rel_gap`` and a wider margin still finds a better plan
+    (or the gap exceeds :data:`WIDEN_GAP`).
     Every plan found keeps every rule.
     """
     t0 = time.perf_counter()
@@ -411,8 +416,8 @@ def _neighbourhoods(value, rows, upper, telescope, start, end_padded, incumbent,
                      max(left / 2, 0.05), rel_gap)[0]  # half the time left: a wider round may follow
         plan = fixed.copy()
         plan[idx[got]] = True
-        if value[plan].sum() <= total * (1 + 1e-9) and k > 0:
-            break  # a wider neighbourhood that finds nothing better: the next would cost more still
+        if value[plan].sum() <= total * (1 + 1e-9) and k > 0 and week.bound - total <= WIDEN_GAP * week.bound:
+            break  # a wider neighbourhood that finds nothing better, the plan close: the next would cost more still
         if value[plan].sum() > total:
             best = plan
     return best
