@@ -102,6 +102,26 @@ def test_windows_are_labelled_in_words_and_a_long_one_is_clipped_with_an_arrow()
     assert "alpha Tau: primary conjunction" in [tx.get_text() for tx in short.axes[0].texts]
 
 
+def test_many_overlapping_windows_get_lanes_of_their_own_and_no_label_covers_another():
+    # sixteen blocks of a crowded night, every event window longer than the night (an RV window
+    # lasting days): each in its own lane under the altitude scale, no two labels overlapping
+    rows = [block("2026-12-07", J0 + 0.27 + 0.029 * k, J0 + 0.295 + 0.029 * k, "alpha Tau", 0, event="rv_max",
+                  ev=J0 + 0.3 + 0.029 * k, ws=J0 - 1.0 - 0.1 * k, we=J0 + 1.5) for k in range(16)]
+    crowded = pd.DataFrame(rows)[list(schedule.SCHEDULE_COLUMNS)]
+    fig, _ = night_fig(crowded)
+    ax = fig.axes[0]
+    heights = sorted({ln.get_ydata()[0] for ln in lines(fig, "window")})
+    assert len(heights) == 16 and max(heights) < 0  # sixteen lanes, all below the horizon line
+    assert ax.get_ylim()[1] == 90 and ax.get_ylim()[0] <= min(heights) - 1
+    fig.canvas.draw()
+    boxes = [t.get_window_extent() for t in ax.texts if t.get_text()]
+    assert len(boxes) >= 16
+    assert not any(p.overlaps(q) for i, p in enumerate(boxes) for q in boxes[i + 1:])
+    curve = [ln for ln in ax.get_lines() if ln.get_gid() == "curve"][0]
+    # the curve stops at the horizon, above the lanes: clipped at altitude 0 (display pixels)
+    assert abs(curve.get_clip_box().y0 - ax.transData.transform((0.0, 0.0))[1]) < 0.5
+
+
 def test_each_target_keeps_its_look_in_every_chart_and_looks_differ_without_colour():
     names = ["Zeta", "Alpha", "Mid"]
     styles = target_style.plan_styles(names)

@@ -85,7 +85,9 @@ def test_night_chart_png_and_artists(tmp_path):
     assert len(moon) == 1 and moon[0].get_label() == "Moon, 40% lit"
     path = charts.write_night_chart(tmp_path / "night.png", NIGHT, t, alt, names, blocks, 30.0, tz="Europe/Madrid")
     (w, h), size = png_size(path)
-    assert (w, h) == (int(10.0 * charts.DPI), int(5.2 * charts.DPI))
+    # the altitude chart's 5.2 in, and one lane under it for the one event window (its 4 deg at
+    # the altitude scale's 3.9 in for 90 deg)
+    assert (w, h) == (int(10.0 * charts.DPI), int((5.2 + 4.0 * 3.9 / 90) * charts.DPI))
     assert 10_000 < size < 2_000_000
 
 

@@ -73,39 +73,77 @@ def _ha_range(site) -> str:
     return f"{lo}..{hi}" if lo and hi else (f"> {lo}" if lo else f"< {hi}")
 
 
-def draw_event_windows(ax, blocks, ref_jd, lo_h, hi_h, styles: dict) -> None:
-    """Each fixed block's event window as a bracket, its moment a marker, labelled in words.
+#: Height of one event-window lane under the altitude chart, in degrees of its altitude scale,
+#: and the width of a label character at 7 pt, in points (DejaVu Sans averages about 0.6 em;
+#: an estimate that errs towards too wide) [our choices: a 7 pt label and its line in a lane].
+LANE_DEG = 4.0
+LABEL_CHAR_PT = 0.62 * 7
 
-    A window reaching past the chart's edge is drawn to the edge and ends in an arrow there,
-    with the hours it goes on beyond the chart written beside it.
-    """
-    row = 0
-    for _, b in blocks.iterrows():
+
+def _window_label(b) -> str:
+    return f"{b['target']}: {event_words(b['event'], b.get('label'))}"
+
+
+def window_lanes(blocks, ref_jd, lo_h, hi_h, pt_per_h) -> list:
+    """(row of ``blocks``, lane) of each fixed block whose event window shows on the chart, lanes
+    from 0, so that no two windows of a lane overlap, labels included (a label is as wide as
+    :data:`LABEL_CHAR_PT` a character, at ``pt_per_h`` points an hour): each window, in order of
+    its start, takes the first lane free at its start (interval partitioning, which uses as few
+    lanes as any assignment can)."""
+    spans = []
+    for k, (_, b) in enumerate(blocks.iterrows()):
         if b["kind"] != "fixed" or not np.isfinite(b["window_start_jd_utc"]):
             continue
+        a = max((b["window_start_jd_utc"] - ref_jd) * _HOURS_PER_DAY, lo_h)
+        z = min((b["window_end_jd_utc"] - ref_jd) * _HOURS_PER_DAY, hi_h)
+        if z > a:
+            label_h = (len(_window_label(b)) + 9) * LABEL_CHAR_PT / pt_per_h  # 9: room for "+26.0 h"
+            spans.append((a, max(z, a + label_h), k))
+    free_at, out = [], []
+    for a, z, k in sorted(spans):
+        lane = next((j for j, t in enumerate(free_at) if t <= a), len(free_at))
+        if lane == len(free_at):
+            free_at.append(z)
+        free_at[lane] = z
+        out.append((k, lane))
+    return sorted(out)
+
+
+def draw_event_windows(ax, blocks, ref_jd, lo_h, hi_h, styles: dict, lanes) -> None:
+    """Each fixed block's event window as a bracket in its lane under the altitude scale (lane j
+    at altitude ``-(j + 0.75) * LANE_DEG``; ``lanes`` from :func:`window_lanes`), its moment a
+    marker, labelled in words.
+
+    A window reaching past the chart's edge is drawn to the edge and ends in an arrow there,
+    with the hours it goes on beyond the chart written above that end.
+    """
+    rows = list(blocks.iterrows())
+    for k, lane in lanes:
+        b = rows[k][1]
         st = styles.get(b["target"])
         colour = st.colour if st else "#000000"
-        y = 6.0 + 3.5 * (row % 6)
-        row += 1
+        y = -(lane + 0.75) * LANE_DEG
         ws = (b["window_start_jd_utc"] - ref_jd) * _HOURS_PER_DAY
         we = (b["window_end_jd_utc"] - ref_jd) * _HOURS_PER_DAY
         a, z = max(ws, lo_h), min(we, hi_h)
-        if z <= a:
-            continue
         ax.plot([a, z], [y, y], color=colour, lw=2.0, gid="window",
-                marker=None if (ws < lo_h or we > hi_h) else "|", markersize=10)
+                marker=None if (ws < lo_h or we > hi_h) else "|", markersize=7)
         for edge, beyond, sign in ((a, lo_h - ws, -1), (z, we - hi_h, 1)):
             if beyond > 0:
                 ax.annotate("", xy=(edge, y), xytext=(edge - sign * 0.6, y), gid="clipped",
                             arrowprops={"arrowstyle": "-|>", "color": colour, "lw": 1.5})
-                ax.annotate(f"+{beyond:.1f} h", (edge, y), xytext=(-sign * 4 - (22 if sign > 0 else 0), -9),
-                            textcoords="offset points", fontsize=6.5, color=colour)
+                if sign > 0:  # the left end's hours go into the label, which starts there
+                    ax.annotate(f"+{beyond:.1f} h", (edge, y), xytext=(-2, 2.5), textcoords="offset points",
+                                fontsize=6.5, color=colour, ha="right")
         if np.isfinite(b["event_jd_utc"]):
             xe = (b["event_jd_utc"] - ref_jd) * _HOURS_PER_DAY
             if lo_h <= xe <= hi_h:
-                ax.plot([xe], [y], marker=st.marker if st else "D", color=colour, markersize=6, ls="none",
+                ax.plot([xe], [y], marker=st.marker if st else "D", color=colour, markersize=5, ls="none",
                         markeredgecolor="black", markeredgewidth=0.5, gid="event")
-        ax.annotate(f"{b['target']}: {event_words(b['event'], b.get('label'))}", (a, y), xytext=(0, 3),
+        before = f"+{lo_h - ws:.1f} h " if ws < lo_h else ""
+        if before:
+            ax.annotate(before, (a, y), xytext=(2, 2.5), textcoords="offset points", fontsize=6.5, color=colour)
+        ax.annotate(_window_label(b), (a, y), xytext=(2 + len(before) * LABEL_CHAR_PT * 6.5 / 7, 2.5),
                     textcoords="offset points", fontsize=7, color=colour)
 
 

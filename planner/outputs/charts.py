@@ -125,9 +125,13 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
         raise PeriplanError(f"altitude array has shape {alt.shape}; expected ({len(names)}, {t.size})")
     ref = clock.date_to_jd_utc(night["night"])
     x = (t - ref) * _HOURS_PER_DAY
-    fig = _figure(10.0, 5.2, margins_in=(0.7, 2.45, 0.75, 0.55))
-    ax = fig.add_subplot()
     lo_h, hi_h = (float(x.min()), float(x.max())) if x.size else (12.0, 36.0)
+    width_in, height_in, margins = 10.0, 5.2, (0.7, 2.45, 0.75, 0.55)
+    lanes = chart_marks.window_lanes(blocks, ref, lo_h, hi_h, (width_in - margins[0] - margins[1]) * 72 / (hi_h - lo_h))
+    n_lanes = 1 + max((lane for _, lane in lanes), default=-1)
+    deg_in = (height_in - margins[2] - margins[3]) / 90.0  # the altitude scale keeps its size
+    fig = _figure(width_in, height_in + n_lanes * chart_marks.LANE_DEG * deg_in, margins_in=margins)
+    ax = fig.add_subplot()
     _shade_night(ax, night, lambda v: (v - ref) * _HOURS_PER_DAY, lo_h, hi_h)
     styles = styles or target_style.plan_styles(names)
     colour = {nm: styles[nm].colour for nm in names}
@@ -148,8 +152,17 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
         row = names.index(b["target"]) if b["target"] in names else None
         if row is not None and inside.any():
             ax.plot(x[inside], alt[row][inside], color=c, lw=4.5, alpha=0.8, solid_capstyle="butt", gid="block")
-    chart_marks.draw_event_windows(ax, blocks, ref, lo_h, hi_h, styles)
-    ax.set_ylim(0, 90)
+    from matplotlib.patches import Rectangle
+
+    above = Rectangle((lo_h, 0.0), hi_h - lo_h, 90.0, transform=ax.transData)
+    for line in ax.get_lines():  # the curves end at the horizon: the event windows' lanes lie below it
+        line.set_clip_path(above)
+    bottom = -n_lanes * chart_marks.LANE_DEG
+    if n_lanes:
+        ax.axhline(0.0, color="#333333", lw=0.8, gid="horizon_line")
+    chart_marks.draw_event_windows(ax, blocks, ref, lo_h, hi_h, styles, lanes)
+    ax.set_ylim(bottom, 90)
+    ax.set_yticks(range(0, 91, 10))
     ax.set_xlim(lo_h, hi_h)
     ax.set_ylabel("altitude (deg)")
     _clock_ticks(ax, lo_h, hi_h)
@@ -169,10 +182,14 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
         top.set_xlabel(f"local time, {tz} (hour" + (f"; clocks change {names[0]} -> {names[-1]})" if changed
                                                     else ")"))
     right = ax.twinx()
-    right.set_ylim(0, 90)
+    right.set_ylim(bottom, 90)
     x_marks = np.array([1.0, 1.2, 1.5, 2.0, 3.0, 5.0])
     right.set_yticks([altitude_for_airmass_deg(v) for v in x_marks], [f"{v:g}" for v in x_marks])
     right.set_ylabel("airmass")
+    if n_lanes:  # both labels beside the altitude scale, not the lanes under it
+        mid = (45.0 - bottom) / (90.0 - bottom)
+        ax.yaxis.set_label_coords(-0.06, mid)
+        right.yaxis.set_label_coords(1.06, mid)
     ax.grid(alpha=0.3, lw=0.5)
     ax.legend(loc="upper left", bbox_to_anchor=(1.08, 1.0), fontsize=8, frameon=False)
     ax.set_title(title or f"Night of {night['night']}: altitude of the scheduled targets", fontsize=11)
@@ -186,18 +203,13 @@ def write_night_chart(path, night, times_jd_utc, alt_deg, names, blocks, min_alt
                                  moon_alt_deg, **marks), path)
 
 
-#: Width of a label character at the week chart's 7 pt, in points (DejaVu Sans averages about
-#: 0.6 em a character; an estimate that errs towards too wide).
-_LABEL_CHAR_PT = 0.62 * 7
-
-
 def _block_labels(ax, fig, names, lo, hi):
     """Each block's target name inside its bar when it fits, else beside it in dark text (to the
     right, or to the left at the chart's right edge), so that no name runs unreadably over the
     bar's edge. ``names``: (start h, end h, row, name, flexible)."""
     pt_per_h = ax.get_position().width * fig.get_figwidth() * 72 / (hi - lo)
     for xs, xe, y, name, flexible in names:
-        need_h = len(name) * _LABEL_CHAR_PT / pt_per_h
+        need_h = len(name) * chart_marks.LABEL_CHAR_PT / pt_per_h
         if need_h <= 0.92 * (xe - xs):
             ax.text(0.5 * (xs + xe), y, name, ha="center", va="center", fontsize=7,
                     color="black" if flexible else "white", clip_on=True)
