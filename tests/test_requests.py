@@ -217,6 +217,15 @@ def test_observe_defaults_follow_what_the_catalogue_gives():
     assert list(cat["observe"]) == ["photometry", "photometry", "photometry", "rv", "photometry;rv"]
 
 
+def test_observe_both_is_photometry_and_rv():
+    # the demo catalogue's header comment and the README call it "both"
+    cat = parse_catalogue("name,ra,dec,period_d,e,omega_deg,tc,k_ms,duration_h,observe\n"
+                          "Two Ways,10,20,3,0,,2461000.5,40,2.0,both\n"
+                          "Listed,10,20,3,0,,2461000.5,40,2.0,rv; photometry\n"
+                          "Loud,10,20,3,0,,2461000.5,40,2.0,Both\n")
+    assert list(cat["observe"]) == ["photometry;rv"] * 3
+
+
 def test_rv_maximum_before_the_first_night_is_requested_while_its_window_lasts(tmp_path, dark):
     # An RV maximum two days before the night: its phase window (RV within 10 % of K of the
     # maximum) runs on for days on a 60-day orbit, so the night can still take the visit. A

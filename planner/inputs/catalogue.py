@@ -57,7 +57,7 @@ Input columns (header names, case-insensitive; order free):
 ``label``          the catalogue's own name for the event of a linear ephemeris
 ``visit_h``, ``visit_gap_h``  block length and minimum spacing (hours) of flexible visits
                    (``visit_h`` is also the length of an RV visit; default 0.5 h)
-``observe``        ``photometry``, ``rv`` or ``photometry;rv``: what the observer does
+``observe``        ``photometry``, ``rv``, or ``both`` (also ``photometry;rv``): what the observer does
 ``rv_fraction_k``  an RV visit counts while the RV is within this fraction of K of the
                    extremum (0 < f <= 1, default 0.1)
 ``rv_visits``, ``rv_gap_h``  RV visits wanted over a periastron passage (default 3), and their

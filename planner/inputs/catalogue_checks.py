@@ -749,7 +749,8 @@ _YES, _NO = ("yes", "true", "1", "y"), ("no", "false", "0", "n", "")
 def check_requests(cells: Cells, linear, duration_h, a_rstar, k_ms) -> dict:
     """Request columns: ``observe``, ``rv_fraction_k``, ``rv_visits``, ``rv_gap_h``, ``full_coverage``.
 
-    ``observe`` is ``photometry``, ``rv`` or both separated by ``;`` (returned in that order);
+    ``observe`` is ``photometry``, ``rv`` or both (``both``, or the two separated by ``;``;
+    returned in that order);
     by default photometry where eclipse geometry, a duration or only a linear ephemeris is given,
     rv where ``k_ms`` is given, both when both (and when neither). ``rv_fraction_k`` must lie in
     (0, 1], ``rv_visits`` be a whole number >= 1, ``rv_gap_h`` >= 0, ``full_coverage`` yes/no.
@@ -760,10 +761,11 @@ def check_requests(cells: Cells, linear, duration_h, a_rstar, k_ms) -> dict:
     codes, texts = cells.codes("observe")
     chosen, problem = [], []  # per distinct cell: the words in their order (None: the default), the error
     for text in texts:
-        words = [w.strip().lower() for w in text.split(";") if w.strip()]
+        words = [w for w in (w.strip().lower() for w in text.split(";")) if w]
+        words = [v for w in words for v in (OBSERVE_WORDS if w == "both" else (w,))]  # both: photometry;rv
         unknown = [w for w in words if w not in OBSERVE_WORDS]
         chosen.append(";".join(w for w in OBSERVE_WORDS if w in words) if words and not unknown else None)
-        problem.append(f"unknown observation {unknown[0]!r}; expected photometry, rv or 'photometry;rv'"
+        problem.append(f"unknown observation {unknown[0]!r}; expected photometry, rv or both ('photometry;rv')"
                        if unknown else None)
     _report(cells, "observe", codes, texts, problem)
     named = np.array([c is not None for c in chosen])[codes]
