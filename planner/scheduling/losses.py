@@ -29,7 +29,7 @@ from ..sky.limits import REASONS as LIMIT_REASONS
 from ..sky.limits import limit_codes
 from ..timescales.clock import jd_utc_to_iso_z
 from .blocks import instance_minutes
-from .requests import request_kinds
+from .requests import SERIES, request_kinds
 
 UNSCHEDULED_COLUMNS = ("night", "target", "event", "request", "priority", "event_utc", "best_value",
                        "reason_code", "reason")
@@ -39,6 +39,9 @@ WINDOW_SAMPLES = 9
 LIMIT_CHUNK = 200_000
 _CODES = tuple(LIMIT_REASONS)
 LOST = "lost to higher-value blocks: "
+#: The reasons of a request with observable stretches, none of which can hold its block.
+TOO_SHORT_SERIES = "observable only in stretches too short or holding no contact with its baseline"
+TOO_SHORT_VISIT = "observable only in stretches too short for its visits"
 #: The reason of a window that lies wholly in its night's daylight or twilight.
 MISSES_DARKNESS = "in daylight or twilight: its window misses the night's darkness"
 
@@ -167,7 +170,7 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
         ("never_rises", np.isin(ti, never["target_index"].to_numpy(int)), "never rises high enough at the site"),
         ("no_darkness", np.isin(night, [n for n, d in dark.items() if not d]), "the night has no darkness at the site"),
         ("limit", ~has & ~observable, None),
-        ("too_short", ~has, "observable only in stretches too short or holding no contact with its baseline"),
+        ("too_short", ~has, None),
         ("better_night", (rules[ti] != "every") & done_elsewhere, None),
         ("lost", np.ones(len(v), bool), None),
     ]
@@ -189,7 +192,9 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
             code[inside], words[inside] = _limit_reasons(targets, site, tracks, ti[inside], w0[~missed], w1[~missed])
             continue
         code[rows] = name
-        if name == "better_night":
+        if name == "too_short":
+            words[rows] = np.where(v["request"].to_numpy(object)[rows] == SERIES, TOO_SHORT_SERIES, TOO_SHORT_VISIT)
+        elif name == "better_night":
             words[rows] = [done_on[(t, e)] for t, e in zip(ti[rows], event[rows])]
         elif name == "lost" and len(rows):
             both = "site" in candidates and "site" in schedule
