@@ -85,10 +85,11 @@ def _window_label(b) -> str:
 
 
 def window_lanes(blocks, ref_jd, lo_h, hi_h, pt_per_h) -> list:
-    """(row of ``blocks``, lane) of each fixed block whose event window shows on the chart, lanes
-    from 0, so that no two windows of a lane overlap, labels included (a label is as wide as
-    :data:`LABEL_CHAR_PT` a character, at ``pt_per_h`` points an hour): each window, in order of
-    its start, takes the first lane free at its start (interval partitioning, which uses as few
+    """(row of ``blocks``, lane, label hour) of each fixed block whose event window shows on the
+    chart: lanes from 0, so that no two windows of a lane overlap, labels included (a label is as
+    wide as :data:`LABEL_CHAR_PT` a character, at ``pt_per_h`` points an hour, and starts at its
+    window's start, or earlier where it would run past the chart's right edge); each window, in
+    order of its start, takes the first lane free there (interval partitioning, which uses as few
     lanes as any assignment can)."""
     spans = []
     for k, (_, b) in enumerate(blocks.iterrows()):
@@ -98,27 +99,28 @@ def window_lanes(blocks, ref_jd, lo_h, hi_h, pt_per_h) -> list:
         z = min((b["window_end_jd_utc"] - ref_jd) * _HOURS_PER_DAY, hi_h)
         if z > a:
             label_h = (len(_window_label(b)) + 9) * LABEL_CHAR_PT / pt_per_h  # 9: room for "+26.0 h"
-            spans.append((a, max(z, a + label_h), k))
+            at = max(min(a, hi_h - label_h), lo_h)
+            spans.append((min(a, at), max(z, at + label_h), k, at))
     free_at, out = [], []
-    for a, z, k in sorted(spans):
+    for a, z, k, at in sorted(spans):
         lane = next((j for j, t in enumerate(free_at) if t <= a), len(free_at))
         if lane == len(free_at):
             free_at.append(z)
         free_at[lane] = z
-        out.append((k, lane))
+        out.append((k, lane, at))
     return sorted(out)
 
 
 def draw_event_windows(ax, blocks, ref_jd, lo_h, hi_h, styles: dict, lanes) -> None:
     """Each fixed block's event window as a bracket in its lane under the altitude scale (lane j
-    at altitude ``-(j + 0.75) * LANE_DEG``; ``lanes`` from :func:`window_lanes`), its moment a
-    marker, labelled in words.
+    at altitude ``-(j + 0.75) * LANE_DEG``; ``lanes`` from :func:`window_lanes`, with where each
+    label starts), its moment a marker, labelled in words.
 
     A window reaching past the chart's edge is drawn to the edge and ends in an arrow there,
     with the hours it goes on beyond the chart written above that end.
     """
     rows = list(blocks.iterrows())
-    for k, lane in lanes:
+    for k, lane, at in lanes:
         b = rows[k][1]
         st = styles.get(b["target"])
         colour = st.colour if st else "#000000"
@@ -143,7 +145,7 @@ def draw_event_windows(ax, blocks, ref_jd, lo_h, hi_h, styles: dict, lanes) -> N
         before = f"+{lo_h - ws:.1f} h " if ws < lo_h else ""
         if before:
             ax.annotate(before, (a, y), xytext=(2, 2.5), textcoords="offset points", fontsize=6.5, color=colour)
-        ax.annotate(_window_label(b), (a, y), xytext=(2 + len(before) * LABEL_CHAR_PT * 6.5 / 7, 2.5),
+        ax.annotate(_window_label(b), (at, y), xytext=(2 + len(before) * LABEL_CHAR_PT * 6.5 / 7, 2.5),
                     textcoords="offset points", fontsize=7, color=colour)
 
 

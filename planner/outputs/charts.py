@@ -128,7 +128,7 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     lo_h, hi_h = (float(x.min()), float(x.max())) if x.size else (12.0, 36.0)
     width_in, height_in, margins = 10.0, 5.2, (0.7, 2.45, 0.75, 0.55)
     lanes = chart_marks.window_lanes(blocks, ref, lo_h, hi_h, (width_in - margins[0] - margins[1]) * 72 / (hi_h - lo_h))
-    n_lanes = 1 + max((lane for _, lane in lanes), default=-1)
+    n_lanes = 1 + max((lane for _, lane, _ in lanes), default=-1)
     deg_in = (height_in - margins[2] - margins[3]) / 90.0  # the altitude scale keeps its size
     fig = _figure(width_in, height_in + n_lanes * chart_marks.LANE_DEG * deg_in, margins_in=margins)
     ax = fig.add_subplot()
