@@ -134,7 +134,7 @@ def draw_event_windows(ax, blocks, ref_jd, lo_h, hi_h, styles: dict, lanes) -> N
             if beyond > 0:
                 ax.annotate("", xy=(edge, y), xytext=(edge - sign * 0.6, y), gid="clipped",
                             arrowprops={"arrowstyle": "-|>", "color": colour, "lw": 1.5})
-                if sign > 0:  # the left end's hours go into the label, which starts there
+                if sign > 0:  # the left end's are written before the label (further down)
                     ax.annotate(f"+{beyond:.1f} h", (edge, y), xytext=(-2, 2.5), textcoords="offset points",
                                 fontsize=6.5, color=colour, ha="right")
         if np.isfinite(b["event_jd_utc"]):
