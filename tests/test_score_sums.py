@@ -105,6 +105,24 @@ def test_html_lists_print_the_same_parts(plan_dir):
         text_totals = re.findall(r"x conditions (\d+\.\d) points: ", " ".join(txt.read_text().split()))
         page = html.unescape(txt.with_suffix(".html").read_text())
         assert re.findall(r"<li>conditions (\d+\.\d) points: ", page) == text_totals
+        # each item of a list reads alone: its parentheses close inside it
+        for item in re.findall(r"<li>(.*?)</li>", page):
+            depth = np.cumsum([{"(": 1, ")": -1}.get(c, 0) for c in item])
+            assert depth[-1] == 0 and depth.min() >= 0, item
+
+
+def test_a_block_serving_two_requests_shows_both_values_in_one_line_on_the_html_sheet(plan_dir):
+    import html
+
+    texts = {p: " ".join(p.read_text().split()) for p in sorted(plan_dir.glob("night-*.txt"))}
+    shared = [(p, m) for p, t in texts.items() for m in re.finditer(r"Why: score (\d+\.\d) = (\d+\.\d) for the (.*?) "
+                                                                  r"\(priority .*?\) \+ (\d+\.\d) for the (\S+ \S+) "
+                                                                  r"it serves too\.", t)]
+    assert shared, "the demo plan must hold a block serving two requests for this test"
+    for p, m in shared:
+        page = " ".join(html.unescape(p.with_suffix(".html").read_text()).split())
+        assert (f"score {m.group(1)} = {m.group(2)} for the {m.group(3)} + {m.group(4)} for the {m.group(5)} "
+                "it serves too; the first = priority x rarity x conditions") in page
 
 
 def test_calendar_sums_equal_their_parts_and_the_schedule(plan_dir):

@@ -176,15 +176,21 @@ def reasons(block) -> list[str]:
                       else f"Moon {lit_text}, separation not computed ({pts['pts_moon']:.1f})")
     conditions.append(explain.timing_phrase(block, pts["pts_timing"]))
     out.append(f"conditions {total:.1f} points: " + ", ".join(conditions))
+    return out
+
+
+def shared_score(block):
+    """(own, other) phrases of a block serving two requests, ``"228.5 for the periastron"`` and
+    ``"257.9 for the rv min it serves too"`` (rounded so that they add up to the printed score),
+    or None for a block serving one; :func:`reasons` then gives the first's factors."""
     serves = str(block.get("serves", "") or "").split(";")
     own = block["x_priority"] * block["x_rarity"] * sum(block[c] for c in ("pts_coverage", "pts_airmass", "pts_moon",
                                                                             "pts_timing"))
-    if len(serves) > 1 and abs(block["score"] - own) > 1e-6:
-        # a block serving two requests: its own value plus the other's, printed so that they add up
-        (mine, other), _ = explain.rounded_parts([own, block["score"] - own])
-        out[0] = f"{mine:.1f} for the {serves[0].replace('_', ' ')} (priority {block['x_priority']:g}"
-        out[-1] = out[-1] + f") + {other:.1f} for the {serves[1].replace('_', ' ')} it serves too"
-    return out
+    if len(serves) < 2 or abs(block["score"] - own) <= 1e-6:
+        return None
+    (mine, other), _ = explain.rounded_parts([own, block["score"] - own])
+    return (f"{mine:.1f} for the {serves[0].replace('_', ' ')}",
+            f"{other:.1f} for the {serves[1].replace('_', ' ')} it serves too")
 
 
 def _what(b) -> str:
@@ -316,7 +322,9 @@ def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_na
             lines.append(f"   Do: {action(b)}.")
             if covers_line(b):
                 lines.append(f"   {covers_line(b)}")
-            lines.append(f"   Why: score {b['score']:.1f} = " + " x ".join(reasons(b)) + ".")
+            shared, factors = shared_score(b), " x ".join(reasons(b))
+            lines.append(f"   Why: score {b['score']:.1f} = "
+                         + (f"{shared[0]} ({factors}) + {shared[1]}." if shared else factors + "."))
             if isinstance(b["notes"], str) and b["notes"]:
                 lines.append(f"   Notes: {b['notes']}.")
     if missed:
@@ -377,8 +385,10 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
         if covers_line(b):
             out.append(f"<p>{e(covers_line(b))}</p>")
         items = "".join(f"<li>{e(r)}</li>" for r in reasons(b))
-        out.append(f"<p><strong>Why:</strong> score {b['score']:.1f} = priority x rarity x conditions</p>"
-                   f"<ul>{items}</ul>")
+        shared = shared_score(b)
+        why = (f"{e(shared[0])} + {e(shared[1])}; the first = priority x rarity x conditions" if shared
+               else "priority x rarity x conditions")
+        out.append(f"<p><strong>Why:</strong> score {b['score']:.1f} = {why}</p><ul>{items}</ul>")
         if isinstance(b["notes"], str) and b["notes"]:
             out.append(f'<p class="notes">Notes: {e(b["notes"])}.</p>')
         out.append("</div>")
