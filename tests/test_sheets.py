@@ -175,3 +175,20 @@ def test_summary_lists_each_night_in_order():
     first = " ".join(summary[:second])  # a night's line continues on indented lines
     assert first.index("Early one") < first.index("Middle one") < first.index("Late one")
     assert summary[-1].startswith("3 blocks, 3 targets, 2 nights")
+
+
+def test_a_sequence_visit_says_which_visits_of_its_passage_the_plan_leaves_out(tmp_path):
+    # three visit slots over one periastron passage, the plan holding slots 1 and 3 on two nights
+    common = dict(event="periastron", request="rv_sequence", serves="periastron", n_slots=3,
+                  event_jd_utc=J0 + 0.45)
+    rows = [block(0.30, 0.32, "Passage Star", slot=1, **common),
+            block(1.30, 1.32, "Passage Star", slot=3, night="2026-12-08", **common),
+            block(0.50, 0.52, "Other Star", event="rv_max")]
+    frame = pd.DataFrame(rows)[list(schedule.SCHEDULE_COLUMNS)]
+    sheets.write_night_sheets(tmp_path, frame, pd.DataFrame([NIGHT, NO_DARK]), TZ)
+    text = " ".join((tmp_path / "night-2026-12-07.txt").read_text().split())
+    assert "RV visit 1 of 3 over the periastron passage" in text and "(visit 2 is not in the plan)" in text
+    assert text.count("not in the plan") == 1  # the RV maximum's visit is one request, not a sequence
+    assert "(visit 2 is not in the plan)" in " ".join((tmp_path / "night-2026-12-08.txt").read_text().split())
+    full = frame.iloc[[0, 1, 1]].assign(slot=[1, 2, 3]).reset_index(drop=True)
+    assert list(sheets.planned_slots(full)) == ["1;2;3"] * 3

@@ -111,7 +111,7 @@ def action(block) -> str:
         minutes = (block["end_jd_utc"] - block["start_jd_utc"]) * MIN_PER_DAY
         what = str(block["event"]).replace("rv_max", "RV maximum").replace("rv_min", "RV minimum").replace("_", " ")
         text = RV_ACTIONS[request].format(minutes=minutes, what=what, slot=int(block.get("slot", 1)),
-                                          n_slots=int(block.get("n_slots", 1)))
+                                          n_slots=int(block.get("n_slots", 1))) + _other_slots(block)
         if block["event"] == "visit":  # a phase-coverage visit: its bin, not an event
             text = f"one RV spectrum of about {minutes:.0f} min in orbital {label} (not yet observed)"
         phase = phase_of_event(block["event"])
@@ -124,6 +124,35 @@ def action(block) -> str:
     if ";" in serves:
         text += " (it serves " + " and ".join(w.replace("_", " ") for w in serves.split(";")) + " at once)"
     return text
+
+
+def planned_slots(schedule: pd.DataFrame) -> np.ndarray:
+    """Per block of an RV sequence, the slots of its periastron passage in the plan (``"1;3"``,
+    object array; ``""`` for other blocks): the passage is the target's event at the same
+    minute, whatever the night of each visit."""
+    from ..scheduling.blocks import instance_minutes
+
+    seq = (schedule["request"].astype(str) == "rv_sequence").to_numpy()
+    if not seq.any():
+        return np.full(len(schedule), "", dtype=object)
+    key = pd.Series(list(zip(schedule["target_index"], schedule["event"].astype(str),
+                             instance_minutes(schedule["event_jd_utc"]))), index=schedule.index)
+    slots = schedule["slot"].where(seq).dropna().astype(int)
+    joined = slots.groupby(key[seq]).apply(lambda g: ";".join(map(str, sorted(g))))
+    return np.where(seq, key.map(joined).to_numpy(object), "")
+
+
+def _other_slots(block) -> str:
+    """``" (visits 1 and 2 are not in the plan)"`` for an RV sequence's block whose passage has
+    slots the plan leaves out; ``""`` otherwise."""
+    n, planned = int(block.get("n_slots", 1) or 1), str(block.get("planned_slots", "") or "")
+    if block.get("request") != "rv_sequence" or not planned or n < 2:
+        return ""
+    left = [k for k in range(1, n + 1) if str(k) not in planned.split(";")]
+    if not left:
+        return ""
+    names = " and ".join([", ".join(map(str, left[:-1])), str(left[-1])] if len(left) > 1 else [str(left[0])])
+    return f" ({'visit' if len(left) == 1 else 'visits'} {names} {'is' if len(left) == 1 else 'are'} not in the plan)"
 
 
 def covers_line(block) -> str:
@@ -409,6 +438,8 @@ def write_night_sheets(out_dir, schedule: pd.DataFrame, nights: pd.DataFrame, tz
     """
     if targets is not None and len(schedule):
         schedule = schedule.assign(magnitude=magnitude_texts(targets)[schedule["target_index"].to_numpy(int)])
+    if len(schedule) and "slot" in schedule:
+        schedule = schedule.assign(planned_slots=planned_slots(schedule))
     paths = []
     for _, night in nights.iterrows():
         label = str(night["night"])
