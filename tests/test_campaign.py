@@ -314,15 +314,22 @@ def ra_culminating_at(jd_utc, lon_deg=-3.12):
     return float(Time(jd_utc, format="jd", scale="utc").sidereal_time("apparent", longitude=lon_deg * u.deg).deg)
 
 
-def crowded_week(tmp_path, rule):
-    """Three nights of four transiting targets whose transits overlap near midnight, one target
-    that never rises (dec -80 deg at latitude 37.6 N: highest altitude 90 - 117.6 < 0 deg, by
-    spherical geometry) and one that culminates at noon."""
+def site_at_midnight(tmp_path):
+    """(site, mid, ra): the test site, the middle of its first night's darkness (UTC JD) and the
+    right ascension on its meridian then."""
     (tmp_path / "site.toml").write_text(SITE)
     site = planner.read_site(tmp_path / "site.toml")
     n = planner.night_table(site, dt.date(2026, 12, 7), 1)
     mid = 0.5 * float(n["dark_start_jd_utc"].iloc[0] + n["dark_end_jd_utc"].iloc[0])
     ra = ra_culminating_at(mid)
+    return site, mid, ra
+
+
+def crowded_week(tmp_path, rule):
+    """Three nights of four transiting targets whose transits overlap near midnight, one target
+    that never rises (dec -80 deg at latitude 37.6 N: highest altitude 90 - 117.6 < 0 deg, by
+    spherical geometry) and one that culminates at noon."""
+    site, mid, ra = site_at_midnight(tmp_path)
     rows = [f"Wren-1,{ra:.4f},30,1.02,0,,{mid:.6f},0.0003,JD_UTC,,4,,3.0",
             f"Wren-2,{ra + 5:.4f},25,1.01,0,,{mid + 1 / 24:.6f},0.0003,JD_UTC,,2,,2.0",
             f"Wren-3,{ra - 5:.4f},35,0.99,0,,{mid - 1 / 24:.6f},0.0003,JD_UTC,,1,,2.0",
@@ -397,11 +404,7 @@ def test_a_window_of_days_gets_the_limit_that_stops_it_in_the_dark(tmp_path):
     # "Low Night" culminates at noon: at midnight it stands at dec - (90 - lat) = 20 - 52.4 < 0 deg
     # (spherical geometry), so in darkness the altitude limit stops it; by day it is high. A
     # 1-day epoch error spreads its conjunction over days of daylight and darkness alike.
-    (tmp_path / "site.toml").write_text(SITE)
-    site = planner.read_site(tmp_path / "site.toml")
-    n = planner.night_table(site, dt.date(2026, 12, 7), 1)
-    mid = 0.5 * float(n["dark_start_jd_utc"].iloc[0] + n["dark_end_jd_utc"].iloc[0])
-    ra = ra_culminating_at(mid)
+    site, mid, ra = site_at_midnight(tmp_path)
     rows = [f"Low Night,{(ra + 180) % 360:.4f},20,9.3,0,,{mid + 1.0:.6f},1.0,JD_UTC,,3,,2.0",
             f"Noon Transit,{(ra + 180) % 360:.4f},20,9.7,0,,{mid + 1.5:.6f},0.0003,JD_UTC,,3,,2.0"]
     cat = parse_catalogue(HEADER + "\n" + "\n".join(rows) + "\n")
