@@ -151,8 +151,9 @@ def _other_slots(block) -> str:
     left = [k for k in range(1, n + 1) if str(k) not in planned.split(";")]
     if not left:
         return ""
-    names = " and ".join([", ".join(map(str, left[:-1])), str(left[-1])] if len(left) > 1 else [str(left[0])])
-    return f" ({'visit' if len(left) == 1 else 'visits'} {names} {'is' if len(left) == 1 else 'are'} not in the plan)"
+    if len(left) == 1:
+        return f" (visit {left[0]} is not in the plan)"
+    return f" (visits {', '.join(map(str, left[:-1]))} and {left[-1]} are not in the plan)"
 
 
 def covers_line(block) -> str:
