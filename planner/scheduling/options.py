@@ -28,13 +28,20 @@ MOVE_PENALTY = 1e-3
 MOVABLE = ("rv_visit", "rv_sequence")
 
 
-def _spread(proposed, lo, hi, length):
-    """Start times of one movable visit: the proposed one first, then an even spread of the range."""
-    if not (np.isfinite(lo) and np.isfinite(hi) and hi > lo):
-        return np.array([proposed])
-    grid = np.linspace(lo, hi, MAX_STARTS - 1) if MAX_STARTS > 1 else np.zeros(0)
-    grid = grid[np.abs(grid - proposed) > 0.25 * length]  # a start barely moved adds nothing
-    return np.concatenate([[proposed], grid])
+def _spread(proposed, lo, hi, length, movable):
+    """(row, start) of every option: each candidate's proposed start first, then, for a movable one
+    with a finite range, an even spread of [lo, hi] in :data:`MAX_STARTS` - 1 starts, less those
+    within a quarter of its length of the proposed one (a start barely moved adds nothing); rows in
+    candidate order."""
+    n = proposed.size
+    spread = movable & np.isfinite(lo) & np.isfinite(hi) & (hi > lo)
+    frac = np.linspace(0.0, 1.0, MAX_STARTS - 1) if MAX_STARTS > 1 else np.zeros(0)
+    grid = np.where(spread[:, None], lo[:, None] + (hi - lo)[:, None] * frac[None, :], np.nan)
+    starts = np.concatenate([proposed[:, None], grid], axis=1)
+    keep = np.concatenate([np.ones((n, 1), bool),
+                           spread[:, None] & (np.abs(grid - proposed[:, None]) > 0.25 * length[:, None])], axis=1)
+    rows = np.broadcast_to(np.arange(n)[:, None], starts.shape)
+    return rows[keep], starts[keep]
 
 
 def candidate_options(cands: pd.DataFrame, telescope: str = "telescope") -> pd.DataFrame:
@@ -52,22 +59,16 @@ def candidate_options(cands: pd.DataFrame, telescope: str = "telescope") -> pd.D
     movable = c["request"].isin(MOVABLE).to_numpy() if "request" in c else np.zeros(len(c), bool)
     lo = c["earliest_start_jd_utc"].to_numpy(float) if "earliest_start_jd_utc" in c else np.full(len(c), np.nan)
     hi = c["latest_start_jd_utc"].to_numpy(float) if "latest_start_jd_utc" in c else np.full(len(c), np.nan)
-    rows, starts, values = [], [], []
-    for k in range(len(c)):
-        s = _spread(start[k], lo[k], hi[k], length[k]) if movable[k] else np.array([start[k]])
-        span = max(hi[k] - lo[k], 1e-9) if movable[k] and np.isfinite(hi[k] - lo[k]) else 1.0
-        rows.append(np.full(s.size, k))
-        starts.append(s)
-        values.append(value[k] * (1.0 - MOVE_PENALTY * np.abs(s - start[k]) / span))
-    k = np.concatenate(rows) if rows else np.zeros(0, int)
-    s = np.concatenate(starts) if starts else np.zeros(0)
+    k, s = _spread(start, lo, hi, length, movable)
+    span = np.where(movable & np.isfinite(hi - lo), np.maximum(hi - lo, 1e-9), 1.0)
+    option_value = value[k] * (1.0 - MOVE_PENALTY * np.abs(s - start[k]) / span[k])
     group = c["group"].astype(str).to_numpy(object) if "group" in c else np.arange(len(c)).astype(str)
     tel = c["site"].astype(str).to_numpy(object) if "site" in c else np.full(len(c), telescope, dtype=object)
     if "site" in c:  # request ids are a site's own: one site's request 5 is not another's
         group = tel + "|" + group
     return pd.DataFrame({
         "candidate": k.astype(np.int64), "telescope": tel[k], "start_jd_utc": s, "end_jd_utc": s + length[k],
-        "value": np.concatenate(values) if values else np.zeros(0), "group": "g" + group[k],
+        "value": option_value, "group": "g" + group[k],
         "week_key": (c["target_index"].astype(str) + "|" + c["event"].astype(str) + "|"
                      + (c["slot"].astype(str) if "slot" in c else "0")).to_numpy(object)[k],
         "night": c["night"].astype(str).to_numpy(object)[k],
