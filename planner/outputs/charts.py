@@ -118,6 +118,8 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     visibility engine). Lines: k curves + one per block + one per event window + one per event
     time + the limit (+ the Moon).
     """
+    from matplotlib.patches import Rectangle
+
     from ..sky.positions import altitude_for_airmass_deg
 
     t = np.asarray(times_jd_utc, dtype=float)
@@ -153,8 +155,6 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
         row = names.index(b["target"]) if b["target"] in names else None
         if row is not None and inside.any():
             ax.plot(x[inside], alt[row][inside], color=c, lw=4.5, alpha=0.8, solid_capstyle="butt", gid="block")
-    from matplotlib.patches import Rectangle
-
     above = Rectangle((lo_h, 0.0), hi_h - lo_h, 90.0, transform=ax.transData)
     for line in ax.get_lines():  # the curves end at the horizon: the event windows' lanes lie below it
         line.set_clip_path(above)

@@ -130,13 +130,13 @@ def planned_slots(schedule: pd.DataFrame) -> np.ndarray:
     """Per block of an RV sequence, the slots of its periastron passage in the plan (``"1;3"``,
     object array; ``""`` for other blocks): the passage is the target's event at the same
     minute, whatever the night of each visit."""
-    from ..scheduling.blocks import instance_minutes
+    from ..scheduling.blocks import instance_keys
 
     seq = (schedule["request"].astype(str) == "rv_sequence").to_numpy()
     if not seq.any():
         return np.full(len(schedule), "", dtype=object)
-    key = pd.Series(list(zip(schedule["target_index"], schedule["event"].astype(str),
-                             instance_minutes(schedule["event_jd_utc"]))), index=schedule.index)
+    key = pd.Series(instance_keys(schedule["target_index"], schedule["event"].astype(str), schedule["event_jd_utc"]),
+                    index=schedule.index)
     slots = schedule["slot"].where(seq).dropna().astype(int)
     joined = slots.groupby(key[seq]).apply(lambda g: ";".join(map(str, sorted(g))))
     return np.where(seq, key.map(joined).to_numpy(object), "")

@@ -7,6 +7,8 @@ from __future__ import annotations
 #: terminal summary of a plan.
 CAUTION_SHORT = ("Never point the telescope at or near the Sun; the observatory's own safety rules and "
                  "local regulations come first.")
+#: ... in two lines within 100 characters, for the terminal.
+CAUTION_LINES = CAUTION_SHORT.replace("; ", ";\n", 1)
 
 
 def count(n: int, singular: str, plural: str | None = None) -> str:

@@ -401,9 +401,8 @@ def _neighbourhoods(value, rows, upper, telescope, start, end_padded, incumbent,
         for k in range(NEIGHBOURHOOD_ROUNDS):
             total = float(value[best].sum())
             left = time_limit_s - (time.perf_counter() - t0)
-            if (week.bound - total) <= rel_gap * week.bound or left <= 0.05:
-                return best
-            if loose and week.bound - total <= WIDEN_GAP * week.bound:
+            gap = week.bound - total
+            if gap <= rel_gap * week.bound or left <= 0.05 or (loose and gap <= WIDEN_GAP * week.bound):
                 return best
             agree = np.abs(week.x - best) < 0.5
             near = week.reduced >= -NEIGHBOURHOOD_FIRST * 4 ** k * week.bound
@@ -422,7 +421,7 @@ def _neighbourhoods(value, rows, upper, telescope, start, end_padded, incumbent,
                          max(left / 2, 0.05), rel_gap)[0]  # half the time left: a wider round may follow
             plan = fixed.copy()
             plan[idx[got]] = True
-            if value[plan].sum() <= total * (1 + 1e-9) and k > 0 and week.bound - total <= WIDEN_GAP * week.bound:
+            if value[plan].sum() <= total * (1 + 1e-9) and k > 0 and gap <= WIDEN_GAP * week.bound:
                 break  # a wider neighbourhood that finds nothing better, the plan close: the next would cost more still
             if value[plan].sum() > total:
                 best = plan

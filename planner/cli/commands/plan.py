@@ -23,6 +23,7 @@ replaces exactly these and never deletes any other file). Never point a telescop
 at or near the Sun; the observatory's own safety rules and local regulations come first.
 """
 
+
 def add_plan_options(p, need_inputs: bool = True):
     """Options shared by ``plan`` and ``demo``."""
     if need_inputs:
@@ -113,7 +114,7 @@ def run_plan(catalog, site_path, args) -> int:
     from ...outputs import plan_folder, sheets
     from ...outputs.explain import no_uncertainty_note
     from ...outputs.tables import never_rising_lines
-    from ...outputs.wording import CAUTION_SHORT, count
+    from ...outputs.wording import CAUTION_LINES, count
     from ...pipeline import STAGES, first_night_for, make_plan
     from .. import spans
     from ..progress import ProgressBar
@@ -160,14 +161,14 @@ def run_plan(catalog, site_path, args) -> int:
     nights = count(len(plan.nights), "night") if used == len(plan.nights) else f"{used} of {count(len(plan.nights), 'night')}"
     print(f"\n{count(len(plan.schedule), 'block')} on {nights} at {site.name}; "
           f"{count(len(paths), 'file')} in {args.out}/")
-    print(CAUTION_SHORT.replace("; ", ";\n", 1))  # two lines, within 100 characters
+    print(CAUTION_LINES)
     return 0
 
 
 def _run_campaign(targets, sites, first, settings, log, args) -> int:
     """``plan`` with several sites: one joint choice, a plan folder per site, one schedule and calendar."""
     from ...outputs import plan_folder, sheets
-    from ...outputs.wording import CAUTION_SHORT, count
+    from ...outputs.wording import CAUTION_LINES, count
     from ...pipeline import STAGES, make_campaign
     from ..progress import ProgressBar
 
@@ -185,7 +186,7 @@ def _run_campaign(targets, sites, first, settings, log, args) -> int:
     sys.stdout.write(summary)
     n = sum(len(p.schedule) for p in plans)
     print(f"\n{count(n, 'block')} at {count(len(sites), 'site')}; {count(len(paths), 'file')} in {args.out}/")
-    print(CAUTION_SHORT.replace("; ", ";\n", 1))  # two lines, within 100 characters
+    print(CAUTION_LINES)
     return 0
 
 
