@@ -107,7 +107,8 @@ def test_default_events_follow_the_target():
             f"RV only,16:20:36.36,+41:02:53.1,{P},{E},{W_DEG},{TC},983.9,,,,\n"    # K, no eclipse
             f"Both,16:20:36.36,+41:02:53.1,{P},{E},{W_DEG},{TC},983.9,9.7,86.7,0.0723,\n"
             "Circular EB,10,20,3.2,0,,2461000.2,,,,,2.5\n"          # a duration only
-            "Circular RV,10,20,3.2,0,,2461000.2,55,,,,\n")
+            "Circular RV,10,20,3.2,0,,2461000.2,55,,,,\n"
+            "Nearly circular RV,10,20,0.94,0.0091,269,2461000.2,1818,,,,\n")   # below NEAR_CIRCULAR_E
     t = load(text).set_index("name")
     # a photometric target's periastron shows nothing in its light curve: not a default
     assert t.loc["HAT-P-2 b", "events"] == ("primary_conjunction", "secondary_conjunction")
@@ -116,6 +117,8 @@ def test_default_events_follow_the_target():
                                        "rv_max", "rv_min")
     assert t.loc["Circular EB", "events"] == ("primary_conjunction", "secondary_conjunction")
     assert t.loc["Circular RV", "events"] == ("rv_max", "rv_min")
+    # e = 0.009: its fastest RV swing is within 2 % of a circular orbit's, no periastron of its own
+    assert t.loc["Nearly circular RV", "events"] == ("rv_max", "rv_min")
     assert not t["events_given"].any()
 
 
@@ -134,5 +137,6 @@ def test_target_with_no_default_event_is_named_in_a_warning():
         t = load("name,ra,dec,period_d,e,omega_deg,tc\nBare,10,20,3.2,0,,2461000.2\n")
     assert t["events"][0] == ()
     assert [str(w.message) for w in caught] == [
-        "cat.csv: row 2: no event to predict (a circular orbit without k_ms, eclipse geometry or duration_h); "
+        "cat.csv: row 2: no event to predict (a circular or nearly circular orbit without k_ms, eclipse geometry or "
+        "duration_h); "
         "name the wanted events in column events"]

@@ -617,10 +617,19 @@ def check_observing(cells: Cells) -> dict:
     }
 
 
+#: Eccentricity from which an orbit's periastron (and apastron) is a default event [common
+#: practice, no source: below it the RV curve departs from a sine by less than about 5 % of K
+#: and its fastest swing is within about 10 % of a circular orbit's (1 + 2e to first order), so
+#: no moment of the orbit is worth a block of its own; such a target's periastron can still be
+#: named in its ``events`` cell].
+NEAR_CIRCULAR_E = 0.05
+
+
 def default_events(linear, e, rv, eclipse) -> tuple:
     """Events of a target whose ``events`` cell is empty: what its elements make worth observing.
 
-    A linear ephemeris has its ``periodic`` event. An orbit gets periastron when eccentric, unless
+    A linear ephemeris has its ``periodic`` event. An orbit gets periastron when eccentric
+    (e >= :data:`NEAR_CIRCULAR_E`), unless
     its only use is photometric (eclipse information and no RV amplitude: a transit timer's
     periastron passage shows nothing in the light curve, except for the rare heartbeat stars,
     which can name it); RV maximum and minimum only with an RV amplitude (``rv``: k_ms given);
@@ -631,7 +640,7 @@ def default_events(linear, e, rv, eclipse) -> tuple:
     """
     if linear:
         return (PERIODIC_EVENT,)
-    eccentric = bool(e > 0)
+    eccentric = bool(e >= NEAR_CIRCULAR_E)
     wanted = {
         "periastron": eccentric and (rv or not eclipse),
         "apastron": eccentric and rv and not eclipse,
@@ -701,9 +710,11 @@ def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
                           f"{label_texts[lc]!r}; a linear ephemeris has one event", t)
     # the events of each row: its column's, or the defaults of its kind of target
     choices = [p[2] for p in parsed]
-    default_key = (linear.astype(np.int64) * 8 + (np.asarray(e) > 0) * 4 + rv * 2 + eclipse).astype(np.int64)
+    eccentric = np.asarray(e) >= NEAR_CIRCULAR_E
+    default_key = (linear.astype(np.int64) * 8 + eccentric * 4 + rv * 2 + eclipse).astype(np.int64)
     for key in range(16):
-        choices.append(default_events(bool(key & 8), float(bool(key & 4)), bool(key & 2), bool(key & 1)))
+        choices.append(default_events(bool(key & 8), NEAR_CIRCULAR_E if key & 4 else 0.0, bool(key & 2),
+                                      bool(key & 1)))
     table = np.empty(len(choices), dtype=object)
     for i, choice in enumerate(choices):
         table[i] = choice
