@@ -192,3 +192,12 @@ def test_a_sequence_visit_says_which_visits_of_its_passage_the_plan_leaves_out(t
     assert "(visit 2 is not in the plan)" in " ".join((tmp_path / "night-2026-12-08.txt").read_text().split())
     full = frame.iloc[[0, 1, 1]].assign(slot=[1, 2, 3]).reset_index(drop=True)
     assert list(sheets.planned_slots(full)) == ["1;2;3"] * 3
+
+
+def test_a_secondary_without_contacts_says_what_the_catalogue_must_add():
+    # duration_h sets the primary's contacts only; an eccentric orbit's secondary lasts otherwise
+    both = [block(0.30, 0.40, "Timed One", request="series", t1_jd_utc=np.nan, covers="mid", not_covered="",
+                  event=ev) for ev in ("primary_conjunction", "secondary_conjunction")]
+    primary, secondary = (sheets.covers_line(pd.Series(b)) for b in both)
+    assert primary.endswith("contacts not known (the catalogue gives no duration or eclipse geometry).")
+    assert "secondary needs the eclipse geometry, a_rstar, inc_deg and rp_rstar" in secondary

@@ -169,8 +169,10 @@ def covers_line(block) -> str:
         return " ".join(parts)
     if not np.isfinite(block.get("t1_jd_utc", np.nan)):
         held = "the mid-event" if "mid" in covers else "no predicted moment"
-        return (f"Covers {held} ({100 * block['observable_fraction']:.0f}% of the window); contacts not known "
-                "(the catalogue gives no duration or eclipse geometry).")
+        why = ("a duration_h is the primary eclipse's; an eccentric orbit's secondary needs the eclipse geometry, "
+               "a_rstar, inc_deg and rp_rstar" if block.get("event") == "secondary_conjunction"
+               else "the catalogue gives no duration or eclipse geometry")
+        return f"Covers {held} ({100 * block['observable_fraction']:.0f}% of the window); contacts not known ({why})."
     return parts_in_words(covers, missing)
 
 
