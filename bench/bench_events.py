@@ -17,7 +17,8 @@ import time
 import numpy as np
 
 
-def random_catalogue(n, seed=0):
+def random_catalogue(n, seed=0, epoch_span_d=500.0):
+    """CSV text of ``n`` random targets; their epochs spread over ``epoch_span_d`` days before BJD 2460500."""
     rng = np.random.default_rng(seed)
     period = 10 ** rng.uniform(np.log10(0.5), np.log10(500), n)
     e = np.where(rng.uniform(size=n) < 0.3, 0.0, rng.uniform(0, 0.95, n))
@@ -30,7 +31,7 @@ def random_catalogue(n, seed=0):
         lines.append(f"T{i},{rng.uniform(0, 360):.5f},{rng.uniform(-60, 80):.5f},{period[i]:.7f},"
                      f"{period[i] * 1e-6:.2e},{e[i]:.4f},{0.01 if e[i] else ''},"
                      f"{rng.uniform(0, 360) if e[i] else '':}{'' if e[i] else ''},{2.0 if e[i] else ''},"
-                     f"{2460000 + rng.uniform(0, 500):.5f},0.0005,{system},{every if e[i] else circular}")
+                     f"{2460500 - epoch_span_d + rng.uniform(0, epoch_span_d):.5f},0.0005,{system},{every if e[i] else circular}")
     return "\n".join(lines) + "\n"
 
 

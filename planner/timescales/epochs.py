@@ -49,19 +49,21 @@ class _EarthTrack:
 
     Built once for a span of TDB Julian dates; :meth:`delay_d` gives the Roemer delay for unit
     vectors towards targets. Cubic (Catmull-Rom) interpolation of each coordinate: error below
-    1e-4 s of delay (its second derivative is at most ~2 pi^2 x 500 s / yr^2).
+    1e-4 s of delay (its second derivative is at most ~2 pi^2 x 500 s / yr^2). A grid node's
+    positions are computed the first time a time needs it (ERFA epv00 costs about 50 us a node),
+    so a few epochs spread over decades cost their own cells, not the span's 18,000 nodes.
     """
 
     def __init__(self, jd_lo, jd_hi, step_d=_LTT_GRID_D):
         import astropy.units as u
         from astropy.constants import c
 
-        n = int(np.ceil((jd_hi - jd_lo) / step_d)) + 1
+        n = int(np.ceil((jd_hi - jd_lo) / step_d)) + 4
         self.step_d = step_d
         self.grid0 = jd_lo - step_d
-        self.pos = _earth_positions_au(self.grid0 + step_d * np.arange(n + 3))
-        # the Sun seen from the barycentre: the barycentric minus the heliocentric delay
-        self.pos["sun_offset"] = self.pos["barycentre"] - self.pos["sun"]
+        self.done = np.zeros(n, bool)
+        # the Sun seen from the barycentre: the barycentric minus the heliocentric position
+        self.pos = {k: np.full((n, 3), np.nan) for k in ("barycentre", "sun", "sun_offset")}
         self.au_light_d = (u.au / c).to("day").value
 
     @classmethod
@@ -71,12 +73,29 @@ class _EarthTrack:
         jd = jd[np.isfinite(jd)]
         return cls(jd.min() - margin_d, jd.max() + margin_d, step_d)
 
+    def _positions(self, i):
+        """The grid's positions, computed first at the nodes of cells ``i`` that lack them."""
+        if self.done.all():
+            return self.pos
+        if i.size * 4 >= len(self.done):  # as many times as nodes: every node at once
+            need = np.flatnonzero(~self.done)
+        else:
+            need = np.unique(i[:, None] + np.arange(-1, 3))
+            need = need[~self.done[need]]
+        if need.size:
+            got = _earth_positions_au(self.grid0 + self.step_d * need)
+            for k in ("barycentre", "sun"):
+                self.pos[k][need] = got[k]
+            self.pos["sun_offset"][need] = got["barycentre"] - got["sun"]
+            self.done[need] = True
+        return self.pos
+
     def delay_d(self, jd_tdb, unit, reference="barycentre"):
         """Delay (days) towards ``unit`` at TDB times: ``barycentre``, ``sun``, or ``sun_offset``
         (barycentric minus heliocentric delay)."""
-        pos = self.pos[reference]
         x = np.asarray((jd_tdb - self.grid0) / self.step_d, dtype=float)
-        i, f = numerics.grid_cell(np.where(np.isfinite(x), x, np.nan), len(pos))
+        i, f = numerics.grid_cell(np.where(np.isfinite(x), x, np.nan), len(self.done))
+        pos = self._positions(np.ravel(i))[reference]
         # project the grid positions on each direction first: four dot products, then 1-D cubic
         p0, p1, p2, p3 = (np.einsum("...k,...k->...", pos[i + j], unit) for j in (-1, 0, 1, 2))
         return numerics.catmull_rom(p0, p1, p2, p3, f) * self.au_light_d
@@ -98,8 +117,8 @@ def light_travel_time_d(jd_tdb, ra_deg, dec_deg, reference: str = "barycentre"):
 
 
 #: Grid step (days) of the TDB - UTC offset used for bulk conversions; linear interpolation of the
-#: periodic TDB - TT term (1.7 ms annual amplitude) on it errs by < 1e-7 s.
-_OFFSET_GRID_D = 0.5
+#: periodic TDB - TT term (1.7 ms annual amplitude) on it errs by < 2.5e-7 s (A (2 pi h / P)^2 / 8).
+_OFFSET_GRID_D = 2.0
 #: Below this many times, astropy converts each one directly.
 _DIRECT_MAX = 1000
 
@@ -107,7 +126,7 @@ _DIRECT_MAX = 1000
 def _convert_jd(jd, from_scale: str, to_scale: str):
     """Julian dates converted between astropy time scales (UTC uses astropy's quasi-JD).
 
-    Large arrays: astropy converts a half-day grid and the offset is interpolated in between;
+    Large arrays: astropy converts a two-day grid and the offset is interpolated in between;
     times in a grid cell next to a leap second are converted by astropy one by one
     (:class:`_ScaleOffsets`), so the result equals astropy's to < 5e-7 s everywhere. NaN and inf
     stay as they are; dates ERFA cannot convert are a :class:`TimeScaleError`.
@@ -125,18 +144,21 @@ def _convert_jd(jd, from_scale: str, to_scale: str):
 
 #: A grid node whose offset's second difference exceeds this (days) marks a leap second nearby:
 #: astropy's UTC Julian date stretches the leap second's day to 86401 s, so the offset bends at
-#: that day's ends; linear interpolation errs by less than this in cells with no marked node. The
-#: smooth TDB - TT terms give at most 1.3e-7 s (1.7 ms annual term on the half-day grid).
-_BEND_D = 5e-7 / 86400
+#: that day's ends (by a good part of the second). The smooth TDB - TT terms give at most 2e-6 s
+#: (1.7 ms annual term on the two-day grid: A (2 pi h / P)^2).
+_BEND_D = 5e-6 / 86400
 
 
 class _ScaleOffsets:
-    """The offset between two astropy time scales on a half-day grid over a span of Julian dates.
+    """The offset between two astropy time scales on a two-day grid over a span of Julian dates.
 
     :meth:`convert` gives astropy's conversion to < 5e-7 s: the offset interpolated linearly, and
     times in a grid cell next to a leap second (where the offset jumps or bends, :data:`_BEND_D`)
-    converted by astropy one by one. The nodes sit on whole and half Julian dates, where the
-    days of astropy's UTC begin. Built once, it serves several conversions of times in the span.
+    converted by astropy one by one. The nodes sit on whole Julian dates (noon UTC), so a leap
+    second's day (midnight to midnight) bends the offset inside a cell: the bend shows in the
+    second difference at a node at one of that cell's ends, which marks the cell
+    (tests/test_timescales.py starts spans mid-day on both sides of the 2016 and 1998 leap
+    seconds). Built once, it serves several conversions of times in the span.
     """
 
     def __init__(self, lo, hi, from_scale, to_scale):
@@ -252,10 +274,10 @@ def _to_bjd_tdb_direct(jd, system, unit):
 
 
 #: Grid step (days) of the Earth's positions for many HJD_UTC epochs: the heliocentric delay on
-#: it is good to 3 ms (enough to place the geocentric instant), the barycentric minus the
-#: heliocentric delay (the Sun's barycentric wobble, periods of 12 years and more) to 1e-7 s
-#: (measured against ERFA epv00 at every time over 25 years; bench/bench_catalogue.py).
-_HJD_GRID_D = 4.0
+#: it is good to 0.03 s (enough to place the geocentric instant: BJD moves by < 1e-9 s), the
+#: barycentric minus the heliocentric delay (the Sun's barycentric wobble) to 5e-7 s (measured
+#: against ERFA epv00 at 20,000 random times over 25 years).
+_HJD_GRID_D = 8.0
 
 
 def _hjd_utc_to_bjd_tdb_bulk(hjd_utc, unit):
@@ -266,7 +288,7 @@ def _hjd_utc_to_bjd_tdb_bulk(hjd_utc, unit):
     terms: the heliocentric delay is needed only to find g, the TDB - UTC offset at g is smooth
     (1.7 ms periodic term), and the Sun's barycentric offset changes slowly, so one coarse grid of
     the Earth's positions and one grid of TDB - UTC serve every epoch. Epochs whose geocentric
-    instant falls in a half-day cell with a leap second go the direct way. Agrees with the direct
+    instant falls in a grid cell with a leap second go the direct way. Agrees with the direct
     path to < 1e-6 s (its own interpolation error).
     """
     import erfa
