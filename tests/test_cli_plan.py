@@ -261,3 +261,25 @@ def test_one_night_plan_counts_in_the_singular(tmp_path, capsys):
     assert "1 nights" not in out and "on 1 night at" in out
     last = [ln for ln in out.splitlines() if " at Altozano Ridge Observatory; " in ln]
     assert len(last) == 1 and " files in " in last[0]
+
+
+def test_a_target_with_no_event_in_the_nights_is_named_once(tmp_path, capsys):
+    # HD 80606 b: P = 111.4367 d, Tp = 2454424.857 BJD_TDB (Winn et al. 2009, ApJ 703, 2091; from
+    # memory); its periastron passages are Tp + n P, so none falls in 2 nights from 2026-12-07
+    # (checked here by that arithmetic). WASP-12 b (P = 1.09142 d, Hebb et al. 2009, from memory;
+    # duration_h given) transits every night, so it has events and is not named.
+    tp, period = 2454424.857, 111.4367
+    start = Time(f"{START}T12:00:00", scale="utc").jd
+    following = tp + np.ceil((start - tp) / period) * period
+    assert following > start + 3
+    cat = tmp_path / "two.csv"
+    cat.write_text("name,ra,dec,period_d,e,omega_deg,tp,tc,duration_h,events,k_ms\n"
+                   f"HD 80606 b,140.6608,50.6036,{period},0.9332,300.77,{tp},,,periastron,474\n"
+                   "WASP-12 b,97.6366,29.6723,1.09142,0,,,2457010.512,3.0,,\n", encoding="utf-8")
+    code, out, err = run(["plan", str(cat), "--site", str(SITE), "--start", START, "--nights", "2",
+                          "--out", str(tmp_path / "p")], capsys)
+    assert code == 0, err
+    notes = [ln for ln in err.splitlines() if "no event in these nights" in ln]
+    assert len(notes) == 1
+    assert "1 target has no event in these nights (HD 80606 b)" in notes[0]
+    assert "WASP-12 b" not in notes[0] and f"periplan events {cat} --start {START} --days 365" in notes[0]

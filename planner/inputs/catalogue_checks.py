@@ -701,7 +701,8 @@ def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
                           f"{', '.join(EVENT_WORDS)}", t)
             elif kind == "linear":
                 cells.err(row, "events", "a linear ephemeris (no e, omega_deg) has only the event 'periodic' "
-                          "(or 'maximum' / 'minimum')", t)
+                          "(or 'maximum' / 'minimum'); for a binary's primary and secondary eclipses give "
+                          "e = 0 and the epoch as tc", t)
             elif kind == "orbit":
                 cells.err(row, "events", f"{'/'.join(sorted(kinds)) or 'periodic'!r} is the event of a linear "
                           "ephemeris; this row has orbital elements", t)

@@ -149,9 +149,9 @@ def run_plan(catalog, site_path, args) -> int:
     bar.done()
     for line in never_rising_lines(plan.never_rising, site.name, f"{args.out}/unobservable.csv"):
         print(f"periplan: warning: {line}", file=sys.stderr)
-    note = no_uncertainty_note(plan.events)
-    if note:
-        print(f"periplan: note: {note}", file=sys.stderr)
+    for note in (no_uncertainty_note(plan.events), no_event_note(plan, catalog)):
+        if note:
+            print(f"periplan: note: {note}", file=sys.stderr)
     if args.start is None:
         note = past_blocks_note(plan.schedule, first, now, site.timezone)
         if note:
@@ -195,6 +195,25 @@ def _now():
     import datetime as dt
 
     return dt.datetime.now(dt.timezone.utc)
+
+
+def no_event_note(plan, catalog) -> str | None:
+    """The line naming the targets that rise but have no event in the planned nights (a long
+    period's periastron months away), which are otherwise in no file of the plan; None if none."""
+    import numpy as np
+
+    has_events = np.array([len(e) > 0 for e in plan.targets["events"]], bool)
+    quiet = has_events.copy()
+    quiet[plan.events["target_index"].to_numpy(int)] = False
+    quiet[plan.never_rising["target_index"].to_numpy(int)] = False
+    names = plan.targets["name"].to_numpy(object)[quiet]
+    if not len(names):
+        return None
+    shown = ", ".join(map(str, names[:5])) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
+    which = "target has" if len(names) == 1 else "targets have"
+    return (f"{len(names)} {which} no event in these nights ({shown}); "
+            f"'periplan events {catalog} --start {plan.nights['night'].iloc[0]} --days 365' shows when the "
+            "next ones come")
 
 
 def past_blocks_note(schedule, first_night, now, tz: str) -> str | None:
