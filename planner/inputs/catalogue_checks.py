@@ -376,11 +376,13 @@ def _plain_angles(strings, hours: bool):
     reads them; ``ok`` is False where a cell needs parse_angle itself (its other forms, its errors).
     ``hours``: a sexagesimal right ascension (hours, no sign, below 24)."""
     n = len(strings)
-    try:  # a column of decimal degrees (what the cast reads, Python's float reads the same)
-        out = pc.cast(strings, pa.float64()).to_numpy(zero_copy_only=False, writable=True)
-        return out, np.isfinite(out)
-    except pa.ArrowInvalid:
-        pass
+    first = next((t for t in strings[:100].to_pylist() if t), "")
+    if re.match(_DECIMAL, first):  # a whole-column cast that fails costs as much as reading it
+        try:  # a column of decimal degrees (what the cast reads, Python's float reads the same)
+            out = pc.cast(strings, pa.float64()).to_numpy(zero_copy_only=False, writable=True)
+            return out, np.isfinite(out)
+        except pa.ArrowInvalid:
+            pass
     decimal = pc.match_substring_regex(strings, _DECIMAL).to_numpy(zero_copy_only=False)
     out = np.full(n, np.nan)
     if decimal.any():
