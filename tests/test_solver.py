@@ -145,6 +145,9 @@ def test_the_week_is_improved_where_night_by_night_in_time_order_falls_short(mon
     assert opts["value"][chosen].sum() == pytest.approx(brute_force(opts, 0.01, ("instance",), None)) == 19.0
     assert report.status == "optimal"
     assert report.bound == pytest.approx(19.0)
+    # each night's figures: its LP's seconds are a part of its seconds (bench/bench_plan.py's floor)
+    assert [r["options"] for r in report.runs] == [2, 1]
+    assert all(0.0 <= r["lp_seconds"] <= r["seconds"] for r in report.runs)
 
 
 @pytest.mark.parametrize("way", ["reduced-value fixing", "working set"])

@@ -55,8 +55,9 @@ class SolveReport:
     """How a choice was made: ``status`` in words, the chosen total, the solver's bound on the best
     total, the relative gap between them (0 when proven optimal), seconds, and the model's size.
     ``runs``: when a large part was solved night by night, one dict per night (``start_jd_utc`` of
-    its first option, ``options``, ``seconds``, ``status``, ``total``, and ``bound``, the night's
-    own bound given what the nights before it took)."""
+    its first option, ``options``, ``seconds``, ``lp_seconds``, ``status``, ``total``, and ``bound``,
+    the night's own bound given what the nights before it took). ``lp_seconds``: of the seconds,
+    those of HiGHS's LP relaxation (:func:`_lp_prices`), the part branch and bound cannot save."""
 
     status: str
     objective: float
@@ -66,6 +67,7 @@ class SolveReport:
     n_options: int
     n_rows: int
     runs: tuple = ()
+    lp_seconds: float = 0.0
 
     @property
     def optimal(self) -> bool:
@@ -273,7 +275,8 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
         statuses.add(rep.status)
         n_rows += rep.n_rows
         runs.append({"start_jd_utc": float(first[label]), "options": int(idx.size),
-                     "seconds": round(time.perf_counter() - t_run, 3), "status": rep.status,
+                     "seconds": round(time.perf_counter() - t_run, 3), "lp_seconds": round(rep.lp_seconds, 3),
+                     "status": rep.status,
                      "total": rep.objective, "bound": rep.bound})
     nightly = float(value[chosen].sum())
     left = time_limit_s - (time.perf_counter() - t_part)
@@ -642,6 +645,7 @@ def _sifted(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_
         ranked = np.argsort(-key, kind="stable")[:SIFT_START // 2]
         work[ranked[useful[ranked]]] = True
     best, kept, best_total, bound, status = np.zeros(n, bool), np.zeros(n, bool), 0.0, np.inf, "optimal"
+    lp_seconds = 0.0
     a_csc = a.tocsc()
     while True:
         keep = np.flatnonzero(work)
@@ -649,6 +653,7 @@ def _sifted(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_
         left = time_limit_s - (time.perf_counter() - t0)
         got, rep, kept_sub, y_sub = _solve_whole(v[keep], sub_rows, upper[row_of], telescope[keep], start[keep],
                                           end_padded[keep], max(0.8 * left, 0.05), rel_gap)
+        lp_seconds += rep.lp_seconds
         if float(v[keep[got]].sum()) >= best_total:
             best, kept = np.zeros(n, bool), np.zeros(n, bool)
             best[keep[got]] = True
@@ -680,7 +685,7 @@ def _sifted(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_
     # kept, for a bound on a larger programme (:func:`_week_lp`): the options the last
     # branch and bound ran on, and every option whose bound is within FIX_MARGIN of the plan
     near = useful & (option_bound >= (1 - FIX_MARGIN) * best_total)
-    return best, SolveReport(status, best_total, bound, gap, 0.0, n, n_rows), kept | best | near
+    return best, SolveReport(status, best_total, bound, gap, 0.0, n, n_rows, lp_seconds=lp_seconds), kept | best | near
 
 
 def _solve_whole(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_gap, relaxed_bound=None):
@@ -700,7 +705,9 @@ def _solve_whole(value, rows, upper, telescope, start, end_padded, time_limit_s,
     prog = _Programme.build(value, rows, upper, telescope, start, end_padded)
     n = prog.n
     too_big = n * LP_SECONDS_PER_OPTION > time_limit_s
+    t_lp = time.perf_counter()
     prices = _lp_prices(prog, time_limit_s) if n and not too_big else None
+    lp_seconds = time.perf_counter() - t_lp
     if prices is None:
         if too_big or time.perf_counter() - t0 >= 0.9 * time_limit_s:
             # no time for the LP, or stopped by the limit: branch and bound would begin with the
@@ -744,7 +751,8 @@ def _solve_whole(value, rows, upper, telescope, start, end_padded, time_limit_s,
                 gap = (bound - total) / bound if bound > 0 else 0.0
         if gap <= rel_gap or whole or stopped:
             status = "optimal" if gap <= rel_gap else status
-            report = SolveReport(status, total, bound, gap, 0.0, n, prog.rows.shape[0] + prog.flow.shape[0])
+            report = SolveReport(status, total, bound, gap, 0.0, n, prog.rows.shape[0] + prog.flow.shape[0],
+                                 lp_seconds=lp_seconds)
             kept = np.zeros(n, bool)
             kept[keep] = True
             return best, report, kept | best, prices[1]
