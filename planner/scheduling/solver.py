@@ -154,10 +154,11 @@ def _groups(labels: pd.Series) -> dict:
     """{label: its rows' positions (sorted int array)} for every non-empty label, in label order
     (an empty label or NA is in no group)."""
     codes, uniques = pd.factorize(labels.astype("string").fillna(""), sort=True)
+    names = np.asarray(uniques, dtype=object)  # an arrow string's scalar lookup costs microseconds
     order = np.argsort(codes, kind="stable")
     cuts = np.flatnonzero(np.diff(codes[order])) + 1
     parts = np.split(order, cuts) if order.size else []
-    return {str(uniques[codes[p[0]]]): p for p in parts if uniques[codes[p[0]]] != ""}
+    return {str(names[codes[p[0]]]): p for p in parts if names[codes[p[0]]] != ""}
 
 
 def _runs(telescope, start, end_padded):
