@@ -130,7 +130,7 @@ def test_empty_nights_say_why():
     nights = pd.DataFrame([NIGHT, NO_DARK])
     summary = sheets.week_summary_text(none, nights, TZ)
     assert "2026-12-08  no astronomical darkness  nothing scheduled" in summary
-    assert "Nothing could be scheduled this week" in summary
+    assert "Nothing could be scheduled in these nights; unscheduled.csv gives each request's reason." in summary
 
 
 def test_writers_produce_one_text_and_one_html_per_night_and_the_csv(tmp_path):

@@ -103,3 +103,23 @@ def test_two_sites_of_one_name_and_a_missing_site_file_are_one_line_errors(files
     err = capsys.readouterr().err.strip()
     assert err.startswith("periplan: error: ") and "nowhere.toml" in err and len(err.splitlines()) == 1
     assert not (files / "p").exists()
+
+
+def test_a_campaign_warns_of_a_target_that_never_rises_at_one_site(files, capsys):
+    # A star at declination -80 culminates at 90 - 45.76 - 80 = -35.76 deg at the northern site
+    # (culmination altitude 90 - |latitude - declination|), below its 25 deg limit; at the
+    # southern site it culminates at 90 - 49.83 = 40.17 deg. The warning names that site and the
+    # file in the campaign's folder that lists it.
+    cat = files / "cat.csv"
+    cat.write_text(CATALOGUE.format(sites="") + "Polar EB,10:00:00,-80:00:00,2.5,0.00001,0,2461388.2,0.001,"
+                   "2.0,2,primary_conjunction,\n")
+    out = files / "camp"
+    assert cli.main(["plan", str(cat), "--site", str(files / "north.toml"), "--site", str(files / "south.toml"),
+                     "--start", "2026-12-07", "--nights", "2", "--out", str(out)]) == 0
+    err = capsys.readouterr().err
+    warnings = [ln for ln in err.splitlines() if "never rises" in ln]
+    assert len(warnings) == 1
+    assert warnings[0].startswith("periplan: warning: Polar EB never rises high enough at North test ridge: "
+                                  "culminates at -35.8 deg")
+    listed = [p for p in out.glob("*/unobservable.csv")]
+    assert len(listed) == 1 and "Polar EB" in listed[0].read_text()

@@ -504,7 +504,7 @@ def week_summary_text(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | No
     n = len(schedule)
     clock = f"local time ({tz})" if tz else "UTC"
     if n == 0:
-        lines.append("Nothing could be scheduled this week (no dark time, or no target visible in darkness).")
+        lines.append("Nothing could be scheduled in these nights; unscheduled.csv gives each request's reason.")
     else:
         lines.append(f"{count(n, 'block')}, {count(schedule['target'].nunique(), 'target')}, "
                      f"{count(len(nights), 'night')}; times in {clock}.")

@@ -112,8 +112,6 @@ def run_plan(catalog, site_path, args) -> int:
     from ...inputs import catalogue
     from ...inputs.site import read_site
     from ...outputs import plan_folder, sheets
-    from ...outputs.explain import no_uncertainty_note
-    from ...outputs.tables import never_rising_lines
     from ...outputs.wording import CAUTION_LINES, count
     from ...pipeline import STAGES, first_night_for, make_plan
     from .. import spans
@@ -147,11 +145,7 @@ def run_plan(catalog, site_path, args) -> int:
     bar("writing files")
     paths = plan_folder.write_plan(plan, args.out, force=args.force, summary_text=summary)
     bar.done()
-    for line in never_rising_lines(plan.never_rising, site.name, f"{args.out}/unobservable.csv"):
-        print(f"periplan: warning: {line}", file=sys.stderr)
-    for note in (no_uncertainty_note(plan.events), no_event_note(plan, catalog)):
-        if note:
-            print(f"periplan: note: {note}", file=sys.stderr)
+    _warn([plan], catalog, [f"{args.out}/unobservable.csv"])
     if args.start is None:
         note = past_blocks_note(plan.schedule, first, now, site.timezone)
         if note:
@@ -168,6 +162,7 @@ def run_plan(catalog, site_path, args) -> int:
 def _run_campaign(targets, sites, first, settings, log, args) -> int:
     """``plan`` with several sites: one joint choice, a plan folder per site, one schedule and calendar."""
     from ...outputs import plan_folder, sheets
+    from ...outputs.file_names import unique_file_parts
     from ...outputs.wording import CAUTION_LINES, count
     from ...pipeline import STAGES, make_campaign
     from ..progress import ProgressBar
@@ -183,6 +178,8 @@ def _run_campaign(targets, sites, first, settings, log, args) -> int:
     except plan_folder.OutputExists as exc:
         raise PeriplanError(f"--out {exc}; add --force to replace it or choose another folder") from None
     bar.done()
+    parts = unique_file_parts([p.site.name for p in plans])
+    _warn(plans, args.catalog, [f"{args.out}/{parts[p.site.name]}/unobservable.csv" for p in plans])
     sys.stdout.write(summary)
     n = sum(len(p.schedule) for p in plans)
     print(f"\n{count(n, 'block')} at {count(len(sites), 'site')}; {count(len(paths), 'file')} in {args.out}/")
@@ -197,22 +194,40 @@ def _now():
     return dt.datetime.now(dt.timezone.utc)
 
 
-def no_event_note(plan, catalog) -> str | None:
-    """The line naming the targets that rise but have no event in the planned nights (a long
-    period's periastron months away), which are otherwise in no file of the plan; None if none."""
+def _warn(plans, catalog, unobservable_files) -> None:
+    """On stderr: each site's targets that never rise there (named with the file listing them),
+    then the run's notes (targets without a timing uncertainty, targets without an event)."""
+    from ...outputs.explain import no_uncertainty_note
+    from ...outputs.tables import never_rising_lines
+
+    for plan, listed_in in zip(plans, unobservable_files):
+        for line in never_rising_lines(plan.never_rising, plan.site.name, listed_in):
+            print(f"periplan: warning: {line}", file=sys.stderr)
+    for note in (no_uncertainty_note(plans[0].events), no_event_note(plans, catalog)):
+        if note:
+            print(f"periplan: note: {note}", file=sys.stderr)
+
+
+def no_event_note(plans, catalog) -> str | None:
+    """The line naming the targets that rise at a site but have no event in the planned nights (a
+    long period's periastron months away), which are otherwise in no file of the plan; None if none."""
     import numpy as np
 
-    has_events = np.array([len(e) > 0 for e in plan.targets["events"]], bool)
-    quiet = has_events.copy()
-    quiet[plan.events["target_index"].to_numpy(int)] = False
-    quiet[plan.never_rising["target_index"].to_numpy(int)] = False
-    names = plan.targets["name"].to_numpy(object)[quiet]
+    targets = plans[0].targets
+    quiet = np.array([len(e) > 0 for e in targets["events"]], bool)
+    for plan in plans:
+        quiet[plan.events["target_index"].to_numpy(int)] = False
+    rises = np.zeros(len(targets), bool)
+    for plan in plans:
+        rises |= ~np.isin(np.arange(len(targets)), plan.never_rising["target_index"].to_numpy(int))
+    quiet &= rises
+    names = targets["name"].to_numpy(object)[quiet]
     if not len(names):
         return None
     shown = ", ".join(map(str, names[:5])) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
     which = "target has" if len(names) == 1 else "targets have"
     return (f"{len(names)} {which} no event in these nights ({shown}); "
-            f"'periplan events {catalog} --start {plan.nights['night'].iloc[0]} --days 365' shows when the "
+            f"'periplan events {catalog} --start {plans[0].nights['night'].iloc[0]} --days 365' shows when the "
             "next ones come")
 
 
