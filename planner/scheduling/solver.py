@@ -316,6 +316,14 @@ class _WeekLP:
 WEEK_LP_ROUNDS = 6
 WEEK_LP_ADD = 1000
 WEEK_LP_SLACK = 3.0
+#: The week's working set holds at least this share of the useful options, at most
+#: WEEK_LP_LEAST_MAX and what half the time left lets its LP take: nights solved on working sets
+#: (:data:`SIFT_ABOVE`) leave a small set, whose LP prices the rest badly [our choice, measured on
+#: random weeks: 10,000 targets, a set of 2,600 of 181,000 options gave a 6 % gap in 13.5 s, one of
+#: 12,600 gives 0.22 % in 4.5 s; 30,000 targets: 3.65 % in 6.9 s -> 0.32 % in 23 s and a plan
+#: 0.6 % better; 3,000 targets (their set is larger already) and 100,000 (no time) unchanged].
+WEEK_LP_LEAST_SHARE = 0.07
+WEEK_LP_LEAST_MAX = 40_000
 #: The week's LP rounds stop when its bound is within this share of the gap between the working
 #: set's LP and the plan in hand (:func:`_week_lp`) [our choice: the reported gap is then at most
 #: 5 % of itself above the one of the LP of every option].
@@ -329,8 +337,9 @@ def _week_lp(value, rows, upper, telescope, start, end_padded, work, time_limit_
     the whole programme: upper @ y plus the best plan of the overlap rule alone for the values less
     their rows' prices (Lagrangian relaxation, Fisher 1981, Management Science 27, 1; exact for
     that rule by weighted interval scheduling, :func:`_interval_bound`), which holds for any
-    y >= 0. Options whose bound when forced into the plan (:func:`_option_bounds`) is largest join
-    the set until the bound meets the set's own LP (then it is the LP bound of every option), or
+    y >= 0. A set smaller than :data:`WEEK_LP_LEAST_SHARE` of the options is first filled with
+    those whose bound when forced into the plan (:func:`_option_bounds`), unpriced, is largest;
+    then the options whose priced bound is largest join the set until the bound meets the set's own LP (then it is the LP bound of every option), or
     comes within :data:`WEEK_LP_CLOSE` of the gap between that LP and the plan in hand
     (``incumbent``, its total): the LP bound of every option lies between the set's LP and the
     bound, so a further round could shrink the reported gap by no more than that share of it. On
@@ -342,6 +351,12 @@ def _week_lp(value, rows, upper, telescope, start, end_padded, work, time_limit_
     matrix = _row_matrix(rows, value.size)
     useful = value > 0
     work = work & useful
+    least = min(int(WEEK_LP_LEAST_SHARE * np.count_nonzero(useful)), WEEK_LP_LEAST_MAX,
+                int(time_limit_s / (2 * WEEK_LP_SLACK * LP_SECONDS_PER_OPTION)))
+    if np.count_nonzero(work) < least:  # a small set (nights solved on working sets): the best by value first
+        forced = np.where(useful & ~work, _option_bounds(telescope, start, end_padded, np.where(useful, value, 0.0)),
+                          -np.inf)
+        work[np.argsort(-forced, kind="stable")[:least - np.count_nonzero(work)]] = True
     best = None
     for _ in range(WEEK_LP_ROUNDS):
         keep = np.flatnonzero(work)
@@ -366,7 +381,8 @@ def _week_lp(value, rows, upper, telescope, start, end_padded, work, time_limit_
         if bound - own <= max(1e-6 * max(bound, 1.0), WEEK_LP_CLOSE * (own - incumbent)) or outside.size == 0:
             break
         forced = (base + _option_bounds(telescope, start, end_padded, priced))[outside]
-        work[outside[np.argsort(-forced, kind="stable")[:WEEK_LP_ADD]]] = True
+        add = max(WEEK_LP_ADD, least - keep.size)
+        work[outside[np.argsort(-forced, kind="stable")[:add]]] = True
     return best
 
 
@@ -611,11 +627,12 @@ def _solve(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_g
 
 #: Programmes of more options than this are solved on a working set grown by pricing (as are
 #: those whose LP would not fit the time limit); the first working set holds :data:`SIFT_START`
-#: options, and each round adds up to as many [our choice: on 3,000-target nights of 7,600 options
-#: both ways prove the nights optimal in the same time (4.1 s a week), and the LP of every option
-#: prices the week's bound better (3.5 % against 16 %), so the whole programme is solved while its
-#: LP fits; on 100,000-target nights of 250,000 options a set of 2,000 prices the rest].
-SIFT_ABOVE = 40_000
+#: options, and each round adds up to as many [our choice: 3,000-target nights of 7,600 options
+#: are solved whole, whose LP of every option then prices the week (0.55 % gap); 10,000-target
+#: nights of 25,700 options took 2.5-3 s each whole (the LP alone 2.4-3 s), 0.1-0.5 s on a working
+#: set with the same optimum, and the week's LP (:data:`WEEK_LP_LEAST_SHARE`) gives the bound
+#: back; on 100,000-target nights of 250,000 options a set of 2,000 prices the rest].
+SIFT_ABOVE = 12_000
 SIFT_START = 2000
 
 
