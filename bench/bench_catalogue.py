@@ -4,7 +4,8 @@ Run: ``python bench/bench_catalogue.py [--rows 100000] [--runs 7]``. Files are w
 temporary folder: the random catalogue of ``bench_events.py`` (13 columns, decimal coordinates, a
 third of the epochs HJD_UTC; its epochs within 500 days, and again spread over 25 years as in
 catalogues of published ephemerides, across five leap seconds), the demo catalogue's 30 columns
-(sample_targets/targets.csv, its rows repeated under new names: sexagesimal coordinates, free-text notes, every kind of target).
+(sample_targets/targets.csv, its rows repeated under new names: sexagesimal coordinates,
+free-text notes, every kind of target).
 Each file is read by ``planner.read_catalogue`` (validated target table, epochs in BJD_TDB) and by
 ``pandas.read_csv`` (default options), alternating, and the medians of the runs are compared; the
 goal is at most 3x pandas. The reader used (typed arrow CSV, line splitter or the csv module) is

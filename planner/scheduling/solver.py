@@ -339,10 +339,11 @@ def _week_lp(value, rows, upper, telescope, start, end_padded, work, time_limit_
     that rule by weighted interval scheduling, :func:`_interval_bound`), which holds for any
     y >= 0. A set smaller than :data:`WEEK_LP_LEAST_SHARE` of the options is first filled with
     those whose bound when forced into the plan (:func:`_option_bounds`), unpriced, is largest;
-    then the options whose priced bound is largest join the set until the bound meets the set's own LP (then it is the LP bound of every option), or
-    comes within :data:`WEEK_LP_CLOSE` of the gap between that LP and the plan in hand
-    (``incumbent``, its total): the LP bound of every option lies between the set's LP and the
-    bound, so a further round could shrink the reported gap by no more than that share of it. On
+    then the options whose priced bound is largest join the set until the bound meets the set's
+    own LP (then it is the LP bound of every option), or comes within :data:`WEEK_LP_CLOSE` of
+    the gap between that LP and the plan in hand (``incumbent``, its total): the LP bound of every
+    option lies between the set's LP and the bound, so a further round could shrink the reported
+    gap by no more than that share of it. On
     a 3,000-target week: two LPs of 6,000 and 7,000 options, 1.1 s, give a bound 0.02 % above the
     LP bound of all 54,000 options, where a third round to it took 0.7 s more and one LP of all 7 s.
     """
