@@ -15,6 +15,7 @@ import numpy as np
 
 from ..scheduling.blocks import MIN_PER_DAY
 from ..scheduling.score import NEUTRAL_TIMING_QUALITY, POINT_COLUMNS, no_uncertainty
+from .wording import first_few
 
 #: Shown instead of a 1-sigma value when the catalogue gives no uncertainty.
 NO_UNCERTAINTY = "no uncertainty given"
@@ -96,7 +97,7 @@ def no_uncertainty_note(events) -> str | None:
     names = list(dict.fromkeys(events["target"].to_numpy(object)[mask]))
     if not names:
         return None
-    shown = ", ".join(map(str, names[:5])) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
+    shown = first_few(names)
     which, its = ("target gives", "its") if len(names) == 1 else ("targets give", "their")
     return (f"{len(names)} {which} no timing uncertainty ({shown}): {its} sigma is left empty in tables "
             f"and shown as '{NO_UNCERTAINTY}' on the nightly lists and the calendar, and plans score "

@@ -213,6 +213,8 @@ def no_event_note(plans, catalog) -> str | None:
     long period's periastron months away), which are otherwise in no file of the plan; None if none."""
     import numpy as np
 
+    from ...outputs.wording import first_few
+
     targets = plans[0].targets
     quiet = np.array([len(e) > 0 for e in targets["events"]], bool)
     for plan in plans:
@@ -224,7 +226,7 @@ def no_event_note(plans, catalog) -> str | None:
     names = targets["name"].to_numpy(object)[quiet]
     if not len(names):
         return None
-    shown = ", ".join(map(str, names[:5])) + (f" and {len(names) - 5} more" if len(names) > 5 else "")
+    shown = first_few(names)
     which = "target has" if len(names) == 1 else "targets have"
     return (f"{len(names)} {which} no event in these nights ({shown}); "
             f"'periplan events {catalog} --start {plans[0].nights['night'].iloc[0]} --days 365' shows when the "
