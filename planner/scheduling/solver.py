@@ -382,8 +382,7 @@ def _week_lp(value, rows, upper, telescope, start, end_padded, work, time_limit_
         if bound - own <= max(1e-6 * max(bound, 1.0), WEEK_LP_CLOSE * (own - incumbent)) or outside.size == 0:
             break
         forced = (base + _option_bounds(telescope, start, end_padded, priced))[outside]
-        add = max(WEEK_LP_ADD, least - keep.size)
-        work[outside[np.argsort(-forced, kind="stable")[:add]]] = True
+        work[outside[np.argsort(-forced, kind="stable")[:WEEK_LP_ADD]]] = True
     return best
 
 
