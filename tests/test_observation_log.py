@@ -107,3 +107,21 @@ def test_the_plans_template_reads_back_as_planned_rows(tmp_path, targets):
     assert log["purpose"].tolist() == ["periastron", "visit"] and log["cycle"][0] == 12
     # to the second: the template writes whole seconds
     assert np.all(np.abs(log["start_jd_utc"] - schedule["start_jd_utc"]) <= 0.5 / 86400 + TIME_TOL_D)
+
+
+def test_the_plan_names_logged_visits_that_serve_no_request():
+    # A `visit` serves phase bins, wanted phases (rv_phases) or nightly visits (visit_h) only
+    # (README, observation log); Star A asks for none of them, Star B for phase 0.25.
+    from planner.cli.commands.plan import unused_visits_note
+
+    targets = parse_catalogue(CATALOGUE.replace(",k_ms\n", ",k_ms,rv_phases\n").replace(",50\n", ",50,\n")
+                              .replace(",20\n", ",20,0.25\n"), "cat.csv")
+    log = parse_log("target,start,end,purpose,outcome\n"
+                    "Star A,2461384.385,,visit,done\n"
+                    "Star B,2461384.385,,visit,done\n"
+                    "Star A,2461385.385,,visit,lost\n"
+                    "Star A,2461386.385,,visit,partial\n", targets, "log.csv")
+    note = unused_visits_note(log, targets, "obs/log.csv")
+    assert note.startswith("log.csv: rows 2, 5: a visit of Star A counts for nothing in the plan")
+    assert "purpose rv_max or rv_min" in note
+    assert unused_visits_note(log[log["target"] == "Star B"], targets, "log.csv") is None

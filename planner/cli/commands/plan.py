@@ -145,7 +145,7 @@ def run_plan(catalog, site_path, args) -> int:
     bar("writing files")
     paths = plan_folder.write_plan(plan, args.out, force=args.force, summary_text=summary)
     bar.done()
-    _warn([plan], catalog, [f"{args.out}/unobservable.csv"])
+    _warn([plan], catalog, [f"{args.out}/unobservable.csv"], log, getattr(args, "log", None))
     if args.start is None:
         note = past_blocks_note(plan.schedule, first, now, site.timezone)
         if note:
@@ -179,7 +179,7 @@ def _run_campaign(targets, sites, first, settings, log, args) -> int:
         raise PeriplanError(f"--out {exc}; add --force to replace it or choose another folder") from None
     bar.done()
     parts = unique_file_parts([p.site.name for p in plans])
-    _warn(plans, args.catalog, [f"{args.out}/{parts[p.site.name]}/unobservable.csv" for p in plans])
+    _warn(plans, args.catalog, [f"{args.out}/{parts[p.site.name]}/unobservable.csv" for p in plans], log, args.log)
     sys.stdout.write(summary)
     n = sum(len(p.schedule) for p in plans)
     print(f"\n{count(n, 'block')} at {count(len(sites), 'site')}; {count(len(paths), 'file')} in {args.out}/")
@@ -194,16 +194,18 @@ def _now():
     return dt.datetime.now(dt.timezone.utc)
 
 
-def _warn(plans, catalog, unobservable_files) -> None:
+def _warn(plans, catalog, unobservable_files, log=None, log_path=None) -> None:
     """On stderr: each site's targets that never rise there (named with the file listing them),
-    then the run's notes (targets without a timing uncertainty, targets without an event)."""
+    then the run's notes (targets without a timing uncertainty, targets without an event, logged
+    visits that count for nothing)."""
     from ...outputs.explain import no_uncertainty_note
     from ...outputs.tables import never_rising_lines
 
     for plan, listed_in in zip(plans, unobservable_files):
         for line in never_rising_lines(plan.never_rising, plan.site.name, listed_in):
             print(f"periplan: warning: {line}", file=sys.stderr)
-    for note in (no_uncertainty_note(plans[0].events), no_event_note(plans, catalog)):
+    for note in (no_uncertainty_note(plans[0].events), no_event_note(plans, catalog),
+                 unused_visits_note(log, plans[0].targets, log_path)):
         if note:
             print(f"periplan: note: {note}", file=sys.stderr)
 
@@ -231,6 +233,32 @@ def no_event_note(plans, catalog) -> str | None:
     return (f"{len(names)} {which} no event in these nights ({shown}); "
             f"'periplan events {catalog} --start {plans[0].nights['night'].iloc[0]} --days 365' shows when the "
             "next ones come")
+
+
+def unused_visits_note(log, targets, log_path) -> str | None:
+    """The line naming the log's ``visit`` rows (done or partial) of targets that ask for nothing a
+    visit serves (phase bins, wanted phases, nightly visits), which the plan therefore ignores: an
+    RV point at an extremum is logged under its event's name; None if there are none."""
+    import os
+
+    import numpy as np
+
+    from ...outputs.wording import first_few
+    from ...scheduling.log_requests import USED
+
+    if log is None or log.empty:
+        return None
+    served = ((targets["phase_bins"].to_numpy(float) > 0) | np.array([len(p) > 0 for p in targets["rv_phases"]])
+              | np.isfinite(targets["visit_h"].to_numpy(float)))
+    idle = log[(log["purpose"] == "visit") & log["outcome"].isin(USED)]
+    idle = idle[~served[idle["target_index"].to_numpy(int)]]
+    if idle.empty:
+        return None
+    rows = first_few(idle["row"].astype(int))
+    names = first_few(dict.fromkeys(idle["target"]))
+    return (f"{os.path.basename(log_path)}: row{'s' if len(idle) > 1 else ''} {rows}: a visit of {names} counts "
+            "for nothing in the plan (no phase_bins, rv_phases or visit_h asks for one); log an RV point at "
+            "an extremum with purpose rv_max or rv_min, or an event's series under the event's name")
 
 
 def past_blocks_note(schedule, first_night, now, tz: str) -> str | None:
