@@ -31,7 +31,8 @@ def random_catalogue(n, seed=0, epoch_span_d=500.0):
         lines.append(f"T{i},{rng.uniform(0, 360):.5f},{rng.uniform(-60, 80):.5f},{period[i]:.7f},"
                      f"{period[i] * 1e-6:.2e},{e[i]:.4f},{0.01 if e[i] else ''},"
                      f"{rng.uniform(0, 360) if e[i] else '':}{'' if e[i] else ''},{2.0 if e[i] else ''},"
-                     f"{2460500 - epoch_span_d + rng.uniform(0, epoch_span_d):.5f},0.0005,{system},{every if e[i] else circular}")
+                     f"{2460500 - epoch_span_d + rng.uniform(0, epoch_span_d):.5f},0.0005,{system},"
+                     f"{every if e[i] else circular}")
     return "\n".join(lines) + "\n"
 
 

@@ -212,8 +212,8 @@ def load_columns(header, values, rows, source, header_row=None, units=None, erro
     if none:
         shown = ", ".join(map(str, none[:5])) + (f" and {len(none) - 5} more" if len(none) > 5 else "")
         warnings.warn(f"{source}: row{'s' if len(none) > 1 else ''} {shown}: no event to predict (a circular "
-                      "or nearly circular orbit without k_ms, eclipse geometry or duration_h); name the wanted events in column events",
-                      stacklevel=2)
+                      "or nearly circular orbit without k_ms, eclipse geometry or duration_h); name the wanted "
+                      "events in column events", stacklevel=2)
     return result
 
 

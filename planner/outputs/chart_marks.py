@@ -106,7 +106,8 @@ def window_lanes(blocks, ref_jd, lo_h, hi_h, pt_per_h) -> list:
         lane = next((j for j, t in enumerate(free_at) if t <= a), len(free_at))
         if lane == len(free_at):
             free_at.append(z)
-        free_at[lane] = z
+        else:
+            free_at[lane] = z
         out.append((k, lane, at))
     return sorted(out)
 

@@ -114,9 +114,9 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     Drawn: dark time and twilight shaded, one curve per target (thin), the scheduled block on it
     (thick), each fixed block's event window as a bracket with the event time as a marker, in
     lanes under the horizon line (:func:`planner.outputs.chart_marks.window_lanes`: the chart grows
-    a lane's height for each), the altitude limit, the Moon when given; the right axis gives airmass (Young 1994, as the
-    visibility engine). Lines: k curves + one per block + one per event window + one per event
-    time + the limit (+ the Moon).
+    a lane's height for each), the altitude limit, the Moon when given; the right axis gives
+    airmass (Young 1994, as the visibility engine). Lines: k curves + one per block + one per event
+    window + one per event time + the limit (+ the Moon).
     """
     from matplotlib.patches import Rectangle
 
