@@ -176,3 +176,26 @@ def test_plan_files_get_the_mode_open_gives_under_the_umask(tmp_path, capsys, um
     assert expected == 0o666 & ~umask
     modes = {n: stat.S_IMODE(os.stat(out / n).st_mode) for n in os.listdir(out)}
     assert modes and all(m == expected for m in modes.values()), modes
+
+
+def test_text_tables_are_written_as_the_csv_module_writes_them():
+    """A table of text columns is joined by Arrow (the unscheduled requests of a survey); the text
+    must be what Python's csv module writes (minimal quoting: a field holding a comma, a quote
+    or a line break is quoted, its quotes doubled; a missing value is empty)."""
+    import csv
+    import io
+
+    import pandas as pd
+
+    from planner.outputs.tables import render
+
+    rows = [["x", "1", 1.5], ["", None, None], ['say "hi"', "3", 2.0], ["a,b", "4", 3.25], ["two\nlines", "5", 4.0],
+            ["Ω Vel-é", "6", 5.0], ["cr\rlf", "", 6.0]]
+    table = pd.DataFrame(rows, columns=["name", "note", "value"]).astype({"note": object})
+    expected = io.StringIO()
+    writer = csv.writer(expected, lineterminator="\n")
+    writer.writerow(table.columns)
+    writer.writerows([n, note, "" if v is None or v != v else format(v, ".1f")] for n, note, v in rows)
+    got = render(table, "csv", {"value": ".1f"})
+    assert got == expected.getvalue()
+    assert got.splitlines()[4] == '"a,b",4,3.2'  # format(3.25, ".1f"): round half to even
