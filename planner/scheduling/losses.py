@@ -67,9 +67,17 @@ def _limit_reasons(targets, site, tracks, ti, w0, w1):
     return code, words
 
 
-def _index(*columns):
-    """A pandas MultiIndex of equal-length columns (rows to look up or to look in)."""
-    return pd.MultiIndex.from_arrays([np.asarray(c) for c in columns])
+def _keys(*tables):
+    """One int64 key per row of each table (a tuple of equal-length columns, strings or integers,
+    as many in every table): equal rows get equal keys, in every table. Hashing dense codes
+    column by column keeps the keys below the number of rows, so they never overflow; a survey's
+    millions of rows are matched by ``np.isin`` where a MultiIndex took seconds."""
+    sizes = [len(t[0]) for t in tables]
+    key = np.zeros(sum(sizes), np.int64)
+    for j in range(len(tables[0])):
+        codes, uniques = pd.factorize(np.concatenate([np.asarray(t[j]) for t in tables]))
+        key = pd.factorize(key * max(len(uniques), 1) + codes)[0].astype(np.int64)
+    return np.split(key, np.cumsum(sizes)[:-1])
 
 
 def _rivals(starts, ends, sites, schedule, both):
@@ -103,7 +111,7 @@ def _second_instances(second, candidates):
     c = candidates[["target_index", "event", "event_jd_utc"]].astype({"event": str}).merge(blocks)
     c = c.assign(off=np.abs(c["event_jd_utc"] - c["mid"])).sort_values("off", kind="stable")
     c = c.drop_duplicates(["target_index", "event", "mid"])
-    return _index(c["target_index"].to_numpy(int), c["event"].to_numpy(object), instance_minutes(c["event_jd_utc"]))
+    return c["target_index"].to_numpy(int), c["event"].to_numpy(object), instance_minutes(c["event_jd_utc"])
 
 
 def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.DataFrame, targets: pd.DataFrame,
@@ -124,32 +132,36 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
     ti = v["target_index"].to_numpy(int)
     event = v["event"].astype(str).to_numpy(object)
     night = v["night"].astype(str).to_numpy(object)
-    instance = _index(ti, event, instance_minutes(v["jd_utc"]))
+    minute = instance_minutes(v["jd_utc"])
     s_ti = schedule["target_index"].to_numpy(int) if len(schedule) else np.zeros(0, int)
     s_event = schedule["event"].astype(str).to_numpy(object) if len(schedule) else np.zeros(0, object)
     s_night = schedule["night"].astype(str).to_numpy(object) if len(schedule) else np.zeros(0, object)
-    served = instance.isin(_index(s_ti, s_event, instance_minutes(schedule["event_jd_utc"]) if len(schedule)
-                                  else np.zeros(0, np.int64)))
+    s_minute = instance_minutes(schedule["event_jd_utc"]) if len(schedule) else np.zeros(0, np.int64)
+    instance, scheduled = _keys((ti, event, minute), (s_ti, s_event, s_minute))
+    served = np.isin(instance, scheduled)
     second = [(t, name, n, 0.5 * (b0 + b1)) for serves, t, n, b0, b1 in
               zip(schedule.get("serves", []), s_ti, s_night, schedule.get("start_jd_utc", []),
                   schedule.get("end_jd_utc", []))
               for name in str(serves or "").split(";")[1:]]  # the second event a merged block serves
     if second:
-        served |= _index(ti, event, night).isin(_index(*list(zip(*second))[:3]))
-        served |= instance.isin(_second_instances(second, candidates))
+        mine, theirs = _keys((ti, event, night), tuple(np.asarray(c) for c in list(zip(*second))[:3]))
+        served |= np.isin(mine, theirs)
+        mine, theirs = _keys((ti, event, minute), _second_instances(second, candidates))
+        served |= np.isin(mine, theirs)
     keep = ~served
-    v, ti, event, night, instance = v[keep].reset_index(drop=True), ti[keep], event[keep], night[keep], instance[keep]
+    v, ti, event, night, minute = v[keep].reset_index(drop=True), ti[keep], event[keep], night[keep], minute[keep]
 
     # the best candidate of each instance (the first of the highest score)
     score = candidates["score"].to_numpy(float) if len(candidates) else np.zeros(0)
     if len(candidates):
         first = np.lexsort((np.arange(len(candidates)), -score))
-        cands = _index(candidates["target_index"].to_numpy(int)[first],
-                       candidates["event"].astype(str).to_numpy(object)[first],
-                       instance_minutes(candidates["event_jd_utc"].to_numpy(float)[first]))
-        unique = ~cands.duplicated()
-        at = pd.Index(cands[unique]).get_indexer(instance)
-        best = np.where(at >= 0, first[unique][np.maximum(at, 0)], -1)
+        cands, instance = _keys((candidates["target_index"].to_numpy(int)[first],
+                                 candidates["event"].astype(str).to_numpy(object)[first],
+                                 instance_minutes(candidates["event_jd_utc"].to_numpy(float)[first])),
+                                (ti, event, minute))
+        unique, at = np.unique(cands, return_index=True)  # at: each key's first row, the best
+        k = np.minimum(np.searchsorted(unique, instance), len(unique) - 1)
+        best = np.where(unique[k] == instance, first[at[k]], -1)
     else:
         best = np.full(len(v), -1)
     has = best >= 0
@@ -160,8 +172,9 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
              else np.full(len(targets), week_rule, dtype=object))
     done = pd.DataFrame({"ti": s_ti, "event": s_event, "night": s_night})
     done_on = {k: f"done on {', '.join(sorted(set(g)))} instead" for k, g in done.groupby(["ti", "event"])["night"]}
-    done_elsewhere = (_index(ti, event).isin(_index(s_ti, s_event))
-                      & ~_index(ti, event, night).isin(_index(s_ti, s_event, s_night)))
+    pair, s_pair = _keys((ti, event), (s_ti, s_event))
+    trio, s_trio = _keys((ti, event, night), (s_ti, s_event, s_night))
+    done_elsewhere = np.isin(pair, s_pair) & ~np.isin(trio, s_trio)
     observable = v["observable_h"].to_numpy(float) > 0
 
     code = np.full(len(v), "", dtype=object)
