@@ -109,21 +109,30 @@ def _col(frame, name, default):
 
 
 def request_kinds(visible: pd.DataFrame, targets: pd.DataFrame) -> np.ndarray:
-    """Request kind of each visible event (object array; ``""`` where it asks for nothing)."""
+    """Request kind of each visible event (object array; ``""`` where it asks for nothing).
+
+    Worked out once per target (``observe``) and once per event name, then indexed: a survey's
+    week holds millions of rows of a few names."""
     ti = visible["target_index"].to_numpy(int)
-    observe = _col(targets, "observe", "photometry;rv").astype(str)[ti]
-    phot = np.char.find(observe.astype(str), "photometry") >= 0
-    rv = np.char.find(observe.astype(str), "rv") >= 0
-    ev = visible["event"].to_numpy(object).astype(str)
-    ecl = visible["eclipses"].to_numpy(object) if "eclipses" in visible else np.full(len(visible), pd.NA)
-    no_eclipse = np.array([x is not pd.NA and x is not None and not bool(x) for x in ecl], dtype=bool)
-    conj = np.isin(ev, CONJUNCTIONS)
-    kind = np.full(ev.shape, "", dtype=object)
-    kind[(conj | (ev == "periodic")) & phot & ~no_eclipse] = SERIES
-    kind[np.isin(ev, ("rv_max", "rv_min", "apastron")) & rv] = RV_VISIT
-    kind[(ev == "apastron") & phot & ~rv] = SERIES
-    kind[(ev == "periastron") & rv] = RV_SEQUENCE
-    kind[(ev == "periastron") & phot & ~rv] = SERIES
+    observe = _col(targets, "observe", "photometry;rv").astype(str)
+    phot = (np.char.find(observe, "photometry") >= 0)[ti]
+    rv = (np.char.find(observe, "rv") >= 0)[ti]
+    codes, names = pd.factorize(visible["event"])
+    names = np.asarray(names, dtype=object).astype(str)
+
+    def named(*wanted):
+        return np.append(np.isin(names, wanted), False)[codes]  # code -1 (no name): False
+
+    if "eclipses" in visible:  # False: a conjunction known to hold no eclipse; missing: not known
+        no_eclipse = visible["eclipses"].astype("boolean").eq(False).fillna(False).to_numpy(bool)
+    else:
+        no_eclipse = np.zeros(len(visible), bool)
+    kind = np.full(len(visible), "", dtype=object)
+    kind[named(*CONJUNCTIONS, "periodic") & phot & ~no_eclipse] = SERIES
+    kind[named("rv_max", "rv_min", "apastron") & rv] = RV_VISIT
+    kind[named("apastron") & phot & ~rv] = SERIES
+    kind[named("periastron") & rv] = RV_SEQUENCE
+    kind[named("periastron") & phot & ~rv] = SERIES
     kind[is_wanted_phase(visible)] = RV_VISIT  # asked for as RV points, whatever ``observe`` says
     return kind
 
