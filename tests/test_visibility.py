@@ -5,7 +5,7 @@ import pytest
 
 from planner import numerics
 from planner.sky import positions
-from planner.timescales import epochs
+from planner.timescales import earth_orientation, epochs
 
 #: Altitude against astropy's full AltAz transform (pressure 0): the README's promise of
 #: 1 arcsecond. The fast path leaves out polar motion and diurnal aberration (up to 0.3 arcsec
@@ -211,3 +211,20 @@ def test_altitude_of_a_time_does_not_depend_on_the_other_times_of_the_call():
     with_earlier = positions.altaz_at(np.array([64.0, 64.0, 10.0]), np.array([21.8, 21.8, -5.0]),
                                       np.r_[jd, 2461383.75], 37.6, -3.1).alt_deg[:2]
     assert np.array_equal(alone, with_earlier)
+
+
+def test_earth_rotation_angle_of_many_times_is_astropys_across_a_leap_second():
+    """Millions of times on a few days take UT1 - TAI and TAI - UTC per day, interpolated; the
+    angle must stay ERFA's era00 (IAU 2000 ERA) of astropy's UT1 (its IERS table) for each time,
+    on the days around the leap second at the end of 2016-12-31 (IERS Bulletin C 52) too."""
+    import erfa
+    from astropy.time import Time
+
+    rng = np.random.default_rng(7)
+    jd = np.concatenate([2457754.5 + rng.uniform(-2.0, 2.0, 20_000),   # 2016-12-29 .. 2017-01-02
+                         2461382.0 + rng.uniform(0.0, 7.0, 20_000)])   # a week of December 2026
+    with earth_orientation.quiet_iers_warnings():
+        ut1 = Time(jd, format="jd", scale="utc").ut1
+    expected = erfa.era00(ut1.jd1, ut1.jd2)
+    got = positions.earth_rotation_angle_rad(jd)
+    assert np.max(np.abs(np.angle(np.exp(1j * (got - expected))))) < 1e-12  # rad: 14 ns of UT1

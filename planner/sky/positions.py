@@ -112,9 +112,31 @@ def earth_rotation_angle_rad(jd_utc):
     jd = np.asarray(jd_utc, dtype=float)
     finite = np.isfinite(jd)
     if finite.all():
+        # astropy's UT1 - TAI (smooth: no leap seconds) and TAI - UTC at 0h UTC of each day the
+        # times fall on and of the next; UT1 - TAI interpolated linearly between them, as astropy
+        # interpolates the IERS table's daily UT1 - UTC. A survey's millions of times fall on a
+        # few days. A day that ends with a leap second is 86,401 s long: its times go through
+        # erfa.utctai, which stretches it.
+        day = np.floor(jd - 0.5) + 0.5
+        nodes = np.unique(day)
+        nodes = np.union1d(nodes, nodes + 1.0)
+        if nodes.size >= jd.size:
+            with earth_orientation.quiet_iers_warnings():
+                ut1 = Time(jd, format="jd", scale="utc").ut1
+            return erfa.era00(ut1.jd1, ut1.jd2)
         with earth_orientation.quiet_iers_warnings():
-            ut1 = Time(jd, format="jd", scale="utc").ut1
-        return erfa.era00(ut1.jd1, ut1.jd2)
+            at = Time(nodes, format="jd", scale="utc")
+            ut1, tai = at.ut1, at.tai
+        ut1_minus_tai = (ut1.jd1 - tai.jd1) + (ut1.jd2 - tai.jd2)
+        tai_minus_utc = (tai.jd1 - at.jd1) + (tai.jd2 - at.jd2)
+        k = np.searchsorted(nodes, day)
+        since_0h = jd - day
+        tai2 = since_0h + tai_minus_utc[k]
+        leap = np.abs(tai_minus_utc[k + 1] - tai_minus_utc[k]) > 0.5 / 86400.0  # a second more by the next 0h
+        if leap.any():
+            tai1, tai2[leap] = erfa.utctai(day[leap], since_0h[leap])
+            tai2[leap] += tai1 - day[leap]
+        return erfa.era00(day, tai2 + np.interp(jd, nodes, ut1_minus_tai))
     era = np.full(jd.shape, np.nan)
     if finite.any():
         era[finite] = earth_rotation_angle_rad(jd[finite])
