@@ -76,7 +76,7 @@ def _keys(*tables):
     key = np.zeros(sum(sizes), np.int64)
     for j in range(len(tables[0])):
         codes, uniques = pd.factorize(np.concatenate([np.asarray(t[j]) for t in tables]))
-        key = pd.factorize(key * max(len(uniques), 1) + codes)[0].astype(np.int64)
+        key = pd.factorize(key * (len(uniques) + 1) + codes + 1)[0].astype(np.int64)  # code -1: missing
     return np.split(key, np.cumsum(sizes)[:-1])
 
 
