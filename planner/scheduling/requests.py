@@ -175,9 +175,10 @@ def _rv_offsets_d(ti, ev, kind, targets):
     """
     n = ti.size
     lo, hi = np.full(n, np.nan), np.full(n, np.nan)
-    p = targets["period_d"].to_numpy(float)[ti]
-    e = np.nan_to_num(_col(targets, "e", 0.0).astype(float)[ti])
-    w = np.radians(np.nan_to_num(_col(targets, "omega_deg", 90.0).astype(float)[ti], nan=90.0))
+    p_t = targets["period_d"].to_numpy(float)
+    e_t = np.nan_to_num(_col(targets, "e", 0.0).astype(float))
+    w_t = np.radians(np.nan_to_num(_col(targets, "omega_deg", 90.0).astype(float), nan=90.0))
+    p, e, w = p_t[ti], e_t[ti], w_t[ti]
     frac = _col(targets, "rv_fraction_k", 0.1).astype(float)[ti]
     for name, maximum in (("rv_max", True), ("rv_min", False)):
         sel = (kind == RV_VISIT) & (ev == name)
@@ -190,12 +191,28 @@ def _rv_offsets_d(ti, ev, kind, targets):
         half_d = _col(targets, "rv_phase_tol", np.nan).astype(float)[ti[sel]] * p[sel]
         lo[sel], hi[sel] = -half_d, half_d
     sel = kind == RV_SEQUENCE
-    if sel.any():  # one swing per target
-        uniq, inv = np.unique(ti[sel], return_inverse=True)
-        first = np.flatnonzero(sel)[np.unique(inv, return_index=True)[1]]
-        s_lo, s_hi = orbit_contacts.rv_swing_offsets_d(p[first], e[first], w[first])
-        lo[sel], hi[sel] = s_lo[inv], s_hi[inv]
+    if sel.any():  # one swing per target of the table
+        s_lo, s_hi = _swings(p_t, e_t, w_t)
+        lo[sel], hi[sel] = s_lo[ti[sel]], s_hi[ti[sel]]
     return lo, hi
+
+
+_LAST_SWINGS: dict = {}
+
+
+def _swings(period_d, e, omega_rad):
+    """:func:`planner.orbits.contacts.rv_swing_offsets_d` of every target, the last table's answer
+    kept: a plan asks for them three times (the events' reach, the windows, the requests), and a
+    survey's 100,000 orbits take 1-2 s each time."""
+    key = (period_d.tobytes(), e.tobytes(), omega_rad.tobytes())
+    kept = _LAST_SWINGS.get(key)
+    if kept is None:
+        kept = orbit_contacts.rv_swing_offsets_d(period_d, e, omega_rad)
+        for a in kept:
+            a.flags.writeable = False
+        _LAST_SWINGS.clear()
+        _LAST_SWINGS[key] = kept
+    return kept
 
 
 def request_reach_d(targets: pd.DataFrame) -> np.ndarray:
