@@ -50,11 +50,8 @@ def limit_codes(targets, site, target_index, jd_utc, tracks) -> np.ndarray:
     dec = targets["dec_deg"].to_numpy(float)[ti]
     era = tracks.era_rad(jd)
     sun_alt = tracks.sun_altaz_deg(jd, era)[0]
-    ri, di = positions.cirs_places_at(ra, dec, jd)  # altaz_at's own steps, the apparent places used twice
-    ha_h, alt_deg, az_deg = positions.horizontal(ri, di, positions.earth_rotation_angle_rad(jd),
-                                                 site.latitude_deg, site.longitude_deg)
-    pos = positions.Horizontal(alt_deg, az_deg, ha_h)
-    place = numerics.unit_vectors(ri, di)
+    pos, cirs = positions.altaz_and_places_at(ra, dec, jd, site.latitude_deg, site.longitude_deg)
+    place = numerics.unit_vectors(*cirs)
     moon_sep = positions.separation_deg(place, tracks.moon_vector(jd, era))
     sun_sep = positions.separation_deg(place, tracks.sun_vector(jd, era))
     alt_floor = np.full(ti.shape, float(site.min_altitude_deg))

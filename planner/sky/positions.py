@@ -267,6 +267,12 @@ def altaz_at(ra_deg, dec_deg, jd_utc, latitude_deg: float, longitude_deg: float)
     For the scheduler's altitude at block start/middle/end: one target and one time per element.
     NaN where the time is NaN.
     """
+    return altaz_and_places_at(ra_deg, dec_deg, jd_utc, latitude_deg, longitude_deg)[0]
+
+
+def altaz_and_places_at(ra_deg, dec_deg, jd_utc, latitude_deg: float, longitude_deg: float):
+    """(:func:`altaz_at`, the CIRS (ra, dec) in rad it was computed from, flat): for callers that
+    also want the targets' distance from the Moon or Sun, whose apparent places are the same."""
     ra, dec, jd = np.broadcast_arrays(np.asarray(ra_deg, float), np.asarray(dec_deg, float),
                                       np.asarray(jd_utc, float))
     shape = jd.shape
@@ -277,7 +283,7 @@ def altaz_at(ra_deg, dec_deg, jd_utc, latitude_deg: float, longitude_deg: float)
     if ok.any():
         era[ok] = earth_rotation_angle_rad(flat[ok])
     ha, alt, az = horizontal(ri, di, era, latitude_deg, longitude_deg)
-    return Horizontal(alt.reshape(shape), az.reshape(shape), ha.reshape(shape))
+    return Horizontal(alt.reshape(shape), az.reshape(shape), ha.reshape(shape)), (ri, di)
 
 
 def _ra_dec_from_vectors(v):

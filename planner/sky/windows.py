@@ -377,7 +377,7 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
                                  out["sigma_d"].to_numpy(float), baseline_h, k_sigma, default_length_h)
     w0, w1 = jd - half_d, jd + half_d
 
-    pos = positions.altaz_at(ra, dec, jd, site.latitude_deg, site.longitude_deg)
+    pos, (ri, di) = positions.altaz_and_places_at(ra, dec, jd, site.latitude_deg, site.longitude_deg)
     covered = (jd >= tracks.jd_utc[1]) & (jd <= tracks.jd_utc[-2])
     sun_alt = np.full(n, np.nan)
     moon_sep = np.full(n, np.nan)
@@ -387,12 +387,12 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
         era = tracks.era_rad(jc)
         sun_alt[covered] = tracks.sun_altaz_deg(jc, era)[0]
         # Moon separation in CIRS: the target's place at the event, the Moon's topocentric vector
-        tv = numerics.unit_vectors(*positions.cirs_places_at(ra[covered], dec[covered], jc))
+        tv = numerics.unit_vectors(ri[covered], di[covered])
         moon_sep[covered] = positions.separation_deg(tv, tracks.moon_vector(jc, era))
         illum[covered] = tracks.moon_illumination(jc)
     night_idx = night_of(jd, nights)
     labels = nights["night"].to_numpy(object)
-    night = pd.array([labels[i] if i >= 0 else pd.NA for i in night_idx], dtype="string")
+    night = pd.array(np.where(night_idx >= 0, labels[night_idx], None), dtype="string")  # -1: in no night
 
     if intervals is None:
         intervals = observable_intervals(targets, site, nights, tracks, np.unique(ti))
