@@ -190,7 +190,7 @@ def test_text_tables_are_written_as_the_csv_module_writes_them():
     from planner.outputs.tables import render
 
     rows = [["x", "1", 1.5], ["", None, None], ['say "hi"', "3", 2.0], ["a,b", "4", 3.25], ["two\nlines", "5", 4.0],
-            ["Ω Vel-é", "6", 5.0], ["cr\rlf", "", 6.0]]
+            ["Ω Vel-é", "6", 0.0], ["cr\rlf", "", -0.0]]  # -0.0 formats as "-0.0", not as 0.0 does
     table = pd.DataFrame(rows, columns=["name", "note", "value"]).astype({"note": object})
     expected = io.StringIO()
     writer = csv.writer(expected, lineterminator="\n")

@@ -152,7 +152,15 @@ def _json_value(v):
 
 def _formatted(values: pd.Series, spec: str) -> np.ndarray:
     """``format(v, spec)`` of each value, "" where missing; each distinct value is formatted once
-    (a survey's million unscheduled rows hold a few thousand distinct values)."""
+    (a survey's million unscheduled rows hold a few thousand distinct values). Floats are told
+    apart by their bits, so that -0.0 stays "-0.0"."""
+    if pd.api.types.is_float_dtype(values):
+        x = values.to_numpy(float, na_value=np.nan)
+        missing = np.isnan(x)
+        codes, uniques = pd.factorize(np.where(missing, 0.0, x).view(np.int64))
+        out = np.array([format(u, spec) for u in uniques.view(np.float64)], dtype=object)[codes]
+        out[missing] = ""
+        return out
     codes, uniques = pd.factorize(values)
     return np.array([format(u, spec) for u in uniques] + [""], dtype=object)[codes]  # code -1: missing
 
