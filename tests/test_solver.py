@@ -226,3 +226,19 @@ def test_plans_taken_when_the_limit_stops_the_solver_keep_every_rule(limit):
     assert report.objective == pytest.approx(opts["value"][chosen].sum())
     assert report.bound >= report.objective - TOTAL_TOL
     assert report.objective > 0
+
+
+def test_option_bounds_total_is_the_interval_bound():
+    # the forward pass of _option_bounds is the weighted interval scheduling of _interval_bound
+    # (Kleinberg & Tardos 2006, sec. 6.1): the same total, to the bit, on two telescopes
+    from planner.scheduling import solver
+
+    rng = np.random.default_rng(11)
+    n = 400
+    tel = np.where(rng.random(n) < 0.5, "north", "south").astype(object)
+    start = rng.uniform(0.0, 3.0, n)
+    end = start + rng.uniform(0.01, 0.3, n)
+    value = rng.normal(5.0, 4.0, n)
+    bounds, total = solver._option_bounds(tel, start, end, value, with_total=True)
+    assert total == solver._interval_bound(tel, start, end, value)
+    assert np.array_equal(bounds, solver._option_bounds(tel, start, end, value))

@@ -682,10 +682,11 @@ def _sifted(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_
             y[row_of] = y_sub
         priced = np.where(useful, v - a.T @ y, -np.inf)
         base = float(upper @ y)
-        option_bound = base + _option_bounds(telescope, start, end_padded, priced)
+        forced, overlap_only = _option_bounds(telescope, start, end_padded, priced, with_total=True)
+        option_bound = base + forced
         outside = useful & ~work
         within = max(rep.bound, best_total)
-        bound = min(bound, base + _interval_bound(telescope, start, end_padded, priced),
+        bound = min(bound, base + overlap_only,
                     max(within, float(option_bound[outside].max()) if outside.any() else within))
         bound = max(bound, best_total)
         gap = (bound - best_total) / bound if bound > 0 else 0.0
@@ -845,11 +846,13 @@ def _interval_bound(telescope, start, end_padded, value):
                      for m in (telescope == t for t in pd.unique(telescope))))
 
 
-def _option_bounds(telescope, start, end_padded, value):
+def _option_bounds(telescope, start, end_padded, value, with_total=False):
     """Per option i: value_i plus the best plan of the overlap rule alone (values clipped at 0)
     among the options ending by i's start and among those starting after i's end: no plan
-    holding i, with the overlap rule, is worth more."""
+    holding i, with the overlap rule, is worth more. With ``with_total``, also
+    :func:`_interval_bound` of the same values, which the forward pass holds already."""
     out = np.empty(value.size)
+    total = 0
     for t in pd.unique(telescope):
         m = np.flatnonzero(telescope == t)
         s, e, v = start[m], end_padded[m], value[m]
@@ -857,7 +860,8 @@ def _option_bounds(telescope, start, end_padded, value):
         mirror_ends, after = _prefix_best(-e, -s, v)  # time reversed: [-end, -start) "ends by" -t iff start >= t
         out[m] = (v + best[np.searchsorted(ends, s, side="right")]
                   + after[np.searchsorted(mirror_ends, -e, side="right")])
-    return out
+        total += best[-1]
+    return (out, float(total)) if with_total else out
 
 
 def _greedy_choice(a, upper, telescope, start, end_padded, value, useful, order=None):
