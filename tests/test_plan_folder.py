@@ -178,7 +178,7 @@ def test_plan_files_get_the_mode_open_gives_under_the_umask(tmp_path, capsys, um
     assert modes and all(m == expected for m in modes.values()), modes
 
 
-def test_text_tables_are_written_as_the_csv_module_writes_them():
+def test_text_tables_are_written_as_the_csv_module_writes_them(monkeypatch):
     """A table of text columns is joined by Arrow (the unscheduled requests of a survey); the text
     must be what Python's csv module writes (minimal quoting: a field holding a comma, a quote
     or a line break is quoted, its quotes doubled; a missing value is empty)."""
@@ -187,8 +187,10 @@ def test_text_tables_are_written_as_the_csv_module_writes_them():
 
     import pandas as pd
 
+    from planner.outputs import tables
     from planner.outputs.tables import render
 
+    monkeypatch.setattr(tables, "CSV_CHUNK_ROWS", 3)  # rows joined 3 at a time: chunks meet mid-table
     rows = [["x", "1", 1.5], ["", None, None], ['say "hi"', "3", 2.0], ["a,b", "4", 3.25], ["two\nlines", "5", 4.0],
             ["Ω Vel-é", "6", 0.0], ["cr\rlf", "", -0.0]]  # -0.0 formats as "-0.0", not as 0.0 does
     table = pd.DataFrame(rows, columns=["name", "note", "value"]).astype({"note": object})

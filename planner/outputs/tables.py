@@ -181,16 +181,28 @@ def _quoted_pattern() -> str:
     return "[" + "".join(re.escape(ch) for ch in ',"\r\n\t ;' if quoted(ch)) + "]"
 
 
+#: Rows joined at once by :func:`_csv_text` (bounds the Arrow arrays beside the text).
+CSV_CHUNK_ROWS = 100_000
+
+
 def _csv_text(frame: pd.DataFrame) -> str:
     """``frame.to_csv(index=False)`` with "\\n" line ends. A table of text columns alone (the
     unscheduled requests of a survey's week: a million rows) is joined by Arrow's string kernels,
-    the same text 3x faster; other tables go through pandas."""
-    import pyarrow as pa
-    import pyarrow.compute as pc
-
+    :data:`CSV_CHUNK_ROWS` rows at a time, the same text 3x faster; other tables go through pandas."""
     texts = all(pd.api.types.infer_dtype(frame[c]) in ("string", "empty") for c in frame.columns)
     if not texts or len(frame) == 0 or frame.shape[1] < 2:  # a lone empty field is written '""'
         return frame.to_csv(index=False, lineterminator="\n")
+    parts = [frame.iloc[:0].to_csv(index=False, lineterminator="\n")]
+    for lo in range(0, len(frame), CSV_CHUNK_ROWS):
+        parts.append(_csv_rows(frame.iloc[lo:lo + CSV_CHUNK_ROWS]))
+    return "".join(parts)
+
+
+def _csv_rows(frame: pd.DataFrame) -> str:
+    """The CSV lines of a table of text columns, by Arrow's string kernels (:func:`_csv_text`)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
     text = pa.large_string()  # 64-bit offsets: no 2 GB limit on a column
     mark, empty = pa.scalar('"', text), pa.scalar("", text)
     fields = []
@@ -204,8 +216,7 @@ def _csv_text(frame: pd.DataFrame) -> str:
     lines = pc.binary_join_element_wise(pc.binary_join_element_wise(*fields, pa.scalar(",", text)), empty,
                                         pa.scalar("\n", text))  # each row and its "\n"
     ends = np.frombuffer(lines.buffers()[1], np.int64)[lines.offset:lines.offset + len(lines) + 1]
-    body = lines.buffers()[2].to_pybytes()[ends[0]:ends[-1]].decode("utf-8")  # the rows, back to back
-    return frame.iloc[:0].to_csv(index=False, lineterminator="\n") + body
+    return lines.buffers()[2].slice(int(ends[0]), int(ends[-1] - ends[0])).to_pybytes().decode("utf-8")
 
 
 def render(frame: pd.DataFrame, fmt: str, float_formats: dict | None = None) -> str:
