@@ -42,6 +42,14 @@ def _target_night(frame: pd.DataFrame) -> np.ndarray:
     return (frame["target_index"].astype(str) + "|" + frame["night"].astype(str)).to_numpy(object)
 
 
+def _night_rank(nights: pd.Series, nights_order) -> np.ndarray:
+    """Position of each row's night in ``nights_order`` (float; NaN for a night not in it), looked
+    up once per night name, not once per option."""
+    codes, names = pd.factorize(nights)
+    rank_of = {lab: float(i) for i, lab in enumerate(nights_order)}
+    return np.append([rank_of.get(n, np.nan) for n in names], np.nan)[codes]  # code -1: no night
+
+
 #: Factor on the value of a "first" request for each night it waits: its first night wins over a
 #: later one unless it is worth less than half as much there (a clash with a better block, a
 #: window mostly lost) [our choice].
@@ -192,7 +200,7 @@ def fill_phase_visits(phase: pd.DataFrame, blocks: pd.DataFrame, visits: pd.Data
     cut["start_jd_utc"], cut["end_jd_utc"] = start, start + length
     opts = candidate_options(cut)
     opts["group"] = "g" + cut["group"].astype(str).to_numpy(object)[opts["candidate"].to_numpy()]  # a bin, any site
-    rank = opts["night"].map({lab: i for i, lab in enumerate(nights_order)}).to_numpy(float)
+    rank = _night_rank(opts["night"], nights_order)
     opts["value"] = opts["value"] * FIRST_NIGHT_FACTOR ** rank
     chosen, report = choose_options(opts, overhead_d, exclusive=("group",), time_limit_s=time_limit_s)
     pick = opts[chosen]
@@ -225,13 +233,12 @@ def _model(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataFrame, n
                              opts["group"].to_numpy(object))
     # "every": no week key, so each instance may be taken; "best"/"first": the week key allows one;
     # "first" also makes each later night worth less
-    rank = opts["night"].map({lab: i for i, lab in enumerate(nights_order)}).to_numpy(float)
+    rank = _night_rank(opts["night"], nights_order)
     opts["week_key"] = np.where((rules == "every") | phase, "", opts["week_key"].to_numpy(object))
     opts["value"] = np.where(rules == "first", opts["value"] * FIRST_NIGHT_FACTOR ** rank, opts["value"])
     opts["source"] = "request"
     opts["monitor_night"] = ""
-    opts["block_night"] = _target_night(cands.iloc[opts["candidate"].to_numpy()].reset_index(drop=True)) \
-        if len(opts) else np.zeros(0, dtype=object)
+    opts["block_night"] = _target_night(cands)[opts["candidate"].to_numpy()] if len(opts) else np.zeros(0, dtype=object)
     opts["spacing"], opts["gap_d"] = "", 0.0
     mon = pd.DataFrame({
         "candidate": np.arange(len(monitors), dtype=np.int64), "telescope": "telescope",
