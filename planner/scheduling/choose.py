@@ -255,7 +255,8 @@ def _model(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataFrame, n
         mon["telescope"] = monitors["site"].astype(str).to_numpy(object)
     exclusive, capacity = ("group", "week_key"), None
     if "site" in cands:  # several sites: an event instance is observed once, or at the sites it asks for
-        c = cands.iloc[opts["candidate"].to_numpy()]
+        keyed = ["target_index", "event", "request", "slot", "event_jd_utc"]  # the columns the key is made of
+        c = cands[keyed].iloc[opts["candidate"].to_numpy()]
         finite = np.isfinite(c["event_jd_utc"].to_numpy(float))
         key = (c["target_index"].astype(str) + "|" + c["event"].astype(str) + "|" + c["request"].astype(str) + "|"
                + c["slot"].astype(str) + "|" + np.round(c["event_jd_utc"].fillna(0) * 1440).astype(np.int64).astype(str))
