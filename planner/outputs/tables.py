@@ -178,7 +178,7 @@ def _quoted_pattern() -> str:
         csv.writer(buf, lineterminator="\n").writerow([f"a{ch}b", "c"])
         return buf.getvalue().startswith('"')
 
-    return "[" + "".join(re.escape(ch) for ch in ',"\r\n\t ;' if quoted(ch)) + "]"
+    return "[" + "".join(re.escape(ch) for ch in ',"\r\n' if quoted(ch)) + "]"
 
 
 #: Rows joined at once by :func:`_csv_text` (bounds the Arrow arrays beside the text).
