@@ -70,6 +70,7 @@ class Plan:
     candidates: pd.DataFrame = dataclasses.field(default_factory=pd.DataFrame)   # every block chosen from
     unscheduled: pd.DataFrame = dataclasses.field(default_factory=pd.DataFrame)  # planner.scheduling.losses
     report: object = None       # planner.scheduling.solver.SolveReport: optimal, or the gap to the bound
+    log: pd.DataFrame | None = None  # the observation log the plan was made with (planner.inputs.observation_log)
     stage_seconds: dict = dataclasses.field(default_factory=dict)  # wall seconds of each of STAGES
 
     def altitude_deg(self, target_index, jd_utc):
@@ -153,6 +154,7 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
     """
     timer = _StageTimer(progress)
     plan = _prepare(targets, site, first_night, n_nights, settings, timer)
+    plan.log = log
     _stage(timer, "schedule")
     plan.schedule, plan.candidates, plan.report = plan_week_report(
         plan.events, plan.intervals, targets, plan.nights, altitude_deg=plan.altitude_deg,
@@ -203,6 +205,7 @@ def make_campaign(targets: pd.DataFrame, sites, first_night, n_nights: int,
     plans, weeks = [], []
     for site in sites:
         plan = _prepare(targets, site, first_night, n_nights, settings, progress)
+        plan.log = log
         week = week_candidates(plan.events, plan.intervals, targets, plan.nights, plan.altitude_deg, plan.moon_sep_deg,
                                settings.schedule, plan.requests, log=log)
         week.cands["site"] = site.name
@@ -239,7 +242,7 @@ def _losses(plan, schedule):
     """The plan's unscheduled requests; ``schedule`` holds every site's blocks (served elsewhere = served)."""
     options = plan.settings.schedule
     return unscheduled(plan.events, plan.candidates, schedule, plan.targets, plan.site, plan.nights, plan.tracks,
-                       plan.never_rising, options.overhead_min / 1440.0, options.repeats)
+                       plan.never_rising, options.overhead_min / 1440.0, options.repeats, plan.log)
 
 
 def _prepare(targets, site, first_night, n_nights, settings, progress) -> Plan:

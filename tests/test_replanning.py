@@ -63,6 +63,24 @@ def test_replanning_after_a_logged_night_drops_exactly_the_done_events(demo):
     assert keys(later) <= keys(again.schedule)
 
 
+def test_a_done_event_is_listed_as_logged_not_as_unobservable(demo):
+    # the first plan's single blocks of night 1, logged done, have no block in the new plan; their
+    # requests are in unscheduled.csv as observed already, not as too short or below a limit
+    targets, site, plan = demo
+    again = planner.make_plan(targets, site, FIRST, 3, log=log_of(plan.schedule, targets, {"2026-12-07": "done"}))
+    first_night = plan.schedule[(plan.schedule["night"] == "2026-12-07")
+                                & ~plan.schedule["request"].isin(["rv_sequence", "monitor"])]
+    from planner.timescales.clock import jd_utc_to_iso_z
+
+    un = again.unscheduled
+    assert len(first_night)
+    for t, e, when in zip(first_night["target"], first_night["event"], jd_utc_to_iso_z(first_night["event_jd_utc"])):
+        rows = un[(un["target"] == t) & (un["event"] == e) & (un["event_utc"] == when)]  # that instance
+        assert len(rows) and set(rows["reason_code"]) == {"logged"}, (t, e, when, rows["reason_code"].tolist())
+    # without the log, none of the plan's requests is called logged
+    assert "logged" not in set(plan.unscheduled["reason_code"])
+
+
 def test_a_lost_night_keeps_its_requests_and_a_done_one_frees_the_week(demo):
     targets, site, plan = demo
     lost = planner.make_plan(targets, site, FIRST, 3, log=log_of(plan.schedule, targets, {"2026-12-07": "lost"}))

@@ -67,13 +67,21 @@ def _instances(log, visible):
     return keys
 
 
+def logged_instances(log: pd.DataFrame | None, targets: pd.DataFrame, visible: pd.DataFrame) -> dict:
+    """{instance key ``ti|event|minute`` (:func:`planner.scheduling.blocks.instance_keys`): the log
+    rows (done or partial) that observed it} for the event instances of ``visible``."""
+    if log is None or log.empty:
+        return {}
+    vis = visible.assign(period_d=targets["period_d"].to_numpy(float)[visible["target_index"].to_numpy(int)])
+    return _instances(log, vis)
+
+
 def apply_log(cands: pd.DataFrame, monitors: pd.DataFrame, log: pd.DataFrame | None, targets: pd.DataFrame,
               visible: pd.DataFrame):
     """(candidates, monitors) left after the observation log; both tables keep their columns."""
     if log is None or log.empty:
         return cands, monitors
-    vis = visible.assign(period_d=targets["period_d"].to_numpy(float)[visible["target_index"].to_numpy(int)])
-    logged = _instances(log, vis)
+    logged = logged_instances(log, targets, visible)
     keys = instance_keys(cands["target_index"], cands["event"], cands["event_jd_utc"])
     keep = np.ones(len(cands), bool)
     score = cands["score"].to_numpy(float).copy()

@@ -13,6 +13,8 @@ and has no block in the schedule gets the first reason that applies, in this ord
 ``horizon``,
 ``hour_angle``,
 ``moon``, ``sun``
+``logged``          observed already: the observation log holds the instance (done, or every
+                    part a block of it could add), so it has no candidate block
 ``too_short``       something is observable, but no stretch long enough and holding a contact
                     with its baseline or the mid-event (the request stage's rule)
 ``better_night``    the target's event is done on another night (its week rule)
@@ -29,6 +31,7 @@ from ..sky.limits import REASONS as LIMIT_REASONS
 from ..sky.limits import limit_codes
 from ..timescales.clock import jd_utc_to_iso_z
 from .blocks import instance_minutes
+from .log_requests import logged_instances
 from .requests import SERIES, request_kinds
 
 UNSCHEDULED_COLUMNS = ("night", "target", "event", "request", "priority", "event_utc", "best_value",
@@ -42,6 +45,8 @@ LOST = "lost to higher-value blocks: "
 #: The reasons of a request with observable stretches, none of which can hold its block.
 TOO_SHORT_SERIES = "observable only in stretches too short or holding no contact with its baseline"
 TOO_SHORT_VISIT = "observable only in stretches too short for its visits"
+#: The reason of a request the observation log has served.
+LOGGED = "observed already: the observation log holds it (done, or every part a block could add)"
 #: The reason of a window that lies wholly in its night's daylight or twilight.
 MISSES_DARKNESS = "in daylight or twilight: its window misses the night's darkness"
 
@@ -116,12 +121,13 @@ def _second_instances(second, candidates):
 
 def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.DataFrame, targets: pd.DataFrame,
                 site, nights: pd.DataFrame, tracks, never: pd.DataFrame, overhead_d: float = 0.0,
-                week_rule: str = "every") -> pd.DataFrame:
+                week_rule: str = "every", log: pd.DataFrame | None = None) -> pd.DataFrame:
     """The requests of ``visible`` that ``schedule`` does not serve (columns :data:`UNSCHEDULED_COLUMNS`).
 
     ``candidates`` are every block the scheduler chose from (with ``night``), ``never`` the
     never-rising table (:func:`planner.sky.windows.never_rising`), ``tracks`` the Sun/Moon tracks of
-    the site; ``week_rule`` the plan's default (a target's ``week_rule`` column overrides it).
+    the site; ``week_rule`` the plan's default (a target's ``week_rule`` column overrides it);
+    ``log`` the observation log the plan was made with (its instances are ``logged``).
     Sorted by night, then by priority (highest first). Vectorised over the requests (a survey's
     week lists millions).
     """
@@ -176,12 +182,20 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
     trio, s_trio = _keys((ti, event, night), (s_ti, s_event, s_night))
     done_elsewhere = np.isin(pair, s_pair) & ~np.isin(trio, s_trio)
     observable = v["observable_h"].to_numpy(float) > 0
+    held = [key.split("|") for key in logged_instances(log, targets, v)]  # "ti|event|minute"
+    logged = np.zeros(len(v), bool)
+    if held:
+        mine, theirs = _keys((ti, event, minute), (np.array([int(k[0]) for k in held], int),
+                                                   np.array(["|".join(k[1:-1]) for k in held], object),
+                                                   np.array([int(k[-1]) for k in held], np.int64)))
+        logged = np.isin(mine, theirs)
 
     code = np.full(len(v), "", dtype=object)
     words = np.full(len(v), "", dtype=object)
     steps = [  # the first reason that applies, in the docstring's order
         ("never_rises", np.isin(ti, never["target_index"].to_numpy(int)), "never rises high enough at the site"),
         ("no_darkness", np.isin(night, [n for n, d in dark.items() if not d]), "the night has no darkness at the site"),
+        ("logged", ~has & logged, LOGGED),
         ("limit", ~has & ~observable, None),
         ("too_short", ~has, None),
         ("better_night", (rules[ti] != "every") & done_elsewhere, None),
