@@ -118,6 +118,43 @@ def test_week_chart_one_bar_per_block_and_empty_nights(tmp_path):
     assert w == int(10.0 * charts.DPI) and size > 5_000
 
 
+
+def test_week_chart_labels_of_a_crowded_night_do_not_overlap():
+    """Three short blocks under an hour apart, long names: each name is written whole or shortened
+    with an ellipsis, and no label's box, as matplotlib's renderer measures it, crosses another
+    label or another block's bar (the placement estimates text widths; the renderer is the check)."""
+    nights = pd.DataFrame([NIGHT])
+    day = "2026-12-07"
+    blocks = pd.DataFrame([
+        block(day, J0 + 0.60, J0 + 0.66, "Quejigo EB-4 long name", 0),
+        block(day, J0 + 0.67, J0 + 0.69, "Retamar-19 also long", 1),
+        block(day, J0 + 0.70, J0 + 0.72, "Lentisco-8 third", 2),
+        block(day, J0 + 0.73, J0 + 0.745, "Encina-2 fourth one", 3),
+        block(day, J0 + 0.30, J0 + 0.40, "Alpha", 4),
+    ])[list(schedule.SCHEDULE_COLUMNS)]
+    fig = charts.week_figure(blocks, nights, tz="UTC")
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    ax = fig.axes[0]
+    labels = by_gid(ax.texts, "block_label")
+    assert len(labels) == len(blocks)
+    names = list(blocks["target"])
+    for t in labels:
+        text = t.get_text()
+        assert text in names or (text.endswith("\u2026") and any(n.startswith(text[:-1]) for n in names))
+    assert "Alpha" in [t.get_text() for t in labels]  # room inside its bar
+    boxes = [t.get_window_extent(renderer) for t in labels]
+    bars = [b.get_datalim(ax.transData) for b in by_gid(ax.collections, "block")]  # display units
+    for i, a in enumerate(boxes):
+        for b in boxes[i + 1:]:
+            assert not a.overlaps(b), (labels[i].get_text(), a, b)
+        inside = [k for k, bar in enumerate(bars) if bar.x0 - 1 <= a.x0 and a.x1 <= bar.x1 + 1
+                  and bar.y0 <= a.y0 and a.y1 <= bar.y1]
+        for k, bar in enumerate(bars):
+            if k not in inside:
+                assert not a.overlaps(bar), (labels[i].get_text(), k)
+
+
 CATALOGUE = """\
 name,ra,dec,period_d,e,omega_deg,tp,k_ms,gamma_ms,events
 Ecc,63.14,21.78,111.4367,0.928,301.2,2461300.25,468.0,-3120.0,periastron;primary_conjunction;rv_max;rv_min

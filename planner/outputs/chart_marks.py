@@ -80,6 +80,61 @@ LANE_DEG = 4.0
 LABEL_CHAR_PT = 0.62 * 7
 
 
+#: Gap between a bar and a label written beside it, and the smallest share of a name (in
+#: characters, an ellipsis included) worth writing in the room left [our choices].
+LABEL_GAP_H = 0.1
+MIN_LABEL_CHARS = 4
+
+
+def label_places(bars, lo_h, hi_h, pt_per_h) -> list:
+    """Where each bar's name goes on a row chart: a list of (x, ha, text, place) in the order of
+    ``bars``, or None for a bar left without a name; ``place`` is ``inside`` (centred in the bar),
+    ``beside`` (after the bar, or before it), ``above`` or ``below`` (centred over or under the
+    bar, in the gap between rows).
+
+    ``bars``: (start h, end h, row, name); a name is :data:`LABEL_CHAR_PT` a character wide at
+    ``pt_per_h`` points an hour. A name that does not fit in its bar goes, in this order of
+    preference, to the right of the bar, to its left, above it or below it, wherever it runs into
+    no other bar or label of its row nor past the chart's edges; failing all of these it is
+    shortened with an ellipsis into the wider free side, and a bar whose room holds fewer than
+    :data:`MIN_LABEL_CHARS` characters keeps no name (the night's sheet lists every block).
+    """
+    def width(text):
+        return len(text) * LABEL_CHAR_PT / pt_per_h
+
+    def free(a, z, taken):
+        return lo_h <= a and z <= hi_h and all(z <= s or a >= e for s, e in taken)
+
+    out = [None] * len(bars)
+    for row in {b[2] for b in bars}:
+        here = sorted((k for k, b in enumerate(bars) if b[2] == row), key=lambda k: bars[k][:2])
+        lanes = {"beside": [(bars[k][0], bars[k][1]) for k in here], "above": [], "below": []}
+        for k in here:
+            xs, xe, _, name = bars[k][:4]
+            need, mid = width(name), 0.5 * (xs + xe)
+            if need <= 0.92 * (xe - xs):
+                out[k] = (mid, "center", name, "inside")
+                continue
+            tries = [("beside", xe + LABEL_GAP_H, "left"), ("beside", xs - LABEL_GAP_H - need, "right"),
+                     ("above", mid - need / 2, "center"), ("below", mid - need / 2, "center")]
+            beside = lanes["beside"]
+            room_r = min([s for s, _ in beside if s >= xe] + [hi_h]) - xe - 2 * LABEL_GAP_H
+            room_l = xs - max([e for _, e in beside if e <= xs] + [lo_h]) - 2 * LABEL_GAP_H
+            text = name[:int(max(room_r, room_l) * pt_per_h / LABEL_CHAR_PT) - 1] + "\u2026"
+            if len(text) >= MIN_LABEL_CHARS:
+                tries.append(("beside", xe + LABEL_GAP_H, "left") if room_r >= room_l
+                             else ("beside", xs - LABEL_GAP_H - width(text), "right"))
+            for n, (lane, start, ha) in enumerate(tries):
+                shown = text if n == 4 else name
+                span = (start, start + width(shown))
+                if free(*span, lanes[lane]):
+                    x = {"left": span[0], "right": span[1], "center": mid}[ha]
+                    out[k] = (x, ha, shown, lane)
+                    lanes[lane].append(span)
+                    break
+    return out
+
+
 def _window_label(b) -> str:
     return f"{b['target']}: {event_words(b['event'], b.get('label'))}"
 

@@ -205,19 +205,20 @@ def write_night_chart(path, night, times_jd_utc, alt_deg, names, blocks, min_alt
 
 
 def _block_labels(ax, fig, names, lo, hi):
-    """Each block's target name inside its bar when it fits, else beside it in dark text (to the
-    right, or to the left at the chart's right edge), so that no name runs unreadably over the
-    bar's edge. ``names``: (start h, end h, row, name, flexible)."""
+    """Each block's target name where :func:`chart_marks.label_places` puts it: inside its bar
+    when it fits, else beside, over or under it in dark text, clear of the row's other bars and
+    labels (shortened where a row is crowded). ``names``: (start h, end h, row, name, flexible)."""
     pt_per_h = ax.get_position().width * fig.get_figwidth() * 72 / (hi - lo)
-    for xs, xe, y, name, flexible in names:
-        need_h = len(name) * chart_marks.LABEL_CHAR_PT / pt_per_h
-        if need_h <= 0.92 * (xe - xs):
-            ax.text(0.5 * (xs + xe), y, name, ha="center", va="center", fontsize=7,
-                    color="black" if flexible else "white", clip_on=True)
-        elif xe + 0.1 + need_h <= hi:
-            ax.text(xe + 0.1, y, name, ha="left", va="center", fontsize=7, color="#222222", clip_on=True)
-        else:
-            ax.text(xs - 0.1, y, name, ha="right", va="center", fontsize=7, color="#222222", clip_on=True)
+    places = chart_marks.label_places([b[:4] for b in names], lo, hi, pt_per_h)
+    for (_, _, y, _, flexible), place in zip(names, places):
+        if place is None:
+            continue
+        x, ha, text, where = place
+        dark = "black" if flexible else "white"
+        y, va, size, colour = {"inside": (y, "center", 7, dark), "beside": (y, "center", 7, "#222222"),
+                               "above": (y + 0.31, "bottom", 6.5, "#222222"),  # bars span row +- 0.3
+                               "below": (y - 0.31, "top", 6.5, "#222222")}[where]
+        ax.text(x, y, text, ha=ha, va=va, fontsize=size, color=colour, clip_on=True, gid="block_label")
 
 
 def week_figure(schedule: pd.DataFrame, nights: pd.DataFrame, tz: str | None = None, title: str | None = None,
