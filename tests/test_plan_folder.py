@@ -60,6 +60,17 @@ def test_file_parts_keep_unicode_letters_in_nfc():
     assert file_names.file_part("../..") == "target"
 
 
+def test_ascii_names_get_the_parts_of_the_unicode_categories():
+    # ASCII names take a shortcut (one regular expression); the rule is Python's unicodedata
+    # categories L, M, N plus '-', '_', '.' (Unicode Standard, ch. 4.5, General Category)
+    import unicodedata
+
+    for code in range(128):
+        c = chr(code)
+        kept = c in "-_." or unicodedata.category(c)[0] in "LMN"
+        assert file_names.file_part(f"a{c}b") == (f"a{c}b" if kept else "a_b"), repr(c)
+
+
 def test_clashing_names_get_distinct_stable_suffixes_only_when_they_clash():
     parts = file_names.unique_file_parts([*CLASHING, "Varda-7 b", "VARDA-7 B"])
     assert len({p.casefold() for p in parts.values()}) == 4  # distinct even on case-blind file systems

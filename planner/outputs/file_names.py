@@ -28,10 +28,18 @@ def _kept(char: str) -> bool:
     return char in _KEPT_PUNCTUATION or unicodedata.category(char)[0] in "LMN"
 
 
+#: The ASCII characters :func:`_kept` replaces (ASCII letters and digits are its only ASCII
+#: characters of the categories L, M and N): one regular expression does an ASCII name's work.
+_ASCII_REPLACED = re.compile(r"[^A-Za-z0-9._-]")
+
+
 def file_part(name: str) -> str:
     """``name`` made safe for a file name (see the module notes); ``"target"`` when nothing is left."""
-    text = unicodedata.normalize("NFC", str(name))
-    text = "".join(c if _kept(c) else "_" for c in text)
+    text = str(name)
+    if text.isascii():  # NFC leaves ASCII as it is
+        text = _ASCII_REPLACED.sub("_", text)
+    else:
+        text = "".join(c if _kept(c) else "_" for c in unicodedata.normalize("NFC", text))
     text = re.sub(r"_+", "_", text).strip("_.")
     encoded = text.encode("utf-8")
     if len(encoded) > MAX_PART_BYTES:

@@ -50,16 +50,30 @@ def file_part(plan, target_name: str) -> str:
     return parts[str(target_name)]
 
 
+def _event_rows(plan) -> dict:
+    """``{target_index: positions of its rows in plan.events}``, computed once per plan object and
+    kept on it (a page set takes every scheduled target's events)."""
+    rows = vars(plan).get("_event_rows")
+    if rows is None:
+        index = plan.events["target_index"].to_numpy(np.int64) if len(plan.events) else np.zeros(0, np.int64)
+        order = np.argsort(index, kind="stable")
+        ids, first = np.unique(index[order], return_index=True)
+        rows = vars(plan)["_event_rows"] = dict(zip(ids.tolist(), np.split(order, first[1:])))
+    return rows
+
+
 def page_name(plan, target_name: str) -> str:
     """File name of a target's page."""
     return f"target-{file_part(plan, target_name)}.html"
 
 
-def _local(jd_utc, tz):
-    if jd_utc is None or not np.isfinite(jd_utc):
-        return ""
-    text = clock.jd_utc_to_local_iso([jd_utc], tz)[0] if tz else clock.jd_utc_to_iso_z([jd_utc])[0]
-    return text[:16].replace("T", " ")
+def _hhmm(jd_utc, tz) -> list[str]:
+    """``HH:MM`` local (in ``tz``; UTC without one) of each UTC Julian date, in one conversion; ``""`` where NaN."""
+    jd = np.asarray(jd_utc, dtype=float)
+    if not jd.size:
+        return []
+    text = clock.jd_utc_to_local_iso(jd, tz) if tz else clock.jd_utc_to_iso_z(jd)
+    return [str(x)[11:16] for x in text]
 
 
 def _percent(fraction) -> str:
@@ -137,25 +151,28 @@ def index_html(plan, files) -> str:
         body.append('<img src="week.png" alt="the week\'s blocks, one row per night">')
     body.append('<h2 id="nights">Nights</h2>')
     rows = []
-    for _, night in plan.nights.iterrows():
+    per_night = sched["night"].astype(str).value_counts() if len(sched) else {}
+    dark_from = _hhmm(plan.nights["dark_start_jd_utc"], tz)
+    dark_to = _hhmm(plan.nights["dark_end_jd_utc"], tz)
+    for (_, night), d0, d1 in zip(plan.nights.iterrows(), dark_from, dark_to):
         lab = str(night["night"])
-        n = int((sched["night"].astype(str) == lab).sum()) if len(sched) else 0
+        n = int(per_night.get(lab, 0))
         links = [f'<a href="night-{lab}.html">sheet</a>'] if f"night-{lab}.html" in files else []
         if f"night-{lab}.txt" in files:
             links.append(f'<a href="night-{lab}.txt">text</a>')
         if f"altitude-{lab}.png" in files:
             links.append(f'<a href="altitude-{lab}.png">altitude chart</a>')
-        dark = (f"{_local(night['dark_start_jd_utc'], tz)[11:]}-{_local(night['dark_end_jd_utc'], tz)[11:]}"
-                if np.isfinite(night["dark_start_jd_utc"]) else "no astronomical darkness")
+        dark = f"{d0}-{d1}" if np.isfinite(night["dark_start_jd_utc"]) else "no astronomical darkness"
         rows.append([f'<td id="night-{e(lab)}">{e(lab)}</td>', e(dark), f'<td class="num">{n}</td>', " ".join(links)])
     body += _table(["night", "dark (local)", "blocks", "pages"], rows)
     body.append('<h2 id="blocks">Every block</h2>')
     has_covers = "covers" in sched.columns
     header = ["night", "start (local)", "end (local)", "target", "what"] + (["covers"] if has_covers else []) + ["score"]
     rows = []
-    for _, b in sched.iterrows():
-        cells = [f'<a href="#night-{e(str(b["night"]))}">{e(str(b["night"]))}</a>', e(_local(b["start_jd_utc"], tz)[11:]),
-                 e(_local(b["end_jd_utc"], tz)[11:]), f'<a href="{e(page_name(plan, b["target"]))}">{e(str(b["target"]))}</a>',
+    starts, ends = _hhmm(sched["start_jd_utc"], tz), _hhmm(sched["end_jd_utc"], tz)
+    for (_, b), b0, b1 in zip(sched.iterrows(), starts, ends):
+        cells = [f'<a href="#night-{e(str(b["night"]))}">{e(str(b["night"]))}</a>', e(b0),
+                 e(b1), f'<a href="{e(page_name(plan, b["target"]))}">{e(str(b["target"]))}</a>',
                  e(event_words(b["event"], b["label"]))]
         if has_covers:
             cells.append(e(str(b["covers"]).replace("_", " ")) if isinstance(b["covers"], str) else "")
@@ -184,7 +201,7 @@ def target_html(plan, target_index: int, files) -> str:
             f"<p>RA/Dec J2000 {e(ra_hms(t['ra_deg']))} {e(dec_dms(t['dec_deg']))}"
             + (f", mag {float(t['mag']):.1f}" if "mag" in t and np.isfinite(t["mag"]) else "")
             + (f", period {t['period_d']:.6g} d" if np.isfinite(t["period_d"]) else "") + "</p>"]
-    ev = plan.events[plan.events["target_index"].astype(int) == target_index] if len(plan.events) else plan.events
+    ev = plan.events.iloc[_event_rows(plan).get(target_index, [])]
     sched = plan.schedule[plan.schedule["target_index"].astype(int) == target_index] if len(plan.schedule) \
         else plan.schedule
     body.append('<h2 id="events">Events in these nights</h2>')
@@ -225,8 +242,8 @@ def target_html(plan, target_index: int, files) -> str:
     flex = sched[sched["kind"] == "flexible"] if len(sched) else sched
     if len(flex):
         body.append("<p>Flexible visits: " + ", ".join(
-            f'<a href="night-{e(str(b["night"]))}.html">{e(str(b["night"]))} {e(_local(b["start_jd_utc"], tz)[11:])}</a>'
-            for _, b in flex.iterrows()) + "</p>")
+            f'<a href="night-{e(str(b["night"]))}.html">{e(str(b["night"]))} {e(hhmm)}</a>'
+            for (_, b), hhmm in zip(flex.iterrows(), _hhmm(flex["start_jd_utc"], tz))) + "</p>")
     body.append('<h2 id="charts">Charts</h2>')
     rv = f"rv-{file_part(plan, name)}.png"
     if rv in files:
