@@ -255,7 +255,7 @@ def chart_jobs(plan, path) -> list[tuple]:
     """
     from . import charts
     from .target_style import plan_styles
-    from .week_page import file_part
+    from .week_page import event_rows, file_part
 
     schedule, nights, tz = plan.schedule, plan.nights, plan.site.timezone
     styles = plan_styles(schedule["target"].astype(str)) if len(schedule) else {}  # one look in every chart
@@ -281,7 +281,7 @@ def chart_jobs(plan, path) -> list[tuple]:
     for ti in sorted(set(schedule["target_index"].astype(int))) if len(schedule) else []:
         target = plan.targets.iloc[ti]
         if target["ephemeris"] == "orbit" and target["e"] > 0 and np.isfinite(target["k_ms"]):
-            ev = plan.events[plan.events["target_index"].astype(int) == ti] if len(plan.events) else plan.events
+            ev = plan.events.iloc[event_rows(plan).get(ti, [])]
             sigma = ev.groupby("event")["sigma_d"].median().to_dict() if len(ev) else {}
             jobs.append((charts.write_rv_chart, (path(f"rv-{file_part(plan, target['name'])}.png"), target,
                                                  schedule[schedule["target_index"] == ti]),

@@ -50,7 +50,7 @@ def file_part(plan, target_name: str) -> str:
     return parts[str(target_name)]
 
 
-def _event_rows(plan) -> dict:
+def event_rows(plan) -> dict:
     """``{target_index: positions of its rows in plan.events}``, computed once per plan object and
     kept on it (a page set takes every scheduled target's events)."""
     rows = vars(plan).get("_event_rows")
@@ -201,7 +201,7 @@ def target_html(plan, target_index: int, files) -> str:
             f"<p>RA/Dec J2000 {e(ra_hms(t['ra_deg']))} {e(dec_dms(t['dec_deg']))}"
             + (f", mag {float(t['mag']):.1f}" if "mag" in t and np.isfinite(t["mag"]) else "")
             + (f", period {t['period_d']:.6g} d" if np.isfinite(t["period_d"]) else "") + "</p>"]
-    ev = plan.events.iloc[_event_rows(plan).get(target_index, [])]
+    ev = plan.events.iloc[event_rows(plan).get(target_index, [])]
     sched = plan.schedule[plan.schedule["target_index"].astype(int) == target_index] if len(plan.schedule) \
         else plan.schedule
     body.append('<h2 id="events">Events in these nights</h2>')
