@@ -74,15 +74,32 @@ def _limit_reasons(targets, site, tracks, ti, w0, w1):
 
 def _keys(*tables):
     """One int64 key per row of each table (a tuple of equal-length columns, strings or integers,
-    as many in every table): equal rows get equal keys, in every table. Hashing dense codes
-    column by column keeps the keys below the number of rows, so they never overflow; a survey's
+    as many in every table): equal rows get equal keys, in every table, and unequal rows unequal
+    ones. Each column becomes small codes (an integer column its offset from its least value, any
+    other column its factorized codes, -1 for missing), and the key is their mixed-radix number,
+    made dense again (factorized) only where the next column could overflow it; a survey's
     millions of rows are matched by ``np.isin`` where a MultiIndex took seconds."""
     sizes = [len(t[0]) for t in tables]
-    key = np.zeros(sum(sizes), np.int64)
+    key, span = np.zeros(sum(sizes), np.int64), 1
     for j in range(len(tables[0])):
-        codes, uniques = pd.factorize(np.concatenate([np.asarray(t[j]) for t in tables]))
-        key = pd.factorize(key * (len(uniques) + 1) + codes + 1)[0].astype(np.int64)  # code -1: missing
+        column = np.concatenate([np.asarray(t[j]) for t in tables])
+        if column.dtype.kind in "iu" and column.size:
+            codes = column.astype(np.int64) - int(column.min())
+            n = int(codes.max()) + 1
+        else:
+            codes, uniques = pd.factorize(column)
+            n = len(uniques)
+        if span * (n + 1) >= 2**62:
+            key, span = _dense(key)
+        key = key * (n + 1) + codes + 1  # code -1 (missing) becomes 0
+        span *= n + 1
     return np.split(key, np.cumsum(sizes)[:-1])
+
+
+def _dense(key):
+    """(key, span): the keys renumbered 0..k-1 in the same classes, and k."""
+    codes, uniques = pd.factorize(key)
+    return codes.astype(np.int64), max(len(uniques), 1)
 
 
 def _rivals(starts, ends, sites, schedule, both):
