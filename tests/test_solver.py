@@ -126,6 +126,38 @@ def test_night_by_night_solution_keeps_every_rule_and_brackets_the_optimum(monke
         assert report.bound >= best - TOTAL_TOL, case
 
 
+def test_one_interval_pass_gives_every_runs_overlap_only_optimum():
+    # planner.scheduling.solver._run_bounds: one weighted interval scheduling pass per telescope
+    # gives each run's optimum (difference of the pass's totals at the run's ends); the reference
+    # is the exhaustive search of each run's options with the overlap rule alone (tests' brute_force)
+    from planner.scheduling import solver
+
+    rng = np.random.default_rng(5)
+    for case in range(60):
+        opts = random_options(rng, int(rng.integers(1, 10)))
+        opts["start_jd_utc"] += rng.integers(0, 3, len(opts))  # three "nights"
+        opts["end_jd_utc"] = opts["start_jd_utc"] + rng.uniform(0.02, 0.3, len(opts))
+        tel = opts["telescope"].to_numpy(object)
+        s, e, v = (opts[c].to_numpy(float) for c in ("start_jd_utc", "end_jd_utc", "value"))
+        run = solver._runs(tel, s, e + 0.01)
+        total, per_run = solver._run_bounds(tel, s, e + 0.01, v, run)
+        for label in np.unique(run):
+            best = brute_force(opts[run == label].reset_index(drop=True), 0.01, (), None)
+            assert per_run[label] == pytest.approx(best, abs=TOTAL_TOL), case
+        assert total == pytest.approx(brute_force(opts, 0.01, (), None), abs=TOTAL_TOL), case
+
+
+def test_time_shares_shrink_after_a_piece_runs_over(monkeypatch):
+    from planner.scheduling import solver
+
+    clock = iter([10.0, 10.0, 16.0])  # the first look at the clock: no time spent; then 6 s spent
+    monkeypatch.setattr(solver.time, "perf_counter", lambda: next(clock))
+    assert solver._share(12.0, 10.0, 50, 100, 0) == 6.0  # its share of the limit
+    assert solver._share(12.0, 10.0, 25, 100, 0) == 3.0
+    # 6 s spent with nothing solved yet: the 6 s left are shared by the remaining 100 options
+    assert solver._share(12.0, 10.0, 50, 100, 0) == 3.0
+
+
 def test_the_week_is_improved_where_night_by_night_in_time_order_falls_short(monkeypatch):
     # Night by night in time order, night 1 takes a once-a-week request (10) over a block that only
     # night 1 has (9), and night 2 is then left empty (10 in all); the week's LP-guided

@@ -213,20 +213,26 @@ def _solve_parts(value, rows, upper, telescope, start, end_padded, time_limit_s,
     the plan keeps every rule, and the sum of the runs' optima with the rows that join runs left
     out is a bound on the part, so the reported gap is a true one.
     """
+    t0 = time.perf_counter()
     part = _components(rows, telescope, start, end_padded)
     labels, sizes = np.unique(part, return_counts=True)
     chosen = np.zeros(value.size, bool)
     total = bound = 0.0
     statuses, n_rows, runs = set(), 0, []
     matrix = _row_matrix(rows, value.size)
+    done = 0
     for label, size in zip(labels, sizes):
         idx = np.flatnonzero(part == label)
         _, keep, sub_rows = _rows_of(matrix, idx)  # a part holds its rows whole
-        share = max(0.2, time_limit_s * size / value.size)
-        solve = _relaxed_runs if size > SPLIT_ABOVE else _solve
-        got, rep = solve(value[idx], sub_rows, upper[keep], telescope[idx], start[idx], end_padded[idx], share,
-                         rel_gap, relaxed_bound=lambda i=idx: _interval_bound(telescope[i], start[i], end_padded[i],
-                                                                               value[i]))[:2]
+        share = _share(time_limit_s, t0, size, value.size, done)
+        done += size
+        if size > SPLIT_ABOVE:
+            got, rep = _relaxed_runs(value[idx], sub_rows, upper[keep], telescope[idx], start[idx], end_padded[idx],
+                                     share, rel_gap)
+        else:
+            got, rep = _solve(value[idx], sub_rows, upper[keep], telescope[idx], start[idx], end_padded[idx], share,
+                              rel_gap, relaxed_bound=lambda i=idx: _interval_bound(telescope[i], start[i],
+                                                                                   end_padded[i], value[i]))[:2]
         chosen[idx] = got
         total += rep.objective
         bound += rep.bound
@@ -239,7 +245,36 @@ def _solve_parts(value, rows, upper, telescope, start, end_padded, time_limit_s,
     return chosen, SolveReport(status, total, max(bound, total), gap, 0.0, value.size, n_rows, runs)
 
 
-def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_gap, relaxed_bound=None):
+def _share(time_limit_s, t0, size, n, done):
+    """Seconds for a piece of ``size`` of ``n`` options when ``done`` of them are solved: its share
+    of the limit, less where the pieces before it (and the work since ``t0``) took more than
+    theirs, so the whole stays within the limit; at least 0.2 s."""
+    left = time_limit_s - (time.perf_counter() - t0)
+    return max(0.2, min(time_limit_s * size / n, left * size / max(n - done, 1)))
+
+
+def _run_bounds(telescope, start, end_padded, value, run):
+    """(total, per run label): the best plan of the overlap rule alone (values clipped at 0) of
+    the options, and of each run's options (:func:`_runs`), from one weighted interval scheduling
+    pass per telescope. No option crosses the moment between two runs of a telescope, so the
+    pass's best total at that moment is the sum of the runs' before it, and a run's best is the
+    difference of the totals at its two ends (equal to :func:`_interval_bound` of its options but
+    for rounding)."""
+    per_run = np.zeros(int(run.max()) + 1 if run.size else 0)
+    total = 0.0
+    for t in pd.unique(telescope):
+        m = np.flatnonzero(telescope == t)
+        ends, best = _prefix_best(start[m], end_padded[m], value[m])
+        order = np.argsort(end_padded[m], kind="stable")  # the order of ``ends``
+        r = run[m][order]
+        last = np.flatnonzero(np.r_[r[1:] != r[:-1], True])  # each run's last option in end order
+        at_end = best[last + 1]
+        per_run[r[last]] = np.diff(np.r_[0.0, at_end])
+        total += float(best[-1])
+    return total, per_run
+
+
+def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s, rel_gap):
     """(chosen, report) of a large part, run by run (night by night) in time order.
 
     Each run of blocks is solved exactly with its own rows and with the rows that join it to other
@@ -258,13 +293,16 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
     bound, statuses, n_rows, runs = 0.0, set(), 0, []
     matrix = _row_matrix(rows, value.size)
     lengths = np.diff(matrix.tocsr().indptr)
+    overlap_only, run_bound = _run_bounds(telescope, start, end_padded, value, run)
+    done = 0
     for label in sorted(first, key=first.get):
         t_run = time.perf_counter()
         idx = np.flatnonzero(run == label)
         sub, which, sub_rows = _rows_of(matrix, idx)
         joined = bool(np.any(np.diff(sub.indptr) < lengths[which]))
         room = np.maximum(upper[which] - used[which], 0.0)  # a row with no room left shuts its options
-        share = max(0.2, time_limit_s * idx.size / value.size)
+        share = _share(time_limit_s, t_part, idx.size, value.size, done)
+        done += idx.size
         got, rep, kept_run = _solve(value[idx], sub_rows, room, telescope[idx], start[idx], end_padded[idx], share,
                                     rel_gap)
         chosen[idx] = got
@@ -272,7 +310,7 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
         used[which] += sub @ got.astype(float)
         # when the part's LP below fails: the run's own bound when no row joins it to another run
         # (then the two are the same problem), else its overlap-only optimum
-        bound += _interval_bound(telescope[idx], start[idx], end_padded[idx], value[idx]) if joined else rep.bound
+        bound += run_bound[label] if joined else rep.bound
         statuses.add(rep.status)
         n_rows += rep.n_rows
         runs.append({"start_jd_utc": float(first[label]), "options": int(idx.size),
@@ -286,8 +324,7 @@ def _relaxed_runs(value, rows, upper, telescope, start, end_padded, time_limit_s
         bound = min(bound, week.bound)
         left = time_limit_s - (time.perf_counter() - t_part)
         chosen = _neighbourhoods(value, rows, upper, telescope, start, end_padded, chosen, week, left, rel_gap)
-    if relaxed_bound is not None:
-        bound = min(bound, relaxed_bound())
+    bound = min(bound, overlap_only)
     total = float(value[chosen].sum())
     bound = max(bound, total)
     gap = (bound - total) / bound if bound > 0 else 0.0
