@@ -122,7 +122,7 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
     upper: list[float] = []
     for col in exclusive:
         caps = options[capacity[col]].to_numpy(float) if capacity and col in capacity else None
-        for members in _groups(options[col]).values():
+        for members in _groups(options[col], min_size=1 if caps is not None else 2).values():
             cap = 1.0 if caps is None else float(np.nanmax(caps[members]))
             if len(members) > cap:
                 rows.append(members)
@@ -130,7 +130,7 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
     if spacing is not None:
         group_col, gap_col = spacing
         gaps = options[gap_col].to_numpy(float)
-        for members in _groups(options[group_col]).values():
+        for members in _groups(options[group_col], min_size=2).values():
             gap = np.nanmax(gaps[members])
             if len(members) > 1 and gap > 0:
                 for c in _window_cliques(start[members], gap):
@@ -150,15 +150,16 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
     return chosen, dataclasses.replace(report, seconds=time.perf_counter() - t0)
 
 
-def _groups(labels: pd.Series) -> dict:
-    """{label: its rows' positions (sorted int array)} for every non-empty label, in label order
-    (an empty label or NA is in no group)."""
+def _groups(labels: pd.Series, min_size: int = 1) -> dict:
+    """{label: its rows' positions (sorted int array)} for every non-empty label of at least
+    ``min_size`` rows, in label order (an empty label or NA is in no group)."""
     codes, uniques = pd.factorize(labels.astype("string").fillna(""), sort=True)
     names = np.asarray(uniques, dtype=object)  # an arrow string's scalar lookup costs microseconds
     order = np.argsort(codes, kind="stable")
-    cuts = np.flatnonzero(np.diff(codes[order])) + 1
-    parts = np.split(order, cuts) if order.size else []
-    return {str(names[codes[p[0]]]): p for p in parts if names[codes[p[0]]] != ""}
+    counts = np.bincount(codes, minlength=len(names))
+    first = np.cumsum(counts) - counts
+    wanted = np.flatnonzero((counts >= min_size) & (names != ""))
+    return {str(names[g]): order[first[g]:first[g] + counts[g]] for g in wanted.tolist()}
 
 
 def _runs(telescope, start, end_padded):
