@@ -158,7 +158,8 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
     _stage(timer, "schedule")
     plan.schedule, plan.candidates, plan.report = plan_week_report(
         plan.events, plan.intervals, targets, plan.nights, altitude_deg=plan.altitude_deg,
-        moon_sep_deg=plan.moon_sep_deg, options=settings.schedule, requests=plan.requests, log=log)
+        moon_sep_deg=plan.moon_sep_deg, options=settings.schedule, requests=plan.requests, log=log,
+        tz=site.timezone)
     plan.unscheduled = _losses(plan, plan.schedule)
     plan.stage_seconds = timer.done()
     return plan
@@ -224,7 +225,8 @@ def make_campaign(targets: pd.DataFrame, sites, first_night, n_nights: int,
         mine = visits[visits["site"] == plan.site.name]
         local = week.monitors.loc[mine["_row"].to_numpy()] if len(mine) else week.monitors.iloc[:0]
         plan.schedule = assemble(blocks[blocks["site"] == plan.site.name].reset_index(drop=True), local, week,
-                                 plan.nights, plan.altitude_deg, options).assign(site=plan.site.name)
+                                 plan.nights, plan.altitude_deg, options,
+                                 plan.site.timezone).assign(site=plan.site.name)
         plan.candidates, plan.report = week.everything(), report
     every = pd.concat([p.schedule for p in plans], ignore_index=True)
     for plan in plans:

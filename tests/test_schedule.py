@@ -296,6 +296,29 @@ def test_notes_partial_meridian_twilight_and_sun(targets):
     assert "no astronomical darkness" in no_dark["notes"].iloc[0]
 
 
+def test_note_times_are_local_with_utc_beside_them():
+    # A movable RV visit and a meridian crossing, 2026-12-08 05:18 and 05:55 UTC: Europe/Madrid
+    # is UTC+1 in December (IANA tz database, through Python's zoneinfo, the reference here);
+    # without a zone the notes stay in UTC
+    import datetime as dt
+    from zoneinfo import ZoneInfo
+
+    from planner.timescales.clock import datetime_to_jd_utc
+
+    utc = [dt.datetime(2026, 12, 8, 5, m, tzinfo=dt.timezone.utc) for m in (18, 55)]
+    local = [t.astimezone(ZoneInfo("Europe/Madrid")).strftime("%H:%M") for t in utc]
+    lo, hi = (datetime_to_jd_utc(t) for t in utc)
+    block = pd.Series({"kind": "fixed", "request": "rv_visit", "earliest_start_jd_utc": lo, "latest_start_jd_utc": hi,
+                       "start_jd_utc": lo - 0.05, "end_jd_utc": 2 * hi - lo + 0.05})
+    alt = np.interp(np.linspace(0, 1, 5), [0, 0.5, 1], [40.0, 60.0, 40.0])  # peaks mid-block: the meridian
+    options = schedule.ScheduleOptions()
+    notes = schedule._notes(block, alt, None, options, "Europe/Madrid")
+    assert f"may start any time from {local[0]} to {local[1]} local (05:18-05:55 UTC)" in notes
+    assert local == ["06:18", "06:55"]
+    assert "crosses the meridian near " in notes and " local (" in notes.split("meridian near ")[1]
+    assert "may start any time from 05:18 to 05:55 UTC" in schedule._notes(block, alt, None, options)
+
+
 def test_event_time_is_the_visible_tables_utc_time_carried_not_recomputed(targets):
     # The sky stage converts BJD_TDB to UTC once (its ``jd_utc`` column); the scheduler carries it.
     # BJD_TDB here is set 10 min away from jd_utc: a block whose event time followed BJD_TDB

@@ -34,7 +34,7 @@ import numpy as np
 import pandas as pd
 
 from ..sky.night import darkness_of
-from ..timescales.clock import hhmm_utc
+from ..timescales.clock import hhmm_utc, jd_utc_to_local_iso
 from .blocks import (AVAILABILITY_COLUMNS, FLEXIBLE, MIN_PER_DAY, NIGHT_COLUMNS, SCHEDULE_COLUMNS, VISIBLE_COLUMNS,
                      ScheduleOptions, night_index, require_columns)
 from .candidates import candidates_from_requests, fixed_candidates, with_altitudes
@@ -49,15 +49,30 @@ __all__ = ["AVAILABILITY_COLUMNS", "NIGHT_COLUMNS", "SCHEDULE_COLUMNS", "VISIBLE
            "fixed_candidates", "plan_week", "plan_week_report"]
 
 
-def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOptions) -> str:
-    """Plain-language notes on one block: coverage, movable visit, meridian, twilight, Sun."""
+def _clock_text(tz):
+    """``f(*jd_utc)``: the moments as ``HH:MM local (HH:MM UTC)`` in the zone ``tz`` (local
+    first, as the nightly lists give them), or as ``HH:MM UTC`` without a zone; two moments as
+    a range ``from A to B``."""
+    def text(*jd):
+        utc = [hhmm_utc(t) for t in jd]
+        if not tz:
+            return " to ".join(utc) + " UTC"
+        local = [str(s)[11:16] for s in jd_utc_to_local_iso(np.asarray(jd, float), tz)]
+        return f"{' to '.join(local)} local ({'-'.join(utc)} UTC)"
+    return text
+
+
+def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOptions, tz=None) -> str:
+    """Plain-language notes on one block: coverage, movable visit, meridian, twilight, Sun.
+    Clock times are local in the IANA zone ``tz`` with UTC beside them, or UTC without one."""
     notes = []
+    clock = _clock_text(tz)
     if block["kind"] == FLEXIBLE:
         notes.append("flexible visit: any time inside the block")
     elif block["request"] in ("rv_visit", "rv_sequence"):
         lo, hi = block["earliest_start_jd_utc"], block["latest_start_jd_utc"]
         if np.isfinite(lo) and np.isfinite(hi) and hi - lo > 1.0 / MIN_PER_DAY:
-            notes.append(f"the visit may start any time from {hhmm_utc(lo)} to {hhmm_utc(hi)} UTC")
+            notes.append(f"the visit may start any time from {clock(lo, hi)}")
     else:
         f = block["observable_fraction"]
         if np.isfinite(f) and f < 0.995:
@@ -70,7 +85,7 @@ def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOption
         k = int(np.argmax(alt))
         if 0 < k < alt.size - 1 and alt[k] > alt[0] and alt[k] > alt[-1]:
             t_k = block["start_jd_utc"] + (block["end_jd_utc"] - block["start_jd_utc"]) * k / (alt.size - 1)
-            notes.append(f"crosses the meridian near {hhmm_utc(t_k)} UTC (mount flip?)")
+            notes.append(f"crosses the meridian near {clock(t_k)} (mount flip?)")
     if night_row is not None:
         margin = options.twilight_margin_min / MIN_PER_DAY
         d0, d1 = night_row["dark_start_jd_utc"], night_row["dark_end_jd_utc"]
@@ -122,10 +137,12 @@ def plan_week(visible: pd.DataFrame, availability: pd.DataFrame | None, targets:
 
 
 def plan_week_report(visible, availability, targets, nights, altitude_deg=None, moon_sep_deg=None,
-                     options: ScheduleOptions = ScheduleOptions(), requests=None, intervals=None, log=None):
+                     options: ScheduleOptions = ScheduleOptions(), requests=None, intervals=None, log=None,
+                     tz=None):
     """(schedule, candidates, report): :func:`plan_week`'s table, every candidate block it
     chose from (requests and monitor visits, each with its ``night``) and the solver's
     :class:`~planner.scheduling.solver.SolveReport` (optimal, or the gap to the bound).
+    ``tz``: the site's IANA zone, for the clock times of the blocks' notes (local, UTC beside).
 
     ``log``, an observation log (:func:`planner.inputs.observation_log.read_log`), changes the
     requests as :mod:`planner.scheduling.log_requests` says (done events drop out, monitor gaps
@@ -135,7 +152,7 @@ def plan_week_report(visible, availability, targets, nights, altitude_deg=None, 
     order = list(nights["night"].astype(str))
     blocks, visits, report = choose_blocks(week.cands, week.monitors, targets, order, options.overhead_min / MIN_PER_DAY,
                                            options.repeats, options.time_limit_s_per_night * max(len(order), 1))
-    schedule = assemble(blocks, visits, week, nights, altitude_deg, options)
+    schedule = assemble(blocks, visits, week, nights, altitude_deg, options, tz)
     logger.info("scheduled %d blocks (%d request candidates, %d monitor candidates) over %d nights: %s",
                 len(schedule), len(week.cands), len(week.monitors), len(order), report.describe())
     return schedule, week.everything(), report
@@ -185,15 +202,16 @@ def week_candidates(visible, availability, targets, nights, altitude_deg=None, m
     return WeekCandidates(cands, monitors.reset_index(drop=True), alt_mon)
 
 
-def assemble(blocks, visits, week: WeekCandidates, nights, altitude_deg, options) -> pd.DataFrame:
-    """The schedule table of the chosen blocks and monitor visits of one site: altitudes, notes, order."""
+def assemble(blocks, visits, week: WeekCandidates, nights, altitude_deg, options, tz=None) -> pd.DataFrame:
+    """The schedule table of the chosen blocks and monitor visits of one site: altitudes, notes
+    (clock times local in the site's zone ``tz``, UTC beside them), order."""
     order = list(nights["night"].astype(str))
     chosen, alt_fixed = with_altitudes(blocks, altitude_deg)
     alts = list(alt_fixed) + list(week.alt_monitors[visits.index.to_numpy()])
     chosen = pd.concat([chosen, visits[list(SCHEDULE_COLUMNS)]], ignore_index=True) if len(visits) else chosen
     night_rows = {str(r["night"]): r for _, r in nights.iterrows()}
     chosen["notes"] = [
-        _notes(b, np.asarray(a, float), night_rows.get(str(b["night"])), options)
+        _notes(b, np.asarray(a, float), night_rows.get(str(b["night"])), options, tz)
         for (_, b), a in zip(chosen.iterrows(), alts)
     ] if len(chosen) else []
     rank = {lab: i for i, lab in enumerate(order)}
