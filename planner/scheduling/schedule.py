@@ -85,7 +85,7 @@ def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOption
         k = int(np.argmax(alt))
         if 0 < k < alt.size - 1 and alt[k] > alt[0] and alt[k] > alt[-1]:
             t_k = block["start_jd_utc"] + (block["end_jd_utc"] - block["start_jd_utc"]) * k / (alt.size - 1)
-            notes.append(f"crosses the meridian near {clock(t_k)} (mount flip?)")
+            notes.append(f"crosses the meridian near {clock(t_k)}: mount flip?")
     if night_row is not None:
         margin = options.twilight_margin_min / MIN_PER_DAY
         d0, d1 = night_row["dark_start_jd_utc"], night_row["dark_end_jd_utc"]
