@@ -120,7 +120,7 @@ def label_places(bars, lo_h, hi_h, pt_per_h) -> list:
             beside = lanes["beside"]
             room_r = min([s for s, _ in beside if s >= xe] + [hi_h]) - xe - 2 * LABEL_GAP_H
             room_l = xs - max([e for _, e in beside if e <= xs] + [lo_h]) - 2 * LABEL_GAP_H
-            text = name[:int(max(room_r, room_l) * pt_per_h / LABEL_CHAR_PT) - 1] + "\u2026"
+            text = name[:max(int(max(room_r, room_l) * pt_per_h / LABEL_CHAR_PT) - 1, 0)] + "\u2026"
             if len(text) >= MIN_LABEL_CHARS:
                 tries.append(("beside", xe + LABEL_GAP_H, "left") if room_r >= room_l
                              else ("beside", xs - LABEL_GAP_H - width(text), "right"))

@@ -75,18 +75,20 @@ def _limit_reasons(targets, site, tracks, ti, w0, w1):
 def _keys(*tables):
     """One int64 key per row of each table (a tuple of equal-length columns, strings or integers,
     as many in every table): equal rows get equal keys, in every table, and unequal rows unequal
-    ones. Each column becomes small codes (an integer column its offset from its least value, any
-    other column its factorized codes, -1 for missing), and the key is their mixed-radix number,
-    made dense again (factorized) only where the next column could overflow it; a survey's
-    millions of rows are matched by ``np.isin`` where a MultiIndex took seconds."""
+    ones. Each column becomes small codes (an integer column of a range narrower than its length
+    its offset from its least value, any other column its factorized codes, -1 for missing), and
+    the key is their mixed-radix number, made dense again (factorized) only where the next column
+    could overflow it; a survey's millions of rows are matched by ``np.isin`` where a MultiIndex
+    took seconds."""
     sizes = [len(t[0]) for t in tables]
     key, span = np.zeros(sum(sizes), np.int64), 1
     for j in range(len(tables[0])):
         column = np.concatenate([np.asarray(t[j]) for t in tables])
-        if column.dtype.kind in "iu" and column.size:
+        dense = column.dtype.kind in "iu" and column.size and int(column.max()) - int(column.min()) < column.size
+        if dense:  # integers of a narrow range (target indices, minutes of a week): their offsets
             codes = column.astype(np.int64) - int(column.min())
             n = int(codes.max()) + 1
-        else:
+        else:  # at most one code per row, so a renumbered key times n never overflows
             codes, uniques = pd.factorize(column)
             n = len(uniques)
         if span * (n + 1) >= 2**62:
