@@ -192,7 +192,18 @@ def test_rv_chart_curve_matches_radvel_and_marks_events_and_blocks(tmp_path):
     t_mid = tp + ph * p
     assert abs(v - (radvel_kepler.rv_drive(np.array([t_mid]), np.array([p, tp, e, w, k]))[0] + gamma)) <= rv_tol_ms
     (wpx, hpx), size = png_size(charts.write_rv_chart(tmp_path / "rv.png", target, blocks))
-    assert (wpx, hpx) == (int(8.0 * charts.DPI), int(4.2 * charts.DPI)) and size > 10_000
+    assert (wpx, hpx) == (int(9.8 * charts.DPI), int(4.2 * charts.DPI)) and size > 10_000
+    # the legend sits right of the axes and each night's label left of its block's marker, so
+    # neither hides a mark (boxes as matplotlib's renderer measures them)
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    legend = ax.get_legend().get_window_extent(renderer)
+    assert legend.x0 >= ax.get_window_extent(renderer).x1 and legend.x1 <= fig.bbox.x1
+    marker_x = dot.get_window_extent(renderer).x0  # the marker's left edge
+    labels = [t for t in ax.texts if t.get_gid() == "night_label"]
+    assert len(labels) == len(blocks)
+    for label in labels:
+        assert label.get_window_extent(renderer).x1 <= marker_x
 
 
 def test_rv_chart_needs_an_orbit():

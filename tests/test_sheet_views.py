@@ -132,12 +132,20 @@ def test_a_long_list_of_losses_keeps_the_highest_priority_rows_on_the_page(week,
 
 def test_each_scheduled_target_has_a_page_with_its_events(week):
     plan, out = week
+    crossing = 0
     for ti in sorted(set(plan.schedule["target_index"])):
         name = plan.targets["name"].iloc[ti]
         page = html.unescape((out / week_page.page_name(plan, name)).read_text())
         n_events = int((plan.events["target_index"] == ti).sum())
         assert page.count("</tr>") - 1 == n_events or (n_events == 0 and "No event of this target" in page)
         assert 'href="index.html"' in page
+        # a block on another night than its event's row (an RV window reaching into the next
+        # night) names that night; one on the row's night gives its times only
+        for row_night, link_night, text in re.findall(
+                r'<tr><td>([0-9-]+)</td>.*?<a href="night-([0-9-]+)\.html">block ([^<]*)</a>', page):
+            assert text.startswith(f"night of {link_night}, ") == (link_night != row_night), (name, text)
+            crossing += link_night != row_night
+    assert crossing  # the demo week has such blocks (Lantisca-4's RV windows)
 
 
 def test_an_index_html_alone_counts_as_a_plan(tmp_path):

@@ -317,7 +317,7 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, style
     phase = np.linspace(0.0, 1.0, n_phase)
     scale = 1000.0 if known_k and abs(k) >= KMS_FROM_K_MS else 1.0
     rv = geometry.radial_velocity(tp + phase * p, tp, p, e, w, k if known_k else 1.0, gamma) / scale
-    fig = _figure(8.0, 4.2, margins_in=(0.85, 0.2, 0.35, 0.55))
+    fig = _figure(9.8, 4.2, margins_in=(0.85, 2.0, 0.35, 0.55))  # the legend in the right margin
     ax = fig.add_subplot()
     style = (styles or {}).get(str(target["name"])) or target_style.style_for_index(0)
     ax.plot(phase, rv, lw=1.6, label="RV of the primary", gid="curve", **style.line_kwargs())
@@ -354,7 +354,8 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, style
             ax.plot([mid_ph], [mid_rv], marker=style.marker, color="#d08c00", markeredgecolor="black", ls="none",
                     markersize=7, gid="planned", label="planned (block middle)" if j == 0 else None)
             ax.annotate(str(b["night"]), (p0, 0.02), xycoords=("data", "axes fraction"), fontsize=7,
-                        rotation=90, va="bottom")
+                        xytext=(-5, 0), textcoords="offset points", rotation=90, va="bottom", ha="right",
+                        gid="night_label")  # left of the span: the marker sits in its middle
     if logged_jd_utc is not None and len(logged_jd_utc):
         ra, dec = float(target["ra_deg"]), float(target["dec_deg"])
         t_log = to_bjd_tdb(np.asarray(logged_jd_utc, float), "JD_UTC", ra, dec)
@@ -366,7 +367,7 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, style
     unit = "km/s" if scale == 1000.0 else "m/s"
     ax.set_ylabel(f"radial velocity ({unit})" if known_k else "radial velocity / K (K not in catalogue)")
     if len(blocks) or (logged_jd_utc is not None and len(logged_jd_utc)):
-        ax.legend(loc="lower right", fontsize=7, frameon=False)
+        ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=7, frameon=False)  # clear of the marks
     ax.grid(alpha=0.3, lw=0.5)
     ax.set_title(f"{target['name']}: RV over one orbit (P = {p:.4g} d, e = {e:.3g}); shaded = planned blocks",
                  fontsize=10)

@@ -230,7 +230,10 @@ def target_html(plan, target_index: int, files) -> str:
         mine = np.flatnonzero(own | also | ((s_event == event) & (s0 <= w1) & (s1 >= w0)))
         if mine.size:
             k = mine[0]
-            block = f'<a href="night-{e(s_night[k])}.html">block {e(s_start[k][11:16])}-{e(s_end[k][11:16])}</a>'
+            span = f"{s_start[k][11:16]}-{s_end[k][11:16]}"
+            if s_night[k] != night:  # an RV window reaching into another night
+                span = f"night of {s_night[k]}, {span}"
+            block = f'<a href="night-{e(s_night[k])}.html">block {e(span)}</a>'
         else:
             block = "not scheduled"
         sig = sig_d * MIN_PER_DAY
