@@ -45,11 +45,6 @@ def hour_angle_text(ha_h: float) -> str:
     return f"{'-' if ha_h < 0 and minutes else '+'}{minutes // 60}:{minutes % 60:02d}"
 
 
-def _hhmm(jd_utc, tz=None):
-    text = clock.jd_utc_to_local_iso([jd_utc], tz)[0] if tz else clock.jd_utc_to_iso_z([jd_utc])[0]
-    return text[11:16]
-
-
 def _finite(b, col) -> bool:
     v = b.get(col, np.nan) if hasattr(b, "get") else np.nan
     try:
@@ -74,7 +69,7 @@ def pointing_items(b, tz: str | None = None) -> list[tuple[str, str]]:
         m = float(b["meridian_jd_utc"])
         where = ("during the block" if b["start_jd_utc"] <= m <= b["end_jd_utc"]
                  else "before the block" if m < b["start_jd_utc"] else "after the block")
-        when = f"{_hhmm(m, tz)} local ({_hhmm(m)} UTC)" if tz else f"{_hhmm(m)} UTC"
+        when = clock.local_and_utc(m, tz=tz)
         items.append(("meridian", f"{when}, {where}"))
     return items
 

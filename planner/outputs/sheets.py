@@ -75,8 +75,7 @@ def _clock(jd_utc, tz=None) -> str:
 @functools.lru_cache(maxsize=4096)
 def _clock_text(jd_utc: float, tz) -> str:
     """``HH:MM`` of a finite Julian date (UTC); cached, as a sheet shows each time in two files."""
-    text = clock.jd_utc_to_local_iso([jd_utc], tz)[0] if tz else clock.jd_utc_to_iso_z([jd_utc])[0]
-    return text[11:16]
+    return clock.hhmm(jd_utc, tz)[0]
 
 
 def _day(jd_utc, tz=None) -> str:

@@ -67,15 +67,6 @@ def page_name(plan, target_name: str) -> str:
     return f"target-{file_part(plan, target_name)}.html"
 
 
-def _hhmm(jd_utc, tz) -> list[str]:
-    """``HH:MM`` local (in ``tz``; UTC without one) of each UTC Julian date, in one conversion; ``""`` where NaN."""
-    jd = np.asarray(jd_utc, dtype=float)
-    if not jd.size:
-        return []
-    text = clock.jd_utc_to_local_iso(jd, tz) if tz else clock.jd_utc_to_iso_z(jd)
-    return [str(x)[11:16] for x in text]
-
-
 def _percent(fraction) -> str:
     """A fraction as a whole percentage; a small non-zero one as ``<1%`` (never a false 0%)."""
     return "<1%" if 0 < fraction < 0.005 else f"{100 * fraction:.0f}%"
@@ -152,8 +143,8 @@ def index_html(plan, files) -> str:
     body.append('<h2 id="nights">Nights</h2>')
     rows = []
     per_night = sched["night"].astype(str).value_counts() if len(sched) else {}
-    dark_from = _hhmm(plan.nights["dark_start_jd_utc"], tz)
-    dark_to = _hhmm(plan.nights["dark_end_jd_utc"], tz)
+    dark_from = clock.hhmm(plan.nights["dark_start_jd_utc"], tz)
+    dark_to = clock.hhmm(plan.nights["dark_end_jd_utc"], tz)
     for (_, night), d0, d1 in zip(plan.nights.iterrows(), dark_from, dark_to):
         lab = str(night["night"])
         n = int(per_night.get(lab, 0))
@@ -169,7 +160,7 @@ def index_html(plan, files) -> str:
     has_covers = "covers" in sched.columns
     header = ["night", "start (local)", "end (local)", "target", "what"] + (["covers"] if has_covers else []) + ["score"]
     rows = []
-    starts, ends = _hhmm(sched["start_jd_utc"], tz), _hhmm(sched["end_jd_utc"], tz)
+    starts, ends = clock.hhmm(sched["start_jd_utc"], tz), clock.hhmm(sched["end_jd_utc"], tz)
     for (_, b), b0, b1 in zip(sched.iterrows(), starts, ends):
         cells = [f'<a href="#night-{e(str(b["night"]))}">{e(str(b["night"]))}</a>', e(b0),
                  e(b1), f'<a href="{e(page_name(plan, b["target"]))}">{e(str(b["target"]))}</a>',
@@ -246,7 +237,7 @@ def target_html(plan, target_index: int, files) -> str:
     if len(flex):
         body.append("<p>Flexible visits: " + ", ".join(
             f'<a href="night-{e(str(b["night"]))}.html">{e(str(b["night"]))} {e(hhmm)}</a>'
-            for (_, b), hhmm in zip(flex.iterrows(), _hhmm(flex["start_jd_utc"], tz))) + "</p>")
+            for (_, b), hhmm in zip(flex.iterrows(), clock.hhmm(flex["start_jd_utc"], tz))) + "</p>")
     body.append('<h2 id="charts">Charts</h2>')
     rv = f"rv-{file_part(plan, name)}.png"
     if rv in files:

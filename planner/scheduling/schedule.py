@@ -34,7 +34,7 @@ import numpy as np
 import pandas as pd
 
 from ..sky.night import darkness_of
-from ..timescales.clock import hhmm_utc, jd_utc_to_local_iso
+from ..timescales.clock import local_and_utc
 from .blocks import (AVAILABILITY_COLUMNS, FLEXIBLE, MIN_PER_DAY, NIGHT_COLUMNS, SCHEDULE_COLUMNS, VISIBLE_COLUMNS,
                      ScheduleOptions, night_index, require_columns)
 from .candidates import candidates_from_requests, fixed_candidates, with_altitudes
@@ -49,30 +49,16 @@ __all__ = ["AVAILABILITY_COLUMNS", "NIGHT_COLUMNS", "SCHEDULE_COLUMNS", "VISIBLE
            "fixed_candidates", "plan_week", "plan_week_report"]
 
 
-def _clock_text(tz):
-    """``f(*jd_utc)``: the moments as ``HH:MM local (HH:MM UTC)`` in the zone ``tz`` (local
-    first, as the nightly lists give them), or as ``HH:MM UTC`` without a zone; two moments as
-    a range ``from A to B``."""
-    def text(*jd):
-        utc = [hhmm_utc(t) for t in jd]
-        if not tz:
-            return " to ".join(utc) + " UTC"
-        local = [str(s)[11:16] for s in jd_utc_to_local_iso(np.asarray(jd, float), tz)]
-        return f"{' to '.join(local)} local ({'-'.join(utc)} UTC)"
-    return text
-
-
 def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOptions, tz=None) -> str:
     """Plain-language notes on one block: coverage, movable visit, meridian, twilight, Sun.
     Clock times are local in the IANA zone ``tz`` with UTC beside them, or UTC without one."""
     notes = []
-    clock = _clock_text(tz)
     if block["kind"] == FLEXIBLE:
         notes.append("flexible visit: any time inside the block")
     elif block["request"] in ("rv_visit", "rv_sequence"):
         lo, hi = block["earliest_start_jd_utc"], block["latest_start_jd_utc"]
         if np.isfinite(lo) and np.isfinite(hi) and hi - lo > 1.0 / MIN_PER_DAY:
-            notes.append(f"the visit may start any time from {clock(lo, hi)}")
+            notes.append(f"the visit may start any time from {local_and_utc(lo, hi, tz=tz)}")
     else:
         f = block["observable_fraction"]
         if np.isfinite(f) and f < 0.995:
@@ -85,7 +71,7 @@ def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOption
         k = int(np.argmax(alt))
         if 0 < k < alt.size - 1 and alt[k] > alt[0] and alt[k] > alt[-1]:
             t_k = block["start_jd_utc"] + (block["end_jd_utc"] - block["start_jd_utc"]) * k / (alt.size - 1)
-            notes.append(f"crosses the meridian near {clock(t_k)}: mount flip?")
+            notes.append(f"crosses the meridian near {local_and_utc(t_k, tz=tz)}: a mount flip may be needed")
     if night_row is not None:
         margin = options.twilight_margin_min / MIN_PER_DAY
         d0, d1 = night_row["dark_start_jd_utc"], night_row["dark_end_jd_utc"]

@@ -153,9 +153,23 @@ def _jd_strings(jd_utc, tz):
     return out
 
 
-def hhmm_utc(jd_utc: float) -> str:
-    """``HH:MM`` (UTC, rounded to the second first) of a UTC Julian date."""
-    return str(jd_utc_to_iso_z([jd_utc])[0])[11:16]
+def hhmm(jd_utc, tz=None) -> list[str]:
+    """``HH:MM`` of each UTC Julian date on the clock of the IANA zone ``tz`` (UTC without one),
+    rounded to the second first, in one conversion; ``""`` where NaN."""
+    jd = np.atleast_1d(np.asarray(jd_utc, dtype=float))
+    if not jd.size:
+        return []
+    text = jd_utc_to_local_iso(jd, tz) if tz else jd_utc_to_iso_z(jd)
+    return [str(x)[11:16] for x in text]
+
+
+def local_and_utc(*jd_utc, tz=None) -> str:
+    """The moments as the sheets give them: ``HH:MM local (HH:MM UTC)`` in the zone ``tz``, or
+    ``HH:MM UTC`` without one; several moments as a range (``06:28 to 06:55 local (05:28-05:55 UTC)``)."""
+    utc = hhmm(jd_utc)
+    if not tz:
+        return " to ".join(utc) + " UTC"
+    return f"{' to '.join(hhmm(jd_utc, tz))} local ({'-'.join(utc)} UTC)"
 
 
 def _utc_seconds(t_utc) -> np.ndarray:
