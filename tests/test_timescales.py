@@ -268,6 +268,22 @@ def test_local_strings_equal_python_zoneinfo(tz):
         dt.datetime.fromtimestamp(int(u), tz=dt.timezone.utc).strftime("%Y-%m-%dT%H:%M:%SZ") for u in unix]
 
 
+def test_clock_times_of_the_sheets_equal_python_zoneinfo():
+    # HH:MM in a zone (Asia/Kolkata, UTC+5:30, from the tz database through zoneinfo) and in UTC,
+    # "" for NaN; two moments as a range, local first with UTC beside
+    import datetime as dt
+    from zoneinfo import ZoneInfo
+
+    moments = [dt.datetime(2026, 12, 7, 18, 44, 59, tzinfo=dt.timezone.utc),
+               dt.datetime(2026, 12, 7, 23, 59, 0, tzinfo=dt.timezone.utc)]
+    jd = [clock.datetime_to_jd_utc(m) for m in moments]
+    local = [m.astimezone(ZoneInfo("Asia/Kolkata")).strftime("%H:%M") for m in moments]
+    assert clock.hhmm(jd + [np.nan], "Asia/Kolkata") == local + [""] == ["00:14", "05:29", ""]
+    assert clock.hhmm(jd) == ["18:44", "23:59"]
+    assert clock.local_and_utc(*jd, tz="Asia/Kolkata") == "00:14 to 05:29 local (18:44-23:59 UTC)"
+    assert clock.local_and_utc(jd[0]) == "18:44 UTC"
+
+
 @pytest.mark.parametrize("call, message", [
     (lambda: clock.zone("Mars/Olympus"), "unknown time zone 'Mars/Olympus'; expected an IANA name"),
     (lambda: clock.calendar_date("2026-13-01"), "'2026-13-01' is not a date; expected YYYY-MM-DD"),
