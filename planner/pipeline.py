@@ -285,5 +285,5 @@ def _prepare(targets, site, first_night, n_nights, settings, progress) -> Plan:
                 tracks=tracks, settings=settings)
     _stage(progress, "requests")
     plan.requests = build_requests(visible, targets, intervals, plan.altitude_deg, request_settings,
-                                   settings.schedule.weights)
+                                   settings.schedule.weights, moon_sep_deg=plan.moon_sep_deg, nights=nights)
     return plan

@@ -153,3 +153,38 @@ def test_weights_are_validated():
         score.ScoreWeights(airmass_zero=1.0)
     with pytest.raises(PeriplanError, match="moon_clear_deg"):
         score.ScoreWeights(moon_clear_deg=0.0)
+
+
+def test_rv_visits_are_scored_with_the_moon_at_their_block():
+    # An RV visit may lie hours or days from its event (an RV window, a periastron swing): its
+    # Moon term takes the Moon-target separation at the block's middle and the illuminated
+    # fraction of the block's night. Reference: astropy's get_body("moon") at the block's middle,
+    # separation in the Moon's topocentric GCRS frame (as astroplan's MoonSeparationConstraint);
+    # the input is the bundled demo week, whose RV windows reach into other nights.
+    import datetime as dt
+
+    import astropy.units as u
+    from astropy.coordinates import EarthLocation, SkyCoord, get_body
+    from astropy.time import Time
+
+    import planner
+    from conftest import REPO, SAMPLE_TARGETS
+    from planner.scheduling.blocks import night_index
+
+    targets = planner.read_catalogue(SAMPLE_TARGETS)
+    site = planner.read_site(REPO / "sample_targets" / "site.toml")
+    plan = planner.make_plan(targets, site, dt.date(2026, 12, 7), 3)
+    # a merged visit (two requests in one block) is scored as the sum of its requests' own blocks
+    req = plan.requests[plan.requests["request"].isin(["rv_visit", "rv_sequence"]) & (plan.requests["merged_with"] < 0)]
+    mid = 0.5 * (req["start_jd_utc"].to_numpy(float) + req["end_jd_utc"].to_numpy(float))
+    block_night = plan.nights["night"].astype(str).to_numpy()[night_index(mid, plan.nights)]
+    assert (block_night != req["night"].astype(str).to_numpy()).any()  # some lie on another night than their event
+    ti = req["target_index"].to_numpy(int)
+    loc = EarthLocation.from_geodetic(site.longitude_deg * u.deg, site.latitude_deg * u.deg, site.elevation_m * u.m)
+    moon = get_body("moon", Time(mid, format="jd", scale="utc"), location=loc)
+    star = SkyCoord(targets["ra_deg"].to_numpy(float)[ti] * u.deg, targets["dec_deg"].to_numpy(float)[ti] * u.deg)
+    ref = moon.separation(star.transform_to(moon.frame)).deg
+    # 1.5 arcsec: the Sun/Moon tracks' agreement with astropy (tests/test_visibility.py)
+    assert np.max(np.abs(req["moon_sep_deg"].to_numpy(float) - ref)) < 1.5 / 3600.0
+    lit = dict(zip(plan.nights["night"].astype(str), plan.nights["moon_illumination"].to_numpy(float)))
+    assert np.array_equal(req["moon_illumination"].to_numpy(float), [lit[n] for n in block_night])

@@ -70,7 +70,7 @@ import pandas as pd
 from ..orbits import contacts as orbit_contacts
 from ..sky.windows import DEFAULT_BASELINE_H, DEFAULT_EVENT_LENGTH_H, DEFAULT_K_SIGMA, window_stretches
 from . import series_parts
-from .blocks import MIN_PER_DAY
+from .blocks import MIN_PER_DAY, night_index
 from .phase_requests import PHASE_EVENT_PREFIX, is_wanted_phase
 from .request_merge import merge_requests
 from .score import score_components
@@ -294,13 +294,18 @@ def _sequence_slots(rows: pd.DataFrame, targets) -> pd.DataFrame:
 
 
 def build_requests(visible: pd.DataFrame, targets: pd.DataFrame, intervals: pd.DataFrame | None,
-                   altitude_deg=None, settings: RequestSettings = RequestSettings(), weights=None) -> pd.DataFrame:
+                   altitude_deg=None, settings: RequestSettings = RequestSettings(), weights=None,
+                   moon_sep_deg=None, nights: pd.DataFrame | None = None) -> pd.DataFrame:
     """The request table (:data:`REQUEST_COLUMNS` and the score columns; module docstring).
 
     ``visible``: event visibility table; ``intervals``: observable intervals (every stretch of
     every window becomes a candidate); without them the visible table's one observable stretch
     is used. ``altitude_deg(target_index, jd_utc)`` places movable visits at the lowest airmass.
-    Monitor requests are not rows of this table: :func:`monitor_requests` gives them.
+    ``moon_sep_deg(target_index, jd_utc)`` and the night table (``night``, ``moon_illumination``),
+    when given, score each RV visit with the Moon at its block's middle and the illuminated
+    fraction of the night holding it (an RV window reaches hours or days from its event);
+    otherwise, and for series, the Moon is the visible table's, at the event. Monitor requests
+    are not rows of this table: :func:`monitor_requests` gives them.
     """
     from .score import DEFAULT_WEIGHTS
 
@@ -339,6 +344,8 @@ def build_requests(visible: pd.DataFrame, targets: pd.DataFrame, intervals: pd.D
     cands["group"] = cands["request_id"]
     cands["priority"] = targets["priority"].to_numpy(float)[cands["target_index"].to_numpy(int)]
     cands["period_d"] = targets["period_d"].to_numpy(float)[cands["target_index"].to_numpy(int)]
+    if moon_sep_deg is not None and nights is not None:
+        cands = _moon_at_blocks(cands, moon_sep_deg, nights)
     cands = _score(cands, altitude_deg, weights)
     order = ["stretch_start_jd_utc", "stretch_end_jd_utc", "target_index", "event", "request_id"]
     cands = merge_requests(cands.sort_values(order, kind="stable"))
@@ -416,6 +423,22 @@ def _movable_visits(c, altitude_deg):
     c["start_jd_utc"] = start
     c["end_jd_utc"] = np.where(mov, start + length, c["end_jd_utc"].to_numpy(float))
     return c
+
+
+def _moon_at_blocks(c, moon_sep_deg, nights):
+    """The candidates with each RV visit's Moon separation at its block's middle and the Moon's
+    illuminated fraction of its block's night (the visible table gives them at the event)."""
+    rv = np.flatnonzero(c["request"].isin((RV_VISIT, RV_SEQUENCE)).to_numpy())
+    if not rv.size:
+        return c
+    ti = c["target_index"].to_numpy(int)[rv]
+    mid = 0.5 * (c["start_jd_utc"].to_numpy(float)[rv] + c["end_jd_utc"].to_numpy(float)[rv])
+    row = night_index(mid, nights)  # the block's night (a request's ``night`` is its event's)
+    sep = c["moon_sep_deg"].to_numpy(float).copy()
+    illumination = c["moon_illumination"].to_numpy(float).copy()
+    sep[rv] = np.asarray(moon_sep_deg(ti, mid), float)
+    illumination[rv] = np.where(row >= 0, nights["moon_illumination"].to_numpy(float)[np.maximum(row, 0)], np.nan)
+    return c.assign(moon_sep_deg=sep, moon_illumination=illumination)
 
 
 def _score(c, altitude_deg, weights):

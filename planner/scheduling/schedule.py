@@ -169,7 +169,8 @@ def week_candidates(visible, availability, targets, nights, altitude_deg=None, m
         require_columns(availability, AVAILABILITY_COLUMNS, "flexible availability")
     if requests is None:
         requests = build_requests(visible, targets, intervals, altitude_deg,
-                                  RequestSettings(min_block_min=options.min_block_min), options.weights)
+                                  RequestSettings(min_block_min=options.min_block_min), options.weights,
+                                  moon_sep_deg=moon_sep_deg, nights=nights)
     order = list(nights["night"].astype(str))
     cands = candidates_from_requests(requests)
     # a long window (large timing uncertainty) can have its observable stretch on a night other
