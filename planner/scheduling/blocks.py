@@ -113,6 +113,22 @@ def altitudes(altitude_deg, target_index, times):
     return alt
 
 
+def moon_at_blocks(moon_sep_deg, nights: pd.DataFrame, target_index, start, end, night=None):
+    """(separation deg, illuminated fraction) of the Moon for each block: the Moon-target
+    separation at the block's middle from the caller's ``moon_sep_deg(target_index, jd_utc)``
+    (NaN without one), and the ``moon_illumination`` of the block's night in ``nights``, the
+    night labelled ``night`` or, without labels, the night holding the block's middle (NaN for
+    a block in no night)."""
+    ti = np.asarray(target_index, dtype=int)
+    mid = 0.5 * (np.asarray(start, float) + np.asarray(end, float))
+    sep = np.asarray(moon_sep_deg(ti, mid), float) if moon_sep_deg is not None else np.full(ti.size, np.nan)
+    lit = nights["moon_illumination"].to_numpy(float)
+    if night is not None:
+        return sep, pd.Series(lit, index=nights["night"].astype(str)).reindex(np.asarray(night, object)).to_numpy(float)
+    row = night_index(mid, nights)
+    return sep, np.where(row >= 0, lit[np.maximum(row, 0)], np.nan)
+
+
 def night_index(jd_utc, nights: pd.DataFrame) -> np.ndarray:
     """Row of ``nights`` (int array, -1 when none) whose night holds each UTC Julian date.
 

@@ -34,7 +34,7 @@ import pandas as pd
 from ..orbits import coverage
 from .phase_requests import is_wanted_phase
 from .coverage import parts_covered, reference_epoch
-from .blocks import SCHEDULE_COLUMNS, instance_keys, altitudes, mean_airmass, sample_times
+from .blocks import SCHEDULE_COLUMNS, instance_keys, altitudes, mean_airmass, moon_at_blocks, sample_times
 from .requests import PLACEMENT_SAMPLES
 from .score import airmass_from_alt, score_components
 
@@ -207,10 +207,8 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
     end = start + length
     alt = altitudes(altitude_deg, ti, sample_times(start, end))
     x = mean_airmass(airmass_from_alt(alt))
-    sep = np.asarray(moon_sep_deg(ti, 0.5 * (start + end)), float) if moon_sep_deg is not None else np.full(ti.size, np.nan)
-    lit = pd.Series(nights["moon_illumination"].to_numpy(float), index=nights["night"].astype(str))
     night = np.array([r[1] for r in rows], dtype=object)
-    illum = lit.reindex(night).to_numpy(float)
+    sep, illum = moon_at_blocks(moon_sep_deg, nights, ti, start, end, night)
     nan = np.full(ti.size, np.nan)
     # no rarity factor: a phase bin comes back every orbit, and the events of the orbit (rare
     # ones among them) must keep their precedence over the coverage visits

@@ -14,7 +14,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .blocks import FLEXIBLE, MIN_PER_DAY, SCHEDULE_COLUMNS, altitudes, mean_airmass, sample_times
+from .blocks import FLEXIBLE, MIN_PER_DAY, SCHEDULE_COLUMNS, altitudes, mean_airmass, moon_at_blocks, sample_times
 from .score import airmass_from_alt, score_components
 
 #: Most starts tried for one monitor visit in one observable stretch (odd: the middle is one).
@@ -54,10 +54,7 @@ def monitor_candidates(monitors: pd.DataFrame, targets: pd.DataFrame, nights: pd
     end = start + visit_d
     alt = altitudes(altitude_deg, ti, sample_times(start, end))
     x = mean_airmass(airmass_from_alt(alt))
-    sep = (np.asarray(moon_sep_deg(ti, 0.5 * (start + end)), float) if moon_sep_deg is not None
-           else np.full(ti.size, np.nan))
-    lit = pd.Series(nights["moon_illumination"].to_numpy(float), index=nights["night"].astype(str))
-    illumination = lit.reindex(night).to_numpy(float)
+    sep, illumination = moon_at_blocks(moon_sep_deg, nights, ti, start, end, night)
     priority = targets["priority"].to_numpy(float)[ti]
     nan = np.full(ti.size, np.nan)
     scores = score_components(priority, nan, nan, x, sep, illumination, nan, nan, options.weights)

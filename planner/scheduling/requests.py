@@ -70,7 +70,7 @@ import pandas as pd
 from ..orbits import contacts as orbit_contacts
 from ..sky.windows import DEFAULT_BASELINE_H, DEFAULT_EVENT_LENGTH_H, DEFAULT_K_SIGMA, window_stretches
 from . import series_parts
-from .blocks import MIN_PER_DAY, night_index
+from .blocks import MIN_PER_DAY, moon_at_blocks
 from .phase_requests import PHASE_EVENT_PREFIX, is_wanted_phase
 from .request_merge import merge_requests
 from .score import score_components
@@ -431,13 +431,12 @@ def _moon_at_blocks(c, moon_sep_deg, nights):
     rv = np.flatnonzero(c["request"].isin((RV_VISIT, RV_SEQUENCE)).to_numpy())
     if not rv.size:
         return c
-    ti = c["target_index"].to_numpy(int)[rv]
-    mid = 0.5 * (c["start_jd_utc"].to_numpy(float)[rv] + c["end_jd_utc"].to_numpy(float)[rv])
-    row = night_index(mid, nights)  # the block's night (a request's ``night`` is its event's)
     sep = c["moon_sep_deg"].to_numpy(float).copy()
     illumination = c["moon_illumination"].to_numpy(float).copy()
-    sep[rv] = np.asarray(moon_sep_deg(ti, mid), float)
-    illumination[rv] = np.where(row >= 0, nights["moon_illumination"].to_numpy(float)[np.maximum(row, 0)], np.nan)
+    # the night holding the block, not the request's ``night`` (its event's)
+    sep[rv], illumination[rv] = moon_at_blocks(moon_sep_deg, nights, c["target_index"].to_numpy(int)[rv],
+                                               c["start_jd_utc"].to_numpy(float)[rv],
+                                               c["end_jd_utc"].to_numpy(float)[rv])
     return c.assign(moon_sep_deg=sep, moon_illumination=illumination)
 
 
