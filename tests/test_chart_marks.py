@@ -196,3 +196,12 @@ def test_rv_timing_band_is_two_sigma_wide_in_phase_and_logged_points_are_marked(
     (logged,) = [ln for ln in ax.get_lines() if ln.get_gid() == "logged"]
     assert len(logged.get_xdata()) == 2
     assert any("1 sigma 28.8 min" in tx.get_text() for tx in ax.texts)  # 0.02 d = 28.8 min
+
+
+def test_rv_chart_says_when_the_catalogue_gave_no_uncertainty():
+    # sigma exactly 0 is the loader's "no uncertainty given" (planner.scheduling.score.no_uncertainty):
+    # the label says so instead of "1 sigma 0.0 min"
+    fig = charts.rv_figure(ECC.iloc[0], ECC.iloc[:0], n_phase=200, event_sigma_d={"periastron": 0.0})
+    texts = [tx.get_text() for tx in fig.axes[0].texts]
+    assert any(t.startswith("periastron, no uncertainty given") for t in texts)
+    assert not any("0.0 min" in t for t in texts)

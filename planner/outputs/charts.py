@@ -20,6 +20,7 @@ import pandas as pd
 
 from ..errors import PeriplanError
 from ..scheduling.phase_requests import phase_text
+from ..scheduling.score import no_uncertainty
 from ..sky.night import darkness_of
 from ..timescales import clock
 from . import chart_marks, target_style
@@ -328,8 +329,8 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, style
             continue
         ax.axvline(ph_events[i], color=PALETTE[1 + i % (len(PALETTE) - 1)], lw=1.0, ls=":", gid=f"event:{name}")
         sig_d = (event_sigma_d or {}).get(name, np.nan)
-        sig_text = (f", 1 sigma {sig_d * 1440:.1f} min" if sig_d * 1440 < 120 else f", 1 sigma {sig_d * 24:.1f} h") \
-            if np.isfinite(sig_d) else ""
+        sig_text = ("" if not np.isfinite(sig_d) else ", no uncertainty given" if no_uncertainty(sig_d)
+                    else f", 1 sigma {sig_d * 1440:.1f} min" if sig_d * 1440 < 120 else f", 1 sigma {sig_d * 24:.1f} h")
         ax.annotate(chart_marks.event_words(name) + sig_text, (ph_events[i], 1.0), xycoords=("data", "axes fraction"),
                     xytext=(2, -4), textcoords="offset points", rotation=90, va="top", fontsize=7)
         chart_marks.draw_timing_bands(ax, [ph_events[i]], [sig_d / p], [PALETTE[1 + i % (len(PALETTE) - 1)]])
@@ -353,9 +354,10 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, style
             mid_rv = geometry.radial_velocity(mid_bjd, tp, p, e, w, k if known_k else 1.0, gamma) / scale
             ax.plot([mid_ph], [mid_rv], marker=style.marker, color="#d08c00", markeredgecolor="black", ls="none",
                     markersize=7, gid="planned", label="planned (block middle)" if j == 0 else None)
-            ax.annotate(str(b["night"]), (p0, 0.02), xycoords=("data", "axes fraction"), fontsize=7,
-                        xytext=(-5, 0), textcoords="offset points", rotation=90, va="bottom", ha="right",
-                        gid="night_label")  # left of the span: the marker sits in its middle
+            left = p0 > 0.03  # beside the span, clear of the marker in its middle; right of it at the axis
+            ax.annotate(str(b["night"]), (p0 if left else p0 + width, 0.02), xycoords=("data", "axes fraction"),
+                        fontsize=7, xytext=(-5 if left else 5, 0), textcoords="offset points", rotation=90,
+                        va="bottom", ha="right" if left else "left", gid="night_label")
     if logged_jd_utc is not None and len(logged_jd_utc):
         ra, dec = float(target["ra_deg"]), float(target["dec_deg"])
         t_log = to_bjd_tdb(np.asarray(logged_jd_utc, float), "JD_UTC", ra, dec)
