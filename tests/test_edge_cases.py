@@ -146,3 +146,19 @@ def test_decades_ahead_gives_one_warning_then_results(capsys):
     assert len(warnings) == 1 and "beyond the bundled" in warnings[0]
     rows = pd.read_csv(io.StringIO(out))
     assert len(rows) > 0 and rows.utc.str.startswith("2071-06-0").all()
+
+
+def test_nan_safe_mod_equals_numpy_mod_and_keeps_nan():
+    # numerics.mod skips numpy's slow path for NaN cells; on numbers it must be numpy.mod itself
+    # (the reference), and NaN or infinite cells give NaN, as numpy.mod does.
+    from planner import numerics
+
+    rng = np.random.default_rng(7)
+    x = np.concatenate([rng.uniform(-1e4, 1e4, 1000), [-0.0, 0.0, -1e-20, 360.0, -360.0, 719.999999]])
+    assert np.array_equal(numerics.mod(x, 360.0), np.mod(x, 360.0))
+    assert np.array_equal(numerics.mod(x / 97.0, 1.0), np.mod(x / 97.0, 1.0))
+    with np.errstate(invalid="ignore"):
+        special = np.array([np.nan, np.inf, -np.inf])
+        assert np.all(np.isnan(np.mod(special, 360.0)))
+    assert np.all(np.isnan(numerics.mod(special, 360.0)))
+    assert numerics.mod(-90.0, 360.0) == 270.0

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from .. import numerics
 from ..orbits.apsidal import JULIAN_YEAR_D
 from ..timescales import epochs
 from .catalogue_checks import MAX_FULL_JD, MIN_FULL_JD, Cells, Coded
@@ -67,7 +68,7 @@ def check_shape_alternatives(cells: Cells, e_given, omega_given):
     for row, k, v in zip(rows[bad], kind[bad], e[bad]):
         cells.err(row, str(k), f"gives e = {v:.6g}, not a bound orbit; e must be below 1", v)
     e = np.where(bad, np.nan, e)
-    omega = np.where(r2 > 0, np.mod(np.degrees(np.arctan2(y, x)), 360.0), 90.0)
+    omega = np.where(r2 > 0, numerics.mod(np.degrees(np.arctan2(y, x)), 360.0), 90.0)
     omega = np.where(np.isfinite(e), omega, np.nan)
     return kind, x, y, out["x_err"], out["y_err"], e, omega
 
@@ -198,4 +199,4 @@ def check_third_body(cells: Cells, ra_deg, dec_deg, system):
     ok = any_given & np.isfinite(p3) & np.isfinite(t3) & np.isfinite(amp) & ~bad_e
     nan = np.full(cells.n, np.nan)
     return (np.where(ok, p3, nan), np.where(ok, t3, nan), np.where(ok, e3, nan),
-            np.where(ok, np.mod(w3, 360.0), nan), np.where(ok, amp, nan))
+            np.where(ok, numerics.mod(w3, 360.0), nan), np.where(ok, amp, nan))

@@ -19,6 +19,7 @@ import pandas as pd
 import pyarrow as pa
 import pyarrow.compute as pc
 
+from .. import numerics
 from ..errors import InputError
 from ..orbits.geometry import (EVENT_WORDS, ORBIT_EVENTS, PERIODIC_EVENT, PERIODIC_KINDS, canonical_event,
                                periodic_kind)
@@ -511,7 +512,7 @@ def check_shape(cells: Cells):
         cells.err(row, "omega_of", f"{words[code]!r} is not allowed; expected 'primary' or 'companion'", words[code])
     omega = np.where(np.array(words, dtype=object)[codes] == "companion", omega + 180.0, omega)
     omega = np.where(np.isnan(omega) & (e == 0), 90.0, omega)  # circular: Tp = Tc convention
-    omega = np.mod(omega, 360.0)
+    omega = numerics.mod(omega, 360.0)
     e_err = cells.numeric("e_err", default=0.0, nonnegative=True)
     omega_err = cells.numeric("omega_err_deg", default=0.0, nonnegative=True)
     return e, e_err, omega, omega_err, linear
