@@ -195,6 +195,7 @@ def make_campaign(targets: pd.DataFrame, sites, first_night, n_nights: int,
     different names.
     """
     from .scheduling.choose import choose_blocks
+    from .scheduling.options import airmass_points_at
     from .scheduling.schedule import assemble, week_candidates
 
     names = [s.name for s in sites]
@@ -218,9 +219,10 @@ def make_campaign(targets: pd.DataFrame, sites, first_night, n_nights: int,
     monitors = pd.concat([w.monitors.assign(_row=np.arange(len(w.monitors))) for w in weeks], ignore_index=True)
     order = list(plans[0].nights["night"].astype(str))
     options = settings.schedule
+    points = airmass_points_at({p.site.name: p.altitude_deg for p in plans}, options.weights)
     blocks, visits, report = choose_blocks(cands, monitors, targets, order, options.overhead_min / 1440.0,
                                            options.repeats,
-                                           options.time_limit_s_per_night * max(len(order), 1) * len(sites))
+                                           options.time_limit_s_per_night * max(len(order), 1) * len(sites), points)
     for plan, week in zip(plans, weeks):
         mine = visits[visits["site"] == plan.site.name]
         local = week.monitors.loc[mine["_row"].to_numpy()] if len(mine) else week.monitors.iloc[:0]

@@ -58,9 +58,14 @@ def test_replanning_after_a_logged_night_drops_exactly_the_done_events(demo):
         rest = again.schedule[(again.schedule["target"] == t) & (again.schedule["event"] == e)
                               & (np.round(again.schedule["event_jd_utc"] * 1440) == round(j * 1440))]
         assert (rest["slot"] > logged).all()
-    # the other nights' blocks are untouched: the same candidates, nothing in their way
+    # the other nights' blocks stay feasible, so the new optimum is worth at least as much (less
+    # the solver's 0.1 % move penalty); a block may move (an RV window reaching into the freed
+    # night, a monitor visit to the time that frees), but no request of theirs is dropped
     later = plan.schedule[plan.schedule["night"] != "2026-12-07"]
-    assert keys(later) <= keys(again.schedule)
+    assert plan.report.optimal and again.report.optimal
+    assert again.schedule["score"].sum() >= later["score"].sum() * (1 - 1e-3)
+    served = set(zip(again.schedule["target"], again.schedule["event"]))
+    assert set(zip(later["target"], later["event"])) <= served
 
 
 def test_a_done_event_is_listed_as_logged_not_as_unobservable(demo):

@@ -65,26 +65,28 @@ def _week_rules(cands: pd.DataFrame, targets: pd.DataFrame, default: str) -> np.
 
 
 def choose_blocks(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataFrame, nights_order,
-                  overhead_d: float, week_rule: str, time_limit_s: float):
+                  overhead_d: float, week_rule: str, time_limit_s: float, airmass_points=None):
     """(chosen candidates, chosen monitor visits, report): the best blocks of the week.
 
     ``cands``: request candidates (schedule columns, ``night`` already the night holding each),
     phase-coverage visits among them (``group`` starting with :data:`PHASE_GROUP`);
     ``monitors``: monitor candidates (:func:`planner.scheduling.monitor.monitor_candidates`, with
     ``gap_d``). Chosen movable visits carry their chosen start and end; chosen monitor visits
-    keep their row labels of ``monitors``. The phase visits take the time the other blocks
-    leave (module docstring). ``report`` is the solver's
+    keep their row labels of ``monitors``; ``airmass_points``
+    (:func:`~planner.scheduling.options.airmass_points_at`) scores each moved start with its own
+    airmass, and a chosen visit carries the ``score`` and ``pts_airmass`` of its chosen start.
+    The phase visits take the time the other blocks leave (module docstring). ``report`` is the solver's
     :class:`~planner.scheduling.solver.SolveReport` of the whole choice.
     """
     phase = is_phase_visit(cands)
     first = cands[~phase].reset_index(drop=True)
-    every, rules = _model(first, monitors, targets, nights_order, week_rule)
+    every, rules = _model(first, monitors, targets, nights_order, week_rule, airmass_points)
     chosen, report = choose_options(every, overhead_d, time_limit_s=time_limit_s, **rules)
     if not phase.any():
         return (*_picked(every, chosen, first, monitors), report)
     left_s = max(time_limit_s - report.seconds, 0.1 * time_limit_s)
     return _with_phase_visits(every, chosen, report, first, cands[phase].reset_index(drop=True), monitors, targets,
-                              nights_order, overhead_d, week_rule, left_s)
+                              nights_order, overhead_d, week_rule, left_s, airmass_points)
 
 
 def is_phase_visit(cands: pd.DataFrame) -> np.ndarray:
@@ -100,7 +102,7 @@ PHASE_REL_GAP = 1e-9
 
 
 def _with_phase_visits(every, chosen, report, first, phase, monitors, targets, nights_order, overhead_d, week_rule,
-                       time_limit_s):
+                       time_limit_s, airmass_points=None):
     """The first choice with the phase visits added in the time it leaves (module docstring).
 
     Second model: the chosen requests (every start of each chosen movable visit) and the chosen
@@ -116,7 +118,7 @@ def _with_phase_visits(every, chosen, report, first, phase, monitors, targets, n
     nights_kept = set(pick.loc[pick["source"] == "monitor", "group"])
     second = pd.concat([first.iloc[kept], phase], ignore_index=True)
     mon = monitors[monitors["group"].astype(str).isin(nights_kept).to_numpy()]
-    every2, rules = _model(second, mon, targets, nights_order, week_rule)
+    every2, rules = _model(second, mon, targets, nights_order, week_rule, airmass_points)
     req = (every2["source"] == "request").to_numpy()
     is_phase = req & (every2["candidate"].to_numpy() >= kept.size)  # the rows of `phase` come after the kept ones
     value = every2["value"].to_numpy(float).copy()
@@ -128,7 +130,8 @@ def _with_phase_visits(every, chosen, report, first, phase, monitors, targets, n
     served = every2.loc[chosen2 & must, "group"].nunique()
     if served < n_must:  # stopped early: keep the first choice as it is, fill its free runs
         blocks, visits = _picked(every, chosen, first, monitors)
-        filled, report_fill = fill_phase_visits(phase, blocks, visits, nights_order, overhead_d, time_limit_s)
+        filled, report_fill = fill_phase_visits(phase, blocks, visits, nights_order, overhead_d, time_limit_s,
+                                                airmass_points)
         return pd.concat([blocks, filled], ignore_index=True), visits, _both(report, report_fill)
     every2["value"] = value
     blocks, visits = _picked(every2, chosen2, second, mon)
@@ -166,7 +169,7 @@ def free_starts(earliest, latest, length_d, busy_start, busy_end, overhead_d):
 
 
 def fill_phase_visits(phase: pd.DataFrame, blocks: pd.DataFrame, visits: pd.DataFrame, nights_order,
-                      overhead_d: float, time_limit_s: float):
+                      overhead_d: float, time_limit_s: float, airmass_points=None):
     """(chosen phase visits, report): the phase-coverage visits of largest total value in the time
     ``blocks`` and monitor ``visits`` leave (``overhead_d`` days from each on its telescope), one
     per bin (``group``) whatever the site, none on a night with a monitor visit of its target.
@@ -198,15 +201,13 @@ def fill_phase_visits(phase: pd.DataFrame, blocks: pd.DataFrame, visits: pd.Data
     start = np.clip(cut["start_jd_utc"].to_numpy(float), lo, hi)
     cut["earliest_start_jd_utc"], cut["latest_start_jd_utc"] = lo, hi
     cut["start_jd_utc"], cut["end_jd_utc"] = start, start + length
-    opts = candidate_options(cut)
+    opts = candidate_options(cut, airmass_points=airmass_points)
     opts["group"] = "g" + cut["group"].astype(str).to_numpy(object)[opts["candidate"].to_numpy()]  # a bin, any site
     rank = _night_rank(opts["night"], nights_order)
     opts["value"] = opts["value"] * FIRST_NIGHT_FACTOR ** rank
     chosen, report = choose_options(opts, overhead_d, exclusive=("group",), time_limit_s=time_limit_s)
     pick = opts[chosen]
-    out = cut.iloc[pick["candidate"].to_numpy()].copy()
-    out["start_jd_utc"], out["end_jd_utc"] = pick["start_jd_utc"].to_numpy(), pick["end_jd_utc"].to_numpy()
-    return out.reset_index(drop=True), report
+    return _at_chosen_starts(cut.iloc[pick["candidate"].to_numpy()], pick).reset_index(drop=True), report
 
 
 def _both(first: SolveReport, second: SolveReport) -> SolveReport:
@@ -219,11 +220,12 @@ def _both(first: SolveReport, second: SolveReport) -> SolveReport:
                        first.n_options + second.n_options, first.n_rows + second.n_rows, first.runs)
 
 
-def _model(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataFrame, nights_order, week_rule: str):
+def _model(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataFrame, nights_order, week_rule: str,
+           airmass_points=None):
     """(options, rules): every option of the candidates and monitor visits with the groups of the
     week's rules (module docstring), and the keyword arguments of
     :func:`~planner.scheduling.solver.choose_options` that state them."""
-    opts = candidate_options(cands)
+    opts = candidate_options(cands, airmass_points=airmass_points)
     rules = _week_rules(cands, targets, week_rule)[opts["candidate"].to_numpy()] if len(opts) else np.zeros(0)
     # a phase bin is its own request, once in the plan whatever the site, filled on the first
     # night that has room for it
@@ -274,8 +276,16 @@ def _picked(every: pd.DataFrame, chosen: np.ndarray, cands: pd.DataFrame, monito
     """(blocks, monitor visits) of the chosen options: candidate rows with the chosen starts."""
     pick = every[chosen]
     req = pick[pick["source"] == "request"]
-    blocks = cands.iloc[req["candidate"].to_numpy()].copy()
-    blocks["start_jd_utc"] = req["start_jd_utc"].to_numpy()
-    blocks["end_jd_utc"] = req["end_jd_utc"].to_numpy()
+    blocks = _at_chosen_starts(cands.iloc[req["candidate"].to_numpy()], req)
     visits = monitors.iloc[pick[pick["source"] == "monitor"]["candidate"].to_numpy()]
     return blocks.reset_index(drop=True), visits
+
+
+def _at_chosen_starts(blocks: pd.DataFrame, options: pd.DataFrame) -> pd.DataFrame:
+    """Candidate rows (one per chosen option, in order) with the option's start, end, score and
+    airmass points (those of the chosen start, :func:`~planner.scheduling.options.candidate_options`)."""
+    out = blocks.copy()
+    for col in ("start_jd_utc", "end_jd_utc", "score", "pts_airmass"):
+        if col in out and col in options:
+            out[col] = options[col].to_numpy()
+    return out

@@ -8,6 +8,12 @@ little less, at most :data:`MOVE_PENALTY` of the value at the far end of the ran
 keeps the proposed start whenever it is free and moves a visit only to make room. A monitor visit
 of a night is handled the same way over its free stretch (:func:`monitor_options`).
 
+A later start sees the target at another airmass: given ``airmass_points`` (:func:`airmass_points_at`),
+each moved option is scored with the airmass points of its own block (the score's rule,
+:func:`planner.scheduling.score.score_components`), so a visit moved lower in the sky is worth
+what the sheet will say it is worth; the options table carries that ``score`` and
+``pts_airmass`` beside the solver's ``value``.
+
 Groups (columns of the options table, see :func:`planner.scheduling.solver.choose_options`):
 ``group`` (the request: at most one of its options), ``week_key`` (target, event and visit
 slot of a sequence, for the week rules), ``monitor_night`` (one monitor visit of a target a night) and ``spacing``/``gap_d``
@@ -18,6 +24,9 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
+
+from .blocks import altitudes, mean_airmass, sample_times
+from .score import airmass_from_alt, airmass_term
 
 
 #: Most start times tried for one movable visit (the proposed one included).
@@ -44,13 +53,33 @@ def _spread(proposed, lo, hi, length, movable):
     return rows[keep], starts[keep]
 
 
-def candidate_options(cands: pd.DataFrame, telescope: str = "telescope") -> pd.DataFrame:
+def airmass_points_at(altitude_by_telescope: dict, weights):
+    """``points(target_index, telescope, start, end)``: the score's airmass points (weight x
+    :func:`~planner.scheduling.score.airmass_term` of the mean airmass of
+    :data:`~planner.scheduling.blocks.ALT_SAMPLES` altitudes through each block) of blocks from
+    UTC Julian dates ``start`` to ``end``, on the telescope named for each (a key of
+    ``altitude_by_telescope``, whose values are ``altitude_deg(target_index, jd_utc)``)."""
+
+    def points(target_index, telescope, start, end):
+        out = np.zeros(len(start))
+        for name, altitude_deg in altitude_by_telescope.items():
+            m = np.flatnonzero(telescope == name)
+            alt = altitudes(altitude_deg, target_index[m], sample_times(start[m], end[m]))
+            out[m] = weights.airmass * airmass_term(mean_airmass(airmass_from_alt(alt)), weights.airmass_zero)
+        return out
+
+    return points
+
+
+def candidate_options(cands: pd.DataFrame, telescope: str = "telescope", airmass_points=None) -> pd.DataFrame:
     """Options (one row per start) of the candidate blocks; ``candidate`` is the row they come from.
 
     ``cands`` has the schedule's columns (:data:`planner.scheduling.blocks.SCHEDULE_COLUMNS`):
     ``start_jd_utc``, ``end_jd_utc``, ``score`` (the value), ``group``, ``request``,
     ``earliest_start_jd_utc``, ``latest_start_jd_utc``, ``target_index``, ``event``, ``night``;
-    a ``site`` column, when present, names the telescope.
+    a ``site`` column, when present, names the telescope. ``airmass_points``
+    (:func:`airmass_points_at`) rescores the moved starts (module docstring); a candidate whose
+    score is not its own points' (a merged visit, worth two requests) keeps its score.
     """
     c = cands.reset_index(drop=True)
     start = c["start_jd_utc"].to_numpy(float)
@@ -60,15 +89,24 @@ def candidate_options(cands: pd.DataFrame, telescope: str = "telescope") -> pd.D
     lo = c["earliest_start_jd_utc"].to_numpy(float) if "earliest_start_jd_utc" in c else np.full(len(c), np.nan)
     hi = c["latest_start_jd_utc"].to_numpy(float) if "latest_start_jd_utc" in c else np.full(len(c), np.nan)
     k, s = _spread(start, lo, hi, length, movable)
-    span = np.where(movable & np.isfinite(hi - lo), np.maximum(hi - lo, 1e-9), 1.0)
-    option_value = value[k] * (1.0 - MOVE_PENALTY * np.abs(s - start[k]) / span[k])
     group = c["group"].astype(str).to_numpy(object) if "group" in c else np.arange(len(c)).astype(str)
     tel = c["site"].astype(str).to_numpy(object) if "site" in c else np.full(len(c), telescope, dtype=object)
+    score = value[k]
+    pts = c["pts_airmass"].to_numpy(float)[k] if "pts_airmass" in c else np.full(k.size, np.nan)
+    if airmass_points is not None and "pts_airmass" in c:
+        factor = (c["x_priority"] * c["x_rarity"]).to_numpy(float)
+        points = c[["pts_coverage", "pts_airmass", "pts_moon", "pts_timing"]].to_numpy(float).sum(axis=1)
+        own = np.isclose(factor * points, value, rtol=1e-9, atol=1e-9)
+        m = np.flatnonzero((s != start[k]) & own[k])
+        pts[m] = airmass_points(c["target_index"].to_numpy(int)[k[m]], tel[k[m]], s[m], s[m] + length[k[m]])
+        score[m] = factor[k[m]] * (points[k[m]] - c["pts_airmass"].to_numpy(float)[k[m]] + pts[m])
+    span = np.where(movable & np.isfinite(hi - lo), np.maximum(hi - lo, 1e-9), 1.0)
+    option_value = score * (1.0 - MOVE_PENALTY * np.abs(s - start[k]) / span[k])
     if "site" in c:  # request ids are a site's own: one site's request 5 is not another's
         group = tel + "|" + group
     return pd.DataFrame({
         "candidate": k.astype(np.int64), "telescope": tel[k], "start_jd_utc": s, "end_jd_utc": s + length[k],
-        "value": option_value, "group": "g" + group[k],
+        "value": option_value, "score": score, "pts_airmass": pts, "group": "g" + group[k],
         "week_key": (c["target_index"].astype(str) + "|" + c["event"].astype(str) + "|"
                      + (c["slot"].astype(str) if "slot" in c else "0")).to_numpy(object)[k],
         "night": c["night"].astype(str).to_numpy(object)[k],

@@ -41,6 +41,7 @@ from .candidates import candidates_from_requests, fixed_candidates, with_altitud
 from .choose import choose_blocks
 from .log_requests import apply_log, phase_candidates
 from .monitor import monitor_candidates
+from .options import airmass_points_at
 from .requests import RequestSettings, build_requests, monitor_requests
 
 logger = logging.getLogger(__name__)
@@ -136,8 +137,10 @@ def plan_week_report(visible, availability, targets, nights, altitude_deg=None, 
     week = week_candidates(visible, availability, targets, nights, altitude_deg, moon_sep_deg, options, requests,
                            intervals, log)
     order = list(nights["night"].astype(str))
+    points = airmass_points_at({"telescope": altitude_deg}, options.weights) if altitude_deg is not None else None
     blocks, visits, report = choose_blocks(week.cands, week.monitors, targets, order, options.overhead_min / MIN_PER_DAY,
-                                           options.repeats, options.time_limit_s_per_night * max(len(order), 1))
+                                           options.repeats, options.time_limit_s_per_night * max(len(order), 1),
+                                           points)
     schedule = assemble(blocks, visits, week, nights, altitude_deg, options, tz)
     logger.info("scheduled %d blocks (%d request candidates, %d monitor candidates) over %d nights: %s",
                 len(schedule), len(week.cands), len(week.monitors), len(order), report.describe())
