@@ -97,3 +97,38 @@ def test_transit_from_hour_angle_one_sidereal_hour():
 def test_no_blocks_give_an_empty_table():
     got = block_sky(TARGETS, SITE, [], [], [])
     assert len(got) == 0 and list(got.columns) == ["az_start_deg", "ha_start_h", "lowest_alt_deg", "meridian_jd_utc"]
+
+
+def test_mount_flip_notes_give_the_meridian_transit_to_the_minute():
+    # The note "crosses the meridian near 00:40 local (23:40 UTC)" on a block that holds the
+    # target's culmination: against astroplan's meridian transit (reference above), within the
+    # minute the note is printed to plus the minute grid of the search.
+    import datetime as dt
+    import re
+
+    from astropy.coordinates import SkyCoord
+    from astropy.time import Time
+    from astroplan import FixedTarget, Observer
+    import astropy.units as u
+
+    import planner
+    from conftest import REPO, SAMPLE_TARGETS
+
+    site = planner.read_site(REPO / "sample_targets" / "site.toml")
+    targets = planner.read_catalogue(SAMPLE_TARGETS)
+    plan = planner.make_plan(targets, site, dt.date(2026, 12, 7), 7)
+    observer = Observer(location=site.earth_location())
+    checked = 0
+    for _, b in plan.schedule.iterrows():
+        m = re.search(r"crosses the meridian near \d\d:\d\d local \((\d\d):(\d\d) UTC\)", str(b["notes"]))
+        if not m:
+            continue
+        row = targets.iloc[int(b["target_index"])]
+        ref = observer.target_meridian_transit_time(
+            Time(b["start_jd_utc"], format="jd"), FixedTarget(SkyCoord(row["ra_deg"] * u.deg, row["dec_deg"] * u.deg)),
+            which="next").datetime
+        shown = int(m.group(1)) * 60 + int(m.group(2))
+        diff = (shown - (ref.hour * 60 + ref.minute + ref.second / 60.0) + 720) % 1440 - 720
+        assert abs(diff) <= 2.0, (b["target"], b["night"], m.group(0), ref)
+        checked += 1
+    assert checked >= 3

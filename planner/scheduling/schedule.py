@@ -50,8 +50,26 @@ __all__ = ["AVAILABILITY_COLUMNS", "NIGHT_COLUMNS", "SCHEDULE_COLUMNS", "VISIBLE
            "fixed_candidates", "plan_week", "plan_week_report"]
 
 
-def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOptions, tz=None) -> str:
-    """Plain-language notes on one block: coverage, movable visit, meridian, twilight, Sun.
+def _culmination_jd_utc(altitude_deg, target_index: int, start: float, end: float, alt: np.ndarray) -> float:
+    """UTC Julian date (to the minute) of the target's highest point inside a block, NaN when it
+    is at either end; ``alt``: the altitudes at the block's evenly spaced samples. The highest
+    sample marks it; the minute grid between its neighbours places it (a fixed star culminates
+    at its meridian transit)."""
+    if altitude_deg is None or alt.size < 3 or not np.isfinite(alt).all():
+        return np.nan
+    k = int(np.argmax(alt))
+    if not (0 < k < alt.size - 1 and alt[k] > alt[0] and alt[k] > alt[-1]):
+        return np.nan
+    step = (end - start) / (alt.size - 1)
+    times = start + step * (k - 1) + np.arange(0.0, 2 * step, 1.0 / MIN_PER_DAY)
+    fine = np.asarray(altitude_deg(np.full(times.size, target_index), times), float)
+    return float(times[int(np.argmax(fine))])
+
+
+def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOptions, tz=None,
+           culmination_jd_utc=np.nan) -> str:
+    """Plain-language notes on one block: coverage, movable visit, meridian (at
+    ``culmination_jd_utc``, :func:`_culmination_jd_utc`), twilight, Sun.
     Clock times are local in the IANA zone ``tz`` with UTC beside them, or UTC without one."""
     notes = []
     if block["kind"] == FLEXIBLE:
@@ -67,12 +85,9 @@ def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOption
         ev = block["event_jd_utc"]
         if np.isfinite(ev) and not (block["start_jd_utc"] <= ev <= block["end_jd_utc"]):
             notes.append("the event time itself lies outside the block")
-    finite = np.isfinite(alt)
-    if finite.all() and alt.size >= 3:
-        k = int(np.argmax(alt))
-        if 0 < k < alt.size - 1 and alt[k] > alt[0] and alt[k] > alt[-1]:
-            t_k = block["start_jd_utc"] + (block["end_jd_utc"] - block["start_jd_utc"]) * k / (alt.size - 1)
-            notes.append(f"crosses the meridian near {local_and_utc(t_k, tz=tz)}: a mount flip may be needed")
+    if np.isfinite(culmination_jd_utc):
+        notes.append(f"crosses the meridian near {local_and_utc(culmination_jd_utc, tz=tz)}: a mount flip may be "
+                     "needed")
     if night_row is not None:
         margin = options.twilight_margin_min / MIN_PER_DAY
         d0, d1 = night_row["dark_start_jd_utc"], night_row["dark_end_jd_utc"]
@@ -201,7 +216,9 @@ def assemble(blocks, visits, week: WeekCandidates, nights, altitude_deg, options
     chosen = pd.concat([chosen, visits[list(SCHEDULE_COLUMNS)]], ignore_index=True) if len(visits) else chosen
     night_rows = {str(r["night"]): r for _, r in nights.iterrows()}
     chosen["notes"] = [
-        _notes(b, np.asarray(a, float), night_rows.get(str(b["night"])), options, tz)
+        _notes(b, np.asarray(a, float), night_rows.get(str(b["night"])), options, tz,
+               _culmination_jd_utc(altitude_deg, int(b["target_index"]), b["start_jd_utc"], b["end_jd_utc"],
+                                   np.asarray(a, float)))
         for (_, b), a in zip(chosen.iterrows(), alts)
     ] if len(chosen) else []
     rank = {lab: i for i, lab in enumerate(order)}
