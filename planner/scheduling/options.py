@@ -35,6 +35,8 @@ MAX_STARTS = 7
 #: the score's own resolution, so it only breaks ties towards the lowest airmass.
 MOVE_PENALTY = 1e-3
 MOVABLE = ("rv_visit", "rv_sequence")
+#: Blocks whose airmass points are computed at once (about 5 MB of altitudes each time).
+_POINTS_CHUNK = 65_536
 
 
 def _spread(proposed, lo, hi, length, movable):
@@ -63,9 +65,11 @@ def airmass_points_at(altitude_by_telescope: dict, weights):
     def points(target_index, telescope, start, end):
         out = np.zeros(len(start))
         for name, altitude_deg in altitude_by_telescope.items():
-            m = np.flatnonzero(telescope == name)
-            alt = altitudes(altitude_deg, target_index[m], sample_times(start[m], end[m]))
-            out[m] = weights.airmass * airmass_term(mean_airmass(airmass_from_alt(alt)), weights.airmass_zero)
+            rows = np.flatnonzero(telescope == name)
+            for at in range(0, rows.size, _POINTS_CHUNK):  # bounded memory: a survey has millions
+                m = rows[at:at + _POINTS_CHUNK]
+                alt = altitudes(altitude_deg, target_index[m], sample_times(start[m], end[m]))
+                out[m] = weights.airmass * airmass_term(mean_airmass(airmass_from_alt(alt)), weights.airmass_zero)
         return out
 
     return points
