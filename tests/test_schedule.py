@@ -312,7 +312,8 @@ def test_note_times_are_local_with_utc_beside_them():
                        "start_jd_utc": lo - 0.05, "end_jd_utc": 2 * hi - lo + 0.05})
     alt = np.interp(np.linspace(0, 1, 5), [0, 0.5, 1], [40.0, 60.0, 40.0])  # peaks mid-block: the meridian
     options = schedule.ScheduleOptions()
-    notes = schedule._notes(block, alt, None, options, "Europe/Madrid")
+    mid = 0.5 * (block["start_jd_utc"] + block["end_jd_utc"])
+    notes = schedule._notes(block, alt, None, options, "Europe/Madrid", culmination_jd_utc=mid)
     assert f"may start any time from {local[0]} to {local[1]} local (05:18-05:55 UTC)" in notes
     assert local == ["06:18", "06:55"]
     assert "crosses the meridian near " in notes and " local (" in notes.split("meridian near ")[1]
