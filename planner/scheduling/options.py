@@ -26,7 +26,7 @@ import numpy as np
 import pandas as pd
 
 from .blocks import altitudes, mean_airmass, sample_times
-from .score import airmass_from_alt, airmass_term
+from .score import FACTOR_COLUMNS, POINT_COLUMNS, airmass_from_alt, airmass_points
 
 
 #: Most start times tried for one movable visit (the proposed one included).
@@ -56,8 +56,8 @@ def _spread(proposed, lo, hi, length, movable):
 
 
 def airmass_points_at(altitude_by_telescope: dict, weights):
-    """``points(target_index, telescope, start, end)``: the score's airmass points (weight x
-    :func:`~planner.scheduling.score.airmass_term` of the mean airmass of
+    """``points(target_index, telescope, start, end)``: the score's airmass points
+    (:func:`~planner.scheduling.score.airmass_points` of the mean airmass of
     :data:`~planner.scheduling.blocks.ALT_SAMPLES` altitudes through each block) of blocks from
     UTC Julian dates ``start`` to ``end``, on the telescope named for each (a key of
     ``altitude_by_telescope``, whose values are ``altitude_deg(target_index, jd_utc)``)."""
@@ -69,7 +69,7 @@ def airmass_points_at(altitude_by_telescope: dict, weights):
             for at in range(0, rows.size, _POINTS_CHUNK):  # bounded memory: a survey has millions
                 m = rows[at:at + _POINTS_CHUNK]
                 alt = altitudes(altitude_deg, target_index[m], sample_times(start[m], end[m]))
-                out[m] = weights.airmass * airmass_term(mean_airmass(airmass_from_alt(alt)), weights.airmass_zero)
+                out[m] = airmass_points(mean_airmass(airmass_from_alt(alt)), weights)
         return out
 
     return points
@@ -96,14 +96,16 @@ def candidate_options(cands: pd.DataFrame, telescope: str = "telescope", airmass
     group = c["group"].astype(str).to_numpy(object) if "group" in c else np.arange(len(c)).astype(str)
     tel = c["site"].astype(str).to_numpy(object) if "site" in c else np.full(len(c), telescope, dtype=object)
     score = value[k]
-    pts = c["pts_airmass"].to_numpy(float)[k] if "pts_airmass" in c else np.full(k.size, np.nan)
+    air = c["pts_airmass"].to_numpy(float) if "pts_airmass" in c else np.full(len(c), np.nan)
+    pts = air[k]
     if airmass_points is not None and "pts_airmass" in c:
-        factor = (c["x_priority"] * c["x_rarity"]).to_numpy(float)
-        points = c[["pts_coverage", "pts_airmass", "pts_moon", "pts_timing"]].to_numpy(float).sum(axis=1)
+        factor = c[list(FACTOR_COLUMNS)].to_numpy(float).prod(axis=1)
+        points = c[list(POINT_COLUMNS)].to_numpy(float).sum(axis=1)
         own = np.isclose(factor * points, value, rtol=1e-9, atol=1e-9)
         m = np.flatnonzero((s != start[k]) & own[k])
-        pts[m] = airmass_points(c["target_index"].to_numpy(int)[k[m]], tel[k[m]], s[m], s[m] + length[k[m]])
-        score[m] = factor[k[m]] * (points[k[m]] - c["pts_airmass"].to_numpy(float)[k[m]] + pts[m])
+        km = k[m]
+        pts[m] = airmass_points(c["target_index"].to_numpy(int)[km], tel[km], s[m], s[m] + length[km])
+        score[m] = factor[km] * (points[km] - air[km] + pts[m])
     span = np.where(movable & np.isfinite(hi - lo), np.maximum(hi - lo, 1e-9), 1.0)
     option_value = score * (1.0 - MOVE_PENALTY * np.abs(s - start[k]) / span[k])
     if "site" in c:  # request ids are a site's own: one site's request 5 is not another's

@@ -136,6 +136,12 @@ def airmass_term(airmass, airmass_zero=DEFAULT_WEIGHTS.airmass_zero):
     return np.where(np.isfinite(x), np.clip(q, 0.0, 1.0), 0.0)
 
 
+def airmass_points(airmass, weights: ScoreWeights = DEFAULT_WEIGHTS):
+    """The score's airmass points: ``weights.airmass`` x :func:`airmass_term` of the airmass
+    through each block (shape (n,), or (n, k) samples)."""
+    return weights.airmass * airmass_term(airmass, weights.airmass_zero)
+
+
 def moon_term(moon_sep_deg, moon_illumination, clear_deg=DEFAULT_WEIGHTS.moon_clear_deg):
     """Moon quality in [0, 1]: 1 - f max(0, 1 - s / s_clear); 1 where either input is NaN.
 
@@ -206,7 +212,7 @@ def score_components(priority, period_d, observable_fraction, airmass, moon_sep_
         np.where(np.isnan(prio), 1.0, prio) ** w.priority_power,
         1.0 + w.rarity * rarity_term(period_d),
         w.coverage * coverage_term(observable_fraction),
-        w.airmass * airmass_term(airmass, w.airmass_zero),
+        airmass_points(airmass, w),
         w.moon * moon_term(moon_sep_deg, moon_illumination, w.moon_clear_deg),
         w.timing * timing_term(sigma_d, window_d, w.timing_n_sigma),
     )
