@@ -1,4 +1,5 @@
-"""Small numerical helpers shared by every stage: unit vectors, a NaN-safe mod and cubic grid interpolation.
+"""Small numerical helpers shared by every stage: unit vectors, a NaN-safe mod, dense codes of
+keys and cubic grid interpolation.
 
 Foundation module (like :mod:`planner.errors`): it imports nothing else of the package, so any
 stage may use it.
@@ -27,6 +28,25 @@ def mod(x, period):
     out = np.full(x.shape, np.nan)
     np.mod(x, period, out=out, where=np.isfinite(x))
     return out[()] if out.ndim == 0 else out
+
+
+def dense_codes(keys):
+    """(uniques, inverse) of non-negative int keys: what ``numpy.unique(keys, return_inverse=True)``
+    gives (sorted uniques, ``uniques[inverse] == keys``).
+
+    Keys below a few times their count are marked in a table instead of sorted: O(n), about 10x
+    faster than the sort for millions of keys (e.g. target x day pairs).
+    """
+    keys = np.asarray(keys, dtype=np.int64).ravel()
+    if keys.size == 0:
+        return keys.copy(), np.zeros(0, np.int64)
+    top = int(keys.max()) + 1
+    if keys.min() < 0 or top > 4 * keys.size + 1024:
+        return np.unique(keys, return_inverse=True)
+    seen = np.zeros(top, bool)
+    seen[keys] = True
+    rank = np.cumsum(seen) - 1
+    return np.flatnonzero(seen), rank[keys]
 
 
 def grid_cell(x, n: int):

@@ -81,6 +81,39 @@ def test_array_path_equals_one_at_a_time():
     assert np.all(np.abs(pairs.az_deg - grid.az_deg) < 1e-9)
 
 
+def test_places_once_per_target_and_day_against_astropy_altaz():
+    """altaz_of (one apparent place per target and day, the scheduler's block samples) against
+    astropy's AltAz, at a site east of 150 E whose nights cross the day blocks' noon-UTC edge;
+    and to the bit the elementwise path it stands for."""
+    lat, lon, elev = SITES[3][0], 151.2, 40.0
+    ra, dec = random_targets(300, seed=11)
+    rng = np.random.default_rng(5)
+    target = rng.integers(0, 300, 400)  # repeated targets, as blocks of one target on many nights
+    start = 2461400.88 + rng.integers(0, 3, 400) + rng.uniform(0.0, 0.3, 400)  # local evening to late night
+    jd = start[:, None] + np.linspace(0.0, 0.1, 9)[None, :]
+    fast = positions.altaz_of(ra, dec, target[:, None], jd, lat, lon)
+    assert np.any(np.floor(jd[:, 0]) != np.floor(jd[:, -1]))  # blocks that span two days
+    import astropy.units as u
+    from astropy.coordinates import AltAz, EarthLocation, SkyCoord
+    from astropy.time import Time
+
+    loc = EarthLocation.from_geodetic(lon * u.deg, lat * u.deg, elev * u.m)
+    ref = SkyCoord(ra[target][:, None] * u.deg, dec[target][:, None] * u.deg).transform_to(
+        AltAz(obstime=Time(jd, format="jd", scale="utc"), location=loc, pressure=0 * u.hPa))
+    assert np.max(np.abs(fast.alt_deg - ref.alt.deg)) <= ALT_TOLERANCE_DEG
+    r, d, t = np.broadcast_arrays(ra[target][:, None], dec[target][:, None], jd)
+    each = positions.altaz_and_places_at(r, d, t, lat, lon)[0]  # every element its own place
+    assert np.array_equal(fast.alt_deg, each.alt_deg) and np.array_equal(fast.ha_h, each.ha_h)
+
+
+def test_dense_codes_are_numpys_unique():
+    rng = np.random.default_rng(2)
+    for keys in (rng.integers(0, 5000, 20000), rng.integers(0, 10**12, 300), np.array([7])):
+        got, inverse = numerics.dense_codes(keys)
+        want, want_inverse = np.unique(keys, return_inverse=True)
+        assert np.array_equal(got, want) and np.array_equal(inverse, want_inverse)
+
+
 @pytest.mark.parametrize("lat, lon, elev", SITES)
 def test_sun_and_moon_tracks_against_astropy_get_body(lat, lon, elev):
     import astropy.units as u

@@ -272,18 +272,61 @@ def altaz_at(ra_deg, dec_deg, jd_utc, latitude_deg: float, longitude_deg: float)
 
 def altaz_and_places_at(ra_deg, dec_deg, jd_utc, latitude_deg: float, longitude_deg: float):
     """(:func:`altaz_at`, the CIRS (ra, dec) in rad it was computed from, flat): for callers that
-    also want the targets' distance from the Moon or Sun, whose apparent places are the same."""
-    ra, dec, jd = np.broadcast_arrays(np.asarray(ra_deg, float), np.asarray(dec_deg, float),
-                                      np.asarray(jd_utc, float))
-    shape = jd.shape
+    also want the targets' distance from the Moon or Sun, whose apparent places are the same.
+
+    Coordinates that broadcast over several times (shape (N, 1) against (N, T)) go through
+    :func:`altaz_of`: their apparent places are computed once per day-long block, not per time.
+    """
+    ra, dec = np.broadcast_arrays(np.asarray(ra_deg, float), np.asarray(dec_deg, float))
+    shape = np.broadcast_shapes(ra.shape, np.shape(jd_utc))
+    if ra.size < int(np.prod(shape)):
+        index = np.arange(ra.size).reshape(ra.shape)
+        return altaz_of(ra.ravel(), dec.ravel(), index, jd_utc, latitude_deg, longitude_deg, with_places=True)
+    ra, dec, jd = np.broadcast_arrays(ra, dec, np.asarray(jd_utc, float))
     ri, di = cirs_places_at(ra, dec, jd)
+    return _horizontal_at(ri, di, jd, latitude_deg, longitude_deg), (ri, di)
+
+
+def altaz_of(ra_deg, dec_deg, index, jd_utc, latitude_deg: float, longitude_deg: float, with_places: bool = False):
+    """Positions (:class:`Horizontal`) of the targets ``index`` (int positions into the 1-D ICRS
+    ``ra_deg``, ``dec_deg``) at UTC Julian dates ``jd_utc``, elementwise (``index`` and ``jd_utc``
+    broadcast); with ``with_places``, also the flat CIRS (ra, dec) in rad, as
+    :func:`altaz_and_places_at` gives them.
+
+    The same values as :func:`altaz_at` of the targets' coordinates, to the bit: each target's
+    apparent place is computed once per day-long block of times it appears in, so the (N, 9)
+    altitudes of a survey's N blocks cost about N apparent places, not 9 N.
+    """
+    idx, jd = np.broadcast_arrays(np.asarray(index, np.int64), np.asarray(jd_utc, float))
+    i, t = idx.ravel(), jd.ravel()
+    ri, di = np.full(t.shape, np.nan), np.full(t.shape, np.nan)
+    ok = np.flatnonzero(np.isfinite(t))
+    if ok.size:
+        block = np.floor(t[ok] / PLACE_BLOCK_D).astype(np.int64)
+        first = int(block.min())
+        n_blocks = int(block.max()) - first + 1
+        pair, inverse = numerics.dense_codes(i[ok] * n_blocks + (block - first))
+        pair_target, pair_block = pair // n_blocks, pair % n_blocks + first
+        pr, pd_ = np.empty(pair.size), np.empty(pair.size)
+        ids = np.unique(pair_block)
+        ra, dec = np.asarray(ra_deg, float), np.asarray(dec_deg, float)
+        for b, mid_tdb in zip(ids, utc_to_tdb_jd((ids + 0.5) * PLACE_BLOCK_D)):
+            sel = np.flatnonzero(pair_block == b)
+            pr[sel], pd_[sel] = cirs_place(ra[pair_target[sel]], dec[pair_target[sel]], mid_tdb)
+        ri[ok], di[ok] = pr[inverse], pd_[inverse]
+    pos = _horizontal_at(ri, di, jd, latitude_deg, longitude_deg)
+    return (pos, (ri, di)) if with_places else pos
+
+
+def _horizontal_at(ri, di, jd, latitude_deg, longitude_deg) -> Horizontal:
+    """:class:`Horizontal` (shape of ``jd``) of the flat CIRS places ``ri``, ``di`` at the times ``jd``."""
     flat = jd.ravel()
     era = np.full(flat.shape, np.nan)
     ok = np.isfinite(flat)
     if ok.any():
         era[ok] = earth_rotation_angle_rad(flat[ok])
     ha, alt, az = horizontal(ri, di, era, latitude_deg, longitude_deg)
-    return Horizontal(alt.reshape(shape), az.reshape(shape), ha.reshape(shape)), (ri, di)
+    return Horizontal(alt.reshape(jd.shape), az.reshape(jd.shape), ha.reshape(jd.shape))
 
 
 def _ra_dec_from_vectors(v):

@@ -334,12 +334,11 @@ def target_positions(targets: pd.DataFrame, site, target_index, jd_utc) -> posit
     """Airless alt/az, hour angle and airmass of given targets at given UTC times, elementwise.
 
     ``target_index`` (rows of ``targets``) and ``jd_utc`` broadcast together; the result's
-    arrays have their common shape (NaN where the time is NaN).
+    arrays have their common shape (NaN where the time is NaN). Each target's apparent place is
+    computed once per day (:func:`~planner.sky.positions.altaz_of`).
     """
-    i = np.asarray(target_index, dtype=int)
-    ra = targets["ra_deg"].to_numpy(float)[i]
-    dec = targets["dec_deg"].to_numpy(float)[i]
-    return positions.altaz_at(ra, dec, jd_utc, site.latitude_deg, site.longitude_deg)
+    return positions.altaz_of(targets["ra_deg"].to_numpy(float), targets["dec_deg"].to_numpy(float), target_index,
+                              jd_utc, site.latitude_deg, site.longitude_deg)
 
 
 def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: pd.DataFrame,
