@@ -77,6 +77,18 @@ def test_choice_equals_exhaustive_search_on_random_cases():
         assert abs(report.objective - best) <= TOTAL_TOL and report.gap <= 1e-4
 
 
+def test_a_leader_excludes_the_members_of_its_label_only():
+    # excludes=(leader, member): a monitor visit of night "x|1" excludes the blocks labelled
+    # "x|1", and nothing else; by hand: 5 + 3 beats 4 + 3, and 5 + 4 is not allowed.
+    opts = pd.DataFrame({"telescope": ["t"] * 3, "start_jd_utc": [0.0, 0.2, 0.4], "end_jd_utc": [0.1, 0.3, 0.5],
+                         "value": [5.0, 4.0, 3.0], "group": ["m", "b1", "b2"], "leads": ["x|1", "", ""],
+                         "member_of": ["", "x|1", "y|1"]})
+    chosen, report = choose_options(opts, exclusive=("group",), excludes=("leads", "member_of"))
+    assert chosen.tolist() == [True, False, True] and report.objective == pytest.approx(8.0)
+    free, _ = choose_options(opts, exclusive=("group",))
+    assert free.all()
+
+
 def test_one_long_valuable_block_beats_three_short_ones_it_overlaps():
     # a value-4 block against three value-1 blocks inside it: the single block wins (4 > 3)
     opts = pd.DataFrame({"telescope": ["t"] * 4, "start_jd_utc": [0.0, 0.0, 0.1, 0.2],
@@ -213,13 +225,16 @@ def test_each_way_of_solving_keeps_the_optimum_of_the_whole_programme(way, monke
         assert kept.sum() < n, case  # proven without branching on every option
 
 
-def test_option_bounds_are_the_best_plans_holding_each_option():
+@pytest.mark.parametrize("chunk", [65536, 2])
+def test_option_bounds_are_the_best_plans_holding_each_option(chunk, monkeypatch):
     # _option_bounds(i) = v_i + best overlap-only plan before i's start + after i's end; reference:
-    # exhaustive search over every non-overlapping subset holding i, on random small cases.
+    # exhaustive search over every non-overlapping subset holding i, on random small cases; the
+    # interval DP in one chunk and in chunks of 2 options (its bounded-memory path).
     from itertools import combinations
 
     from planner.scheduling import solver
 
+    monkeypatch.setattr(solver, "_DP_CHUNK", chunk)
     rng = np.random.default_rng(4)
     for case in range(40):
         n = int(rng.integers(1, 9))

@@ -138,12 +138,10 @@ def choose_options(options: pd.DataFrame, overhead_d: float = 0.0, exclusive=(),
                     upper.append(1.0)
     if excludes is not None:
         leaders = _groups(options[excludes[0]])
-        member = options[excludes[1]].astype("string").fillna("").to_numpy(object)
-        for j in np.flatnonzero(member != ""):
-            lead = leaders.get(member[j])
-            if lead is not None:
-                rows.append(np.r_[lead, j])
-                upper.append(1.0)
+        member = options[excludes[1]].astype("string").fillna("")
+        for j in np.flatnonzero(member.isin(list(leaders)).to_numpy()) if leaders else ():
+            rows.append(np.r_[leaders[member.iat[j]], j])
+            upper.append(1.0)
     tel = options["telescope"].to_numpy(object)
     left = max(time_limit_s - (time.perf_counter() - t0), 0.2)  # the limit counts the model's building too
     chosen, report = _solve_parts(value, rows, np.asarray(upper, float), tel, start, end + overhead_d, left, rel_gap)
@@ -861,6 +859,10 @@ def _branch_and_bound(prog, telescope, start, end_padded, time_limit_s, rel_gap,
     return chosen, SolveReport(status, total, bound, gap, 0.0, n, n_rows)
 
 
+#: Options per chunk of the interval DP's Python lists (bounded memory; the loop's speed is the same).
+_DP_CHUNK = 65536
+
+
 def _prefix_best(start, end_padded, value):
     """(ends, best) of one telescope's weighted interval scheduling (Kleinberg & Tardos,
     *Algorithm Design*, 2006, sec. 6.1), values clipped at 0: ``best[k]`` is the best total of
@@ -868,13 +870,21 @@ def _prefix_best(start, end_padded, value):
     t is ``best[np.searchsorted(ends, t, side="right")]``. Intervals [start, end_padded) may touch."""
     order = np.argsort(end_padded, kind="stable")
     ends = end_padded[order]
-    before = np.minimum(np.searchsorted(ends, start[order], side="right"), np.arange(order.size)).tolist()
-    values = np.maximum(value[order], 0.0).tolist()
-    best = [0.0] * (order.size + 1)
-    for j, (v, k) in enumerate(zip(values, before)):  # a plain loop over lists: 0.3 us an option
-        take = v + best[k]
-        best[j + 1] = take if take > best[j] else best[j]
-    return ends, np.asarray(best)
+    before = np.minimum(np.searchsorted(ends, start[order], side="right"), np.arange(order.size))
+    values = np.maximum(value[order], 0.0)
+    best = np.zeros(order.size + 1)
+    # a plain loop over lists (0.3 us an option), a chunk at a time: lists of a survey's millions
+    # of options would hold ~100 bytes of Python objects each; an earlier chunk's totals are final
+    for c0 in range(0, order.size, _DP_CHUNK):
+        c1 = min(c0 + _DP_CHUNK, order.size)
+        k_all = before[c0:c1]
+        earlier = best[np.minimum(k_all, c0)].tolist()  # best[k] for k <= c0
+        local = [float(best[c0])] + [0.0] * (c1 - c0)  # local[i] = best[c0 + i]
+        for j, (v, k, b) in enumerate(zip(values[c0:c1].tolist(), (k_all - c0).tolist(), earlier)):
+            take = v + (local[k] if k > 0 else b)
+            local[j + 1] = take if take > local[j] else local[j]
+        best[c0 + 1:c1 + 1] = local[1:]
+    return ends, best
 
 
 def _interval_bound(telescope, start, end_padded, value):
