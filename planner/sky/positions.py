@@ -307,13 +307,13 @@ def altaz_of(ra_deg, dec_deg, index, jd_utc, latitude_deg: float, longitude_deg:
         n_blocks = int(block.max()) - first + 1
         pair, inverse = numerics.dense_codes(i[ok] * n_blocks + (block - first))
         pair_target, pair_block = pair // n_blocks, pair % n_blocks + first
-        pr, pd_ = np.empty(pair.size), np.empty(pair.size)
+        pair_ra, pair_dec = np.empty(pair.size), np.empty(pair.size)
         ids = np.unique(pair_block)
         ra, dec = np.asarray(ra_deg, float), np.asarray(dec_deg, float)
         for b, mid_tdb in zip(ids, utc_to_tdb_jd((ids + 0.5) * PLACE_BLOCK_D)):
             sel = np.flatnonzero(pair_block == b)
-            pr[sel], pd_[sel] = cirs_place(ra[pair_target[sel]], dec[pair_target[sel]], mid_tdb)
-        ri[ok], di[ok] = pr[inverse], pd_[inverse]
+            pair_ra[sel], pair_dec[sel] = cirs_place(ra[pair_target[sel]], dec[pair_target[sel]], mid_tdb)
+        ri[ok], di[ok] = pair_ra[inverse], pair_dec[inverse]
     pos = _horizontal_at(ri, di, jd, latitude_deg, longitude_deg)
     return (pos, (ri, di)) if with_places else pos
 
