@@ -253,11 +253,18 @@ def cirs_places_at(ra_deg, dec_deg, jd_utc):
     di = np.full(jd.shape, np.nan)
     ok = np.isfinite(jd)
     if ok.any():
-        sel = np.flatnonzero(ok)
-        block, ids, mids_utc = _blocks(jd[ok])
-        for b, mid_tdb in zip(ids, utc_to_tdb_jd(mids_utc)):
-            idx = sel[block == b]
-            ri[idx], di[idx] = cirs_place(ra[idx], dec[idx], mid_tdb)
+        ri[ok], di[ok] = _places_in_blocks(ra[ok], dec[ok], _blocks(jd[ok])[0])
+    return ri, di
+
+
+def _places_in_blocks(ra_deg, dec_deg, block):
+    """CIRS (ra, dec) in rad of each ICRS position (1-D, degrees) at the middle of its day-long
+    block (``block``, int numbers of :func:`_blocks`)."""
+    ri, di = np.empty(block.shape), np.empty(block.shape)
+    ids = np.unique(block)
+    for b, mid_tdb in zip(ids, utc_to_tdb_jd((ids + 0.5) * PLACE_BLOCK_D)):
+        sel = np.flatnonzero(block == b)
+        ri[sel], di[sel] = cirs_place(ra_deg[sel], dec_deg[sel], mid_tdb)
     return ri, di
 
 
@@ -306,13 +313,9 @@ def altaz_of(ra_deg, dec_deg, index, jd_utc, latitude_deg: float, longitude_deg:
         first = int(block.min())
         n_blocks = int(block.max()) - first + 1
         pair, inverse = numerics.dense_codes(i[ok] * n_blocks + (block - first))
-        pair_target, pair_block = pair // n_blocks, pair % n_blocks + first
-        pair_ra, pair_dec = np.empty(pair.size), np.empty(pair.size)
-        ids = np.unique(pair_block)
-        ra, dec = np.asarray(ra_deg, float), np.asarray(dec_deg, float)
-        for b, mid_tdb in zip(ids, utc_to_tdb_jd((ids + 0.5) * PLACE_BLOCK_D)):
-            sel = np.flatnonzero(pair_block == b)
-            pair_ra[sel], pair_dec[sel] = cirs_place(ra[pair_target[sel]], dec[pair_target[sel]], mid_tdb)
+        target = pair // n_blocks
+        pair_ra, pair_dec = _places_in_blocks(np.asarray(ra_deg, float)[target], np.asarray(dec_deg, float)[target],
+                                              pair % n_blocks + first)
         ri[ok], di[ok] = pair_ra[inverse], pair_dec[inverse]
     pos = _horizontal_at(ri, di, jd, latitude_deg, longitude_deg)
     return (pos, (ri, di)) if with_places else pos
