@@ -257,9 +257,10 @@ def test_two_epochs_in_tension_are_warned_then_refused(tmp_path, capsys):
 
     # Tp moved by about 5 and 12 combined sigma from where Tc and the elements put it (the
     # published pair sits 0.35 sigma off, so the shifted ones land within a sigma of 5 and 12)
-    from planner.orbits.binary_events import epoch_tension_sigma
+    from planner.orbits.binary_events import epoch_offset, epoch_tension_sigma
 
     moved = _hd80606(",tc,tc_err_d,tp,tp_err_d", f",{TC},{TC_ERR},{TP},{TP_ERR}")
+    published_offset_d = epoch_offset(moved)[0][0]
     tension = []
     for shift_d in (0.1, 0.2):  # both on the same side of the prediction: tension is linear there
         m = moved.copy()
@@ -274,7 +275,12 @@ def test_two_epochs_in_tension_are_warned_then_refused(tmp_path, capsys):
         out, err = capsys.readouterr()
         if refused:
             assert code == 2 and out == ""
-            assert err.startswith(f"periplan: error: {path.name}, row 2, column tp: disagrees")
+            # the message gives the offset from the predicted Tp, in hours, and its sigma
+            offset_h = (published_offset_d + shift_sigma * combined_d) * 24
+            head = (f"periplan: error: {path.name}, row 2, column tp: is {offset_h:.2f} h later than the first "
+                    f"epoch and e/omega put it (1-sigma {combined_d * 24:.2f} h): ")
+            assert err.startswith(head)
+            assert abs(float(err[len(head):].split()[0]) - offset_h / (combined_d * 24)) <= 0.051
         else:
             assert code == 0
             assert "periplan: warning: HD 80606 b: its two epochs disagree by" in err

@@ -154,12 +154,17 @@ def check_second_epoch(cells: Cells, epoch_kind, epoch_err, linear, ra_deg, dec_
     return kind2, np.where(given2, epoch2, np.nan), np.where(given2, err2, 0.0)
 
 
-def check_epoch_agreement(cells: Cells, tension_sigma, kind2):
-    """Refuse rows whose two epochs disagree by more than :data:`EPOCH_REFUSE_SIGMA` combined sigma."""
-    bad = np.isfinite(tension_sigma) & (tension_sigma > EPOCH_REFUSE_SIGMA)
-    for row, s, k in zip(cells.rows[bad], tension_sigma[bad], kind2[bad]):
-        cells.err(row, str(k), f"disagrees with the row's first epoch by {s:.1f} combined sigma (over "
-                  f"{EPOCH_REFUSE_SIGMA:g}); check the epochs, their errors and e/omega", round(float(s), 1))
+def check_epoch_agreement(cells: Cells, offset_d, sigma_d, kind2):
+    """Refuse rows whose two epochs disagree by more than :data:`EPOCH_REFUSE_SIGMA` combined sigma;
+    ``offset_d``, ``sigma_d``: the second epoch less where the first puts it, and its 1-sigma
+    (:func:`planner.orbits.binary_events.epoch_offset`)."""
+    tension = np.abs(offset_d) / sigma_d
+    bad = np.isfinite(tension) & (tension > EPOCH_REFUSE_SIGMA)
+    for row, off, sig, k in zip(cells.rows[bad], offset_d[bad], sigma_d[bad], kind2[bad]):
+        side = "later" if off > 0 else "earlier"
+        cells.err(row, str(k), f"is {abs(off) * 24:.2f} h {side} than the first epoch and e/omega put it "
+                  f"(1-sigma {sig * 24:.2f} h): {abs(off) / sig:.1f} combined sigma, over {EPOCH_REFUSE_SIGMA:g}; "
+                  "check the epochs, their errors and e/omega", round(float(abs(off) / sig), 1))
 
 
 def check_third_body(cells: Cells, ra_deg, dec_deg, system):

@@ -379,8 +379,9 @@ def _validate(cells: checks.Cells):
     table = pd.DataFrame({c: _str_column(columns[c]) if c in TEXT_OUTPUT_COLUMNS else columns[c]
                           for c in OUTPUT_COLUMNS})
     if (kind2 != "").any() and not cells.errors:
-        from ..orbits.binary_events import epoch_tension_sigma
+        from ..orbits.binary_events import epoch_offset
 
-        table["epoch_tension_sigma"] = epoch_tension_sigma(table)
-        binary_checks.check_epoch_agreement(cells, table["epoch_tension_sigma"].to_numpy(float), kind2)
+        offset_d, sigma_d = epoch_offset(table)
+        table["epoch_tension_sigma"] = np.abs(offset_d) / sigma_d
+        binary_checks.check_epoch_agreement(cells, offset_d, sigma_d, kind2)
     return table, n_events

@@ -167,18 +167,19 @@ def extended_events(targets, idx, want, start_bjd_tdb, end_bjd_tdb, pad_d, n_sam
     return idx[r], k, cycle.astype(np.int64), t, sigma
 
 
-def epoch_tension_sigma(targets, n_samples=2000, seed=20261202):
-    """(n,) |T2 - T2 predicted from T1| over its combined 1-sigma, NaN for rows with one epoch.
+def epoch_offset(targets, n_samples=2000, seed=20261202):
+    """((n,) T2 - T2 predicted from T1, (n,) its combined 1-sigma), days; NaN for rows with one epoch.
 
     The prediction carries epoch 1 to the nearest occurrence of epoch 2's event with the elements
     (apsidal motion included); the combined variance is sigma_1^2 + sigma_2^2 + (sigma_P n)^2 +
     P_a^2 var(D) + the omega_dot term, var(D) the unconditioned Monte Carlo spread of the phase
-    between the two events.
+    between the two events. The offset is a difference of BJD_TDB instants, so it holds in the
+    catalogue's own time system too (to far below a second).
     """
-    out = np.full(len(targets), np.nan)
+    offset, sigma = np.full(len(targets), np.nan), np.full(len(targets), np.nan)
     idx = np.flatnonzero((targets["epoch2_kind"].to_numpy(str) != "") & (targets["ephemeris"] == "orbit").to_numpy())
     if idx.size == 0:
-        return out
+        return offset, sigma
     rows = _Rows(targets, idx)
     frames = rows.frames(rows.wdot)
     pa, tpa = frames[0], frames[1]
@@ -193,5 +194,12 @@ def epoch_tension_sigma(targets, n_samples=2000, seed=20261202):
     n_best = n0 + best - 1
     var = (rows.sa**2 + rows.sb**2 + (rows.p_err * (rows.tb - rows.ta) / pa) ** 2 + pa**2 * var_d
            + _wdot_sigma(rows, r, rows.kb, n_best, no_b) ** 2)
-    out[idx] = np.abs(rows.tb - pred) / np.sqrt(var)
-    return out
+    offset[idx], sigma[idx] = rows.tb - pred, np.sqrt(var)
+    return offset, sigma
+
+
+def epoch_tension_sigma(targets, n_samples=2000, seed=20261202):
+    """(n,) |T2 - T2 predicted from T1| over its combined 1-sigma (:func:`epoch_offset`), NaN for
+    rows with one epoch."""
+    offset, sigma = epoch_offset(targets, n_samples, seed)
+    return np.abs(offset) / sigma
