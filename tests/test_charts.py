@@ -206,6 +206,24 @@ def test_rv_chart_curve_matches_radvel_and_marks_events_and_blocks(tmp_path):
         assert label.get_window_extent(renderer).x1 <= marker_x
 
 
+def test_rv_chart_night_labels_of_close_blocks_do_not_overlap():
+    # two blocks of one night 1.2 h apart on a 12.5 d orbit (0.004 in phase), a third of another
+    # night half an orbit later: two labels, the first naming its night once, none overlapping
+    target = parse_catalogue("name,ra,dec,period_d,e,omega_deg,tp,k_ms\nLow,85.1,-10.2,12.5,0.08,20,2461375.2,12\n").iloc[0]
+    blocks = pd.DataFrame([block("2026-12-10", J0 + 0.10, J0 + 0.13, "Low", 0),
+                           block("2026-12-10", J0 + 0.18, J0 + 0.21, "Low", 0),
+                           block("2026-12-16", J0 + 6.35, J0 + 6.38, "Low", 0)])
+    fig = charts.rv_figure(target, blocks)
+    ax = fig.axes[0]
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    labels = [t for t in ax.texts if t.get_gid() == "night_label"]
+    assert sorted(t.get_text() for t in labels) == ["2026-12-10", "2026-12-16"]
+    boxes = [t.get_window_extent(renderer) for t in labels]
+    assert not boxes[0].overlaps(boxes[1])
+    assert len(by_gid(ax.get_lines(), "planned")) == 3  # every block keeps its marker
+
+
 def test_rv_chart_needs_an_orbit():
     from planner.errors import PeriplanError
 

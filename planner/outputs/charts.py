@@ -343,6 +343,7 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, style
         ra, dec = float(target["ra_deg"]), float(target["dec_deg"])
         s = to_bjd_tdb(blocks["start_jd_utc"].to_numpy(float), "JD_UTC", ra, dec)
         en = to_bjd_tdb(blocks["end_jd_utc"].to_numpy(float), "JD_UTC", ra, dec)
+        night_marks = []
         for j, ((_, b), s_b, e_b) in enumerate(zip(blocks.iterrows(), s, en)):
             p0 = np.mod((s_b - tp) / p, 1.0)
             width = min((e_b - s_b) / p, 1.0)
@@ -354,8 +355,10 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, style
             mid_rv = geometry.radial_velocity(mid_bjd, tp, p, e, w, k if known_k else 1.0, gamma) / scale
             ax.plot([mid_ph], [mid_rv], marker=style.marker, color="#d08c00", markeredgecolor="black", ls="none",
                     markersize=7, gid="planned", label="planned (block middle)" if j == 0 else None)
+            night_marks.append((p0, width, str(b["night"])))
+        for p0, width, text in _merged_marks(night_marks):
             left = p0 > 0.03  # beside the span, clear of the marker in its middle; right of it at the axis
-            ax.annotate(str(b["night"]), (p0 if left else p0 + width, 0.02), xycoords=("data", "axes fraction"),
+            ax.annotate(text, (p0 if left else p0 + width, 0.02), xycoords=("data", "axes fraction"),
                         fontsize=7, xytext=(-5 if left else 5, 0), textcoords="offset points", rotation=90,
                         va="bottom", ha="right" if left else "left", gid="night_label")
     if logged_jd_utc is not None and len(logged_jd_utc):
@@ -374,6 +377,25 @@ def rv_figure(target: pd.Series, blocks: pd.DataFrame, n_phase: int = 600, style
     ax.set_title(f"{target['name']}: RV over one orbit (P = {p:.4g} d, e = {e:.3g}); shaded = planned blocks",
                  fontsize=10)
     return fig
+
+
+#: Night labels of blocks closer than this in phase (about a label's height on the RV chart's
+#: axis) share one label.
+_LABEL_GAP_PHASE = 0.015
+
+
+def _merged_marks(marks):
+    """(phase, width, text) of the night labels, those within :data:`_LABEL_GAP_PHASE` of the one
+    before them in phase joined into one ("2026-12-10" once; "2026-12-10 / 2027-01-22")."""
+    out = []
+    for p0, width, text in sorted(marks):
+        if out and p0 - out[-1][0] < _LABEL_GAP_PHASE:
+            q0, q_width, q_text = out[-1]
+            texts = q_text.split(" / ")
+            out[-1] = (q0, max(q_width, p0 + width - q0), q_text if text in texts else f"{q_text} / {text}")
+        else:
+            out.append((p0, width, text))
+    return out
 
 
 def write_rv_chart(path, target, blocks, n_phase: int = 600, **marks):
