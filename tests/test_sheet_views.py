@@ -18,6 +18,7 @@ import pytest
 
 from conftest import REPO, SAMPLE_TARGETS
 from planner.outputs import sheet_pointing, sheets, week_page
+from planner.outputs.chart_marks import event_words
 from test_sheets import J0, NIGHT, TZ, blocks_shuffled
 
 
@@ -126,7 +127,9 @@ def test_a_long_list_of_losses_keeps_the_highest_priority_rows_on_the_page(week,
     page = html.unescape("".join(week_page._unscheduled_lines(plan, ["unscheduled.csv"])))
     cells = re.findall(r"<tr><td>([^<]*)</td><td>([^<]*)</td>", page)  # target, event in words
     assert len(cells) == 2
-    shown = [groups[(t, e.replace(" ", "_"))].max() for t, e in cells]
+    labels = dict(zip(plan.targets["name"], plan.targets["label"]))
+    shown = [max(p for (tt, ev, _), p in groups.items() if tt == t and event_words(ev, labels[t]) == words)
+             for t, words in cells]
     assert min(shown) == groups.sort_values(ascending=False).iloc[1]  # the two of highest priority
     assert f"of {len(groups)}; " in page and 'href="unscheduled.csv"' in page and f"({len(un)})" in page
 

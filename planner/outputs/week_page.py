@@ -120,9 +120,11 @@ def _unscheduled_lines(plan, files=()) -> list[str]:
                 f"{csv} lists every request ({len(un)}).</p>"]
         groups = groups.loc[np.sort(shown)]
     rows = []
+    targets = getattr(plan, "targets", None)
+    labels = dict(zip(targets["name"], targets["label"])) if targets is not None and "label" in targets else {}
     for t, ev, _code, k, lo, hi, best, why, _p in groups.itertuples(index=False):
         value = f"{best:.0f}" if np.isfinite(best) else ""
-        rows.append([e(str(t)), e(str(ev).replace("_", " ")), f'<td class="num">{k}</td>',
+        rows.append([e(str(t)), e(event_words(ev, labels.get(t))), f'<td class="num">{k}</td>',
                      e(lo if lo == hi else f"{lo} to {hi}"), f'<td class="num">{e(value)}</td>', e(str(why))])
     return note + _table(["target", "event", "requests", "nights", "best value", "reason"], rows)
 
