@@ -44,7 +44,7 @@ CATALOGUE_EXPECTED = {
     "missing_epoch_value.csv": (2, "tc", "missing epoch"),
     # tp with tc is allowed since issue 14 (two epochs), but only with both 1-sigma errors
     "two_epochs.csv": (2, "tp_err_d", "two epochs need both 1-sigma errors"),
-    "epochs_inconsistent.csv": (2, "tp", "combined sigma (over 10)"),
+    "epochs_inconsistent.csv": (2, "tp", "h earlier than the first epoch and e/omega put it"),
     "omega_dot_no_unit.csv": (1, "omega_dot", "omega_dot has no unit"),
     "period_kind_unknown.csv": (2, "period_kind", "expected 'sidereal' or 'anomalistic'"),
     "shape_both_parametrisations.csv": (2, "ecosw", "both e/omega_deg and ecosw/esinw are given"),

@@ -140,3 +140,20 @@ def test_target_with_no_default_event_is_named_in_a_warning():
         "cat.csv: row 2: no event to predict (a circular or nearly circular orbit without k_ms, eclipse geometry or "
         "duration_h); "
         "name the wanted events in column events"]
+
+
+def test_a_linear_ephemeris_given_as_tc_is_a_primary_conjunction():
+    # HAT-P-2 b's transit ephemeris alone (Pal et al. 2010, abstract: P, Tc), without e and omega:
+    # a linear ephemeris whose epoch column says primary conjunction; a t0 row without a label
+    # stays 'periodic'
+    t = load("name,ra,dec,period_d,tc,t0,duration_h\n"
+             f"HAT-P-2 b,16:20:36.36,+41:02:53.1,{P},{TC},,4.3\n"
+             "Puls,10,20,0.137,,2461000.1,\n")
+    assert t["label"].tolist() == [geometry.LINEAR_TC_LABEL, "periodic"] == ["primary conjunction", "periodic"]
+    start, end = 2461000.0, 2461030.0
+    for word in ("transit", "primary_conjunction", "Primary eclipse"):
+        kept = predict_events(t, start, end, kinds=[word])
+        assert set(kept.target) == {"HAT-P-2 b"} and set(kept.event) == {"periodic"}
+        n = np.ceil((start - TC) / P)
+        assert abs(kept.bjd_tdb.iloc[0] - (TC + n * P)) <= 1e-6 and len(kept) == 6  # 30 d / 5.63 d
+    assert predict_events(t, start, end, kinds=["maximum"]).empty

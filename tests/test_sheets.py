@@ -110,6 +110,16 @@ def test_blocks_are_listed_in_time_order_with_what_and_why():
     assert "one visit" in text  # the flexible block's action
 
 
+def test_what_to_do_for_a_linear_ephemeris_says_which_event():
+    # a linear ephemeris given as tc is a transit or primary eclipse; an unlabelled one an event
+    # of its period; a labelled one its label
+    for label, words in (("primary conjunction", "photometric time series of the transit or primary eclipse"),
+                         ("periodic", "photometric time series around the predicted periodic event"),
+                         ("light maximum", "photometric time series around the predicted light maximum")):
+        b = block(0.10, 0.20, "Lin", event="periodic", request="series", label=label)
+        assert sheets.action(b) == words
+
+
 def test_html_escapes_names_and_notes_and_has_print_styling():
     evil = "<Tgt & Co> \"b\""
     blocks = pd.DataFrame([block(0.3, 0.4, evil, notes="alt < 30 & <script>")])[list(schedule.SCHEDULE_COLUMNS)]

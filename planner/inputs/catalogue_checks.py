@@ -21,8 +21,8 @@ import pyarrow.compute as pc
 
 from .. import numerics
 from ..errors import InputError
-from ..orbits.geometry import (EVENT_WORDS, ORBIT_EVENTS, PERIODIC_EVENT, PERIODIC_KINDS, canonical_event,
-                               periodic_kind)
+from ..orbits.geometry import (EVENT_WORDS, LINEAR_TC_LABEL, ORBIT_EVENTS, PERIODIC_EVENT, PERIODIC_KINDS,
+                               canonical_event, periodic_kind)
 from ..timescales import epochs
 from .csv_records import NumberCells
 
@@ -655,7 +655,7 @@ def default_events(linear, e, rv, eclipse) -> tuple:
     return tuple(ev for ev in ORBIT_EVENTS if wanted[ev])
 
 
-def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
+def check_events(cells: Cells, linear, e, rv=None, eclipse=None, epoch_kind=None):
     """(events, labels, counts): each row's tuple of wanted event names, the label of its event,
     and how many events the tuple holds.
 
@@ -664,7 +664,8 @@ def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
     linear ephemeris may say ``maximum`` or ``minimum`` (then its label, when empty, says so).
     An empty cell gets :func:`default_events` (``rv``: rows with k_ms, ``eclipse``: rows with a
     duration or eclipse geometry; both False when not given). A linear ephemeris is labelled
-    ``periodic`` unless ``label`` or the events column says otherwise.
+    ``periodic`` unless ``label`` or the events column says otherwise, or :data:`LINEAR_TC_LABEL`
+    when its ``epoch_kind`` (``tp``/``tc``/``t0`` per row, optional) is ``tc``.
     """
     n = cells.n
     rv = np.zeros(n, bool) if rv is None else np.asarray(rv, bool)
@@ -726,12 +727,13 @@ def check_events(cells: Cells, linear, e, rv=None, eclipse=None):
     events = table[index]
     counts = np.array([len(c) for c in choices], dtype=np.int64)[index]
     # the label: the column's, else the kind the events column names, else "periodic" for a linear ephemeris
-    names = list(label_texts) + list(PERIODIC_KINDS) + ["periodic", ""]
+    names = list(label_texts) + list(PERIODIC_KINDS) + ["periodic", LINEAR_TC_LABEL, ""]
     single = np.array([next(iter(p[1])) if len(p[1]) == 1 else PERIODIC_KINDS[0] for p in parsed])[codes]
     kind_code = len(label_texts) + np.searchsorted(np.array(PERIODIC_KINDS), single)
     named = open_ & (n_kinds == 1) & ~labelled
-    label = np.where(labelled, label_codes, np.where(named, kind_code, np.where(
-        linear, len(names) - 2, len(names) - 1)))
+    from_tc = np.zeros(n, bool) if epoch_kind is None else np.asarray(epoch_kind == "tc", bool)
+    unnamed = np.where(linear, np.where(from_tc, len(names) - 2, len(names) - 3), len(names) - 1)
+    label = np.where(labelled, label_codes, np.where(named, kind_code, unnamed))
     return events, Coded(label, names), counts
 
 

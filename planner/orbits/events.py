@@ -116,9 +116,10 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
         Keep only these event names: intersected with the ``events`` list of a target whose
         catalogue names its events (``events_given``), else with every event its elements define
         (the filter asks for them, beyond the target's defaults). The
-        aliases of :data:`planner.orbits.geometry.EVENT_ALIASES` are accepted, and ``maximum`` /
+        aliases of :data:`planner.orbits.geometry.EVENT_ALIASES` are accepted, ``maximum`` /
         ``minimum`` keep the periodic events whose label says so
-        (:func:`planner.orbits.geometry.periodic_kind`).
+        (:func:`planner.orbits.geometry.periodic_kind`), and ``primary_conjunction`` those of a
+        linear ephemeris given as ``tc`` (:data:`planner.orbits.geometry.LINEAR_TC_LABEL`).
     reach_d : array of shape (n,), optional
         Days (>= 0) by which each target's span reaches beyond the span on either side: row i
         gets its events with start - reach_d[i] <= t < end + reach_d[i] (a planner looking as far
@@ -160,7 +161,8 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
             evs = (ORBIT_EVENTS if e[i] > 0 else _CIRCULAR_EVENTS) if orb else (PERIODIC_EVENT,)
         for ev in evs:
             if wanted_kinds is None or ev in wanted_kinds or (
-                    ev == PERIODIC_EVENT and geometry.periodic_kind(label) in wanted_kinds):
+                    ev == PERIODIC_EVENT and (geometry.periodic_kind(label) in wanted_kinds or (
+                        label == geometry.LINEAR_TC_LABEL and "primary_conjunction" in wanted_kinds))):
                 want[i, names.index(ev)] = True
         if not orb:
             want[i, :6] = False

@@ -44,6 +44,10 @@ EVENT_ALIASES = {
 #: label (a label holding the word ``maximum``/``max`` or ``minimum``/``min``, as "light maximum"
 #: or "Min I"); as a filter, ``maximum`` keeps the periodic events of such targets only.
 PERIODIC_KINDS = ("maximum", "minimum")
+#: The label of a linear ephemeris whose epoch is given as ``tc`` and that names no label or kind
+#: of its own: the column says the epoch is a primary conjunction (a transit or primary eclipse),
+#: and ``--kinds primary_conjunction`` (or ``transit``) keeps its events.
+LINEAR_TC_LABEL = "primary conjunction"
 #: Every word accepted as an event name.
 EVENT_WORDS = ALL_EVENTS + tuple(EVENT_ALIASES) + PERIODIC_KINDS
 _PERIODIC_KIND_WORDS = {"maximum": "maximum", "max": "maximum", "minimum": "minimum", "min": "minimum"}

@@ -27,6 +27,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from ..orbits.geometry import PERIODIC_EVENT
 from ..sky.limits import REASONS as LIMIT_REASONS
 from ..sky.limits import limit_codes
 from ..timescales.clock import jd_utc_to_iso_z
@@ -118,8 +119,10 @@ def _rivals(starts, ends, sites, schedule, both):
         b0, b1 = block["start_jd_utc"].to_numpy(float), block["end_jd_utc"].to_numpy(float)
         lo = np.searchsorted(np.maximum.accumulate(b1), starts[rows], side="right")
         hi = np.searchsorted(b0, ends[rows], side="left")
-        names = [f"{t} {str(e).replace('_', ' ')} ({v:.0f})"
-                 for t, e, v in zip(block["target"], block["event"], block["score"].to_numpy(float))]
+        labels = block["label"] if "label" in block else [""] * len(block)
+        names = [f"{t} {label if e == PERIODIC_EVENT and isinstance(label, str) and label else str(e).replace('_', ' ')}"
+                 f" ({v:.0f})" for t, e, label, v in zip(block["target"], block["event"], labels,
+                                                        block["score"].to_numpy(float))]
         runs, which = np.unique(np.stack([lo, hi], axis=1), axis=0, return_inverse=True)
         texts = np.array([LOST + (", ".join(names[a:b]) or "the week's other blocks") for a, b in runs], dtype=object)
         out[rows] = texts[which.ravel()]
