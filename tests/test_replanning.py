@@ -111,6 +111,34 @@ def test_a_lost_rare_event_is_rescheduled_on_the_next_night_that_sees_it():
     assert "T4" in later.schedule["covers"].iloc[0] and "post" in later.schedule["covers"].iloc[0]
 
 
+def test_a_partial_log_leaves_the_new_parts_worth_their_share_and_the_sheet_says_so():
+    # The long transit of the test above, planned for the night of the 8th alone: its block
+    # covers T4 and the baseline after. The log already holds that baseline ('post', partial):
+    # the same block is worth half (1 of its 2 parts is new), and its Why shows the factor, so
+    # the printed factors multiply to the printed score.
+    from planner.outputs import sheets
+
+    cat = pd.DataFrame({"name": ["Long Transit"], "ra": [10.0], "dec": [85.0], "period_d": [40.0], "e": [0.0],
+                        "tc": [2461382.875], "tc_err_d": [0.001], "duration_h": [20.0], "priority": [3],
+                        "events": ["primary_conjunction"], "observe": ["photometry"]})
+    targets = planner.read_catalogue(cat)
+    site = planner.read_site(SITE)
+    night = dt.date(2026, 12, 8)
+    plan = planner.make_plan(targets, site, night, 1)
+    first = plan.schedule.iloc[0]
+    assert first["covers"] == "T4;post" and first["logged_parts"] == ""
+    frame = log_template_frame(plan.schedule).assign(outcome="partial", covers="post")
+    again = planner.make_plan(targets, site, night, 1, log=parse_log(frame.to_csv(index=False), targets, "log.csv"))
+    b = again.schedule.iloc[0]
+    assert (b["covers"], b["logged_parts"]) == ("T4;post", "post")
+    assert abs(b["score"] - 0.5 * first["score"]) <= 1e-9 * first["score"]
+    why = sheets.reasons(b)
+    assert why[2] == "new parts x0.50 (post-baseline logged already)"
+    points = sum(b[c] for c in ("pts_coverage", "pts_airmass", "pts_moon", "pts_timing"))
+    assert abs(b["x_priority"] * b["x_rarity"] * 0.5 * points - b["score"]) <= 1e-9 * b["score"]
+    assert "logged_parts" in planner.display_frame(again.schedule, site.timezone)
+
+
 def test_monitor_visits_keep_their_gap_from_the_last_logged_visit(demo):
     targets, site, plan = demo
     gap_d = float(targets.loc[targets["name"] == "Lantisca-4", "visit_gap_h"].iloc[0]) / 24.0

@@ -15,6 +15,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import TimeScaleError
+from ..scheduling.log_requests import new_parts_share
 from ..timescales import clock
 from . import explain
 from .atomic import atomic_write
@@ -52,8 +53,11 @@ def _description(b: pd.Series) -> str:
             lines.append(f"Covers: {covers}" + (f"; not covered: {missing}" if isinstance(missing, str) and missing else ""))
     parts, total = explain.block_points(b)  # printed parts add up to the printed total
     pts = " + ".join(f"{c[4:]} {v:.1f}" for c, v in parts.items())
+    logged = b.get("logged_parts")
+    new = (f"x new parts {new_parts_share(b.get('covers', ''), logged):.2f} ({logged} logged already) "
+           if isinstance(logged, str) and logged else "")
     lines.append(f"Score: {b['score']:.1f} = priority {b['x_priority']:g} x rarity {b['x_rarity']:.2f} "
-                 f"x conditions {total:.1f} points ({pts})")
+                 f"{new}x conditions {total:.1f} points ({pts})")
     if isinstance(b.get("notes"), str) and b["notes"]:
         lines.append(f"Notes: {b['notes']}")
     lines.append(CAUTION_SHORT)

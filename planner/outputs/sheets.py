@@ -25,7 +25,8 @@ from ..orbits.geometry import LINEAR_TC_LABEL, PERIODIC_EVENT
 from ..sky.night import darkness_of
 from ..scheduling.blocks import MIN_PER_DAY
 from ..scheduling.phase_requests import phase_of_event, phase_text
-from ..scheduling.series_parts import parts_in_words
+from ..scheduling.log_requests import new_parts_share
+from ..scheduling.series_parts import PART_WORDS, parts_in_words
 from ..timescales import clock
 from . import explain
 from . import sheet_pointing, sheet_style
@@ -189,6 +190,11 @@ def reasons(block) -> list[str]:
     period = block["period_d"]
     recurs = f"event recurs every {period:.4g} d" if np.isfinite(period) else "no event: a visit"
     out = [f"priority {block['x_priority']:g}", f"rarity x{block['x_rarity']:.2f} ({recurs})"]
+    logged = _logged_parts(block)
+    if logged:
+        share = new_parts_share(block.get("covers", ""), logged)
+        out.append(f"new parts x{share:.2f} ({', '.join(PART_WORDS.get(p, p) for p in logged.split(';'))} "
+                   "logged already)")
     pts, total = explain.block_points(block)
     conditions = []
     frac = block["observable_fraction"]
@@ -214,6 +220,12 @@ def reasons(block) -> list[str]:
     return out
 
 
+def _logged_parts(block) -> str:
+    """The parts of a series block that the observation log holds already (``""``: none)."""
+    logged = block.get("logged_parts", "")
+    return logged if isinstance(logged, str) else ""
+
+
 def shared_score(block):
     """(own, other) phrases of a block serving two requests, ``"228.5 for the periastron"`` and
     ``"257.9 for the rv min it serves too"`` (rounded so that they add up to the printed score),
@@ -221,6 +233,7 @@ def shared_score(block):
     serves = str(block.get("serves", "") or "").split(";")
     own = block["x_priority"] * block["x_rarity"] * sum(block[c] for c in ("pts_coverage", "pts_airmass", "pts_moon",
                                                                             "pts_timing"))
+    own *= new_parts_share(block.get("covers", ""), _logged_parts(block))
     if len(serves) < 2 or abs(block["score"] - own) <= 1e-6:
         return None
     (mine, other), _ = explain.rounded_parts([own, block["score"] - own])
@@ -421,8 +434,8 @@ def night_sheet_html(night, blocks: pd.DataFrame, tz: str | None = None, site_na
             out.append(f"<p>{e(covers_line(b))}</p>")
         items = "".join(f"<li>{e(r)}</li>" for r in reasons(b))
         shared = shared_score(b)
-        why = (f"{e(shared[0])} + {e(shared[1])}; the first = priority x rarity x conditions" if shared
-               else "priority x rarity x conditions")
+        factors = "priority x rarity x new parts x conditions" if _logged_parts(b) else "priority x rarity x conditions"
+        why = f"{e(shared[0])} + {e(shared[1])}; the first = {factors}" if shared else factors
         out.append(f"<p><strong>Why:</strong> score {b['score']:.1f} = {why}</p><ul>{items}</ul>")
         if isinstance(b["notes"], str) and b["notes"]:
             out.append(f'<p class="notes">Notes: {e(b["notes"])}.</p>')

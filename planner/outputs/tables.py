@@ -104,7 +104,8 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
     """The schedule for people and spreadsheets: ISO times in UTC and local time, minutes, notes.
 
     Columns ``night, start_utc, end_utc, start_local, end_local, target, event, serves, label,
-    kind, request, covers, not_covered, t1_utc .. t4_utc, event_utc, event_sigma_min, score,
+    kind, request, covers, not_covered, logged_parts (parts of a series the observation log
+    holds already), t1_utc .. t4_utc, event_utc, event_sigma_min, score,
     x_priority, x_rarity, pts_*, science_fraction, alt_low_deg, alt_event_deg, alt_t1_deg ..
     alt_t4_deg, airmass, moon_sep_deg, moon_illumination, observable_fraction, notes``. Local
     columns are empty without ``tz`` (an IANA zone name); a contact's time is empty when unknown;
@@ -128,6 +129,7 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
         "label": schedule["label"].to_numpy(object), "kind": schedule["kind"].to_numpy(object),
         "request": schedule["request"].to_numpy(object), "covers": schedule["covers"].to_numpy(object),
         "not_covered": schedule["not_covered"].to_numpy(object),
+        "logged_parts": [p if isinstance(p, str) else "" for p in schedule.get("logged_parts", [""] * n)],
     })
     if "site" in schedule:  # a campaign of several sites: which telescope observes the block
         frame.insert(1, "site", schedule["site"].to_numpy(object))

@@ -48,7 +48,7 @@ SCHEDULE_COLUMNS = (
     "alt_event_deg",
 ) + tuple(f"alt_{c}_deg" for c in CONTACT_NAMES) + (
     "airmass", "moon_sep_deg", "moon_illumination",
-) + SCORE_COLUMNS + ("notes",)
+) + SCORE_COLUMNS + ("logged_parts", "notes")
 
 
 @dataclass(frozen=True)

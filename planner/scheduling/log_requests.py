@@ -67,6 +67,15 @@ def _instances(log, visible):
     return keys
 
 
+def new_parts_share(covers: str, logged_parts: str) -> float:
+    """Share of a series block's parts (``covers``, ``;``-separated names) that the log does not
+    hold yet (``logged_parts``): the factor on its value; 1.0 for a block with no parts."""
+    mine = {p for p in str(covers).split(";") if p}
+    if not mine:
+        return 1.0
+    return len(mine - {p for p in str(logged_parts).split(";") if p}) / len(mine)
+
+
 def logged_instances(log: pd.DataFrame | None, targets: pd.DataFrame, visible: pd.DataFrame) -> dict:
     """{instance key ``ti|event|minute`` (:func:`planner.scheduling.blocks.instance_keys`): the log
     rows (done or partial) that observed it} for the event instances of ``visible``."""
@@ -85,6 +94,7 @@ def apply_log(cands: pd.DataFrame, monitors: pd.DataFrame, log: pd.DataFrame | N
     keys = instance_keys(cands["target_index"], cands["event"], cands["event_jd_utc"])
     keep = np.ones(len(cands), bool)
     score = cands["score"].to_numpy(float).copy()
+    logged_parts = np.full(len(cands), "", dtype=object)
     for k, (key, c) in enumerate(zip(keys, cands.itertuples())):
         rows = logged.get(key)
         if not rows:
@@ -101,19 +111,20 @@ def apply_log(cands: pd.DataFrame, monitors: pd.DataFrame, log: pd.DataFrame | N
         for r in rows:
             parts = r.covers or parts_covered(r.start_jd_utc, r.end_jd_utc, c.event_jd_utc, c.t4_jd_utc - c.t1_jd_utc)
             had |= set(parts.split(";")) - {""}
-        mine = set(str(c.covers).split(";")) - {""}
-        new = mine - had
-        if mine and not new:
+        mine = [p for p in str(c.covers).split(";") if p]
+        logged_parts[k] = ";".join(p for p in mine if p in had)
+        share = new_parts_share(str(c.covers), logged_parts[k])
+        if share == 0.0:
             keep[k] = False
-        elif mine:
-            score[k] *= len(new) / len(mine)
+        else:
+            score[k] *= share
     done = log[log["outcome"] == "done"]
     for ti, wanted in enumerate(targets["campaign_events"] if "campaign_events" in targets else []):
         for event, n in (wanted or {}).items():
             if int(((done["target_index"] == ti) & (done["purpose"] == event)).sum()) >= n:
                 keep &= ~((cands["target_index"].to_numpy(int) == ti) & (cands["event"].to_numpy(object) == event))
     keep &= ~_logged_phases(cands, log)
-    out = cands.assign(score=score)[keep].reset_index(drop=True)
+    out = cands.assign(score=score, logged_parts=logged_parts)[keep].reset_index(drop=True)
     if len(monitors):
         last = log[log["outcome"].isin(USED)].groupby("target_index")["start_jd_utc"].max()
         prev = last.reindex(monitors["target_index"].to_numpy(int)).to_numpy(float)

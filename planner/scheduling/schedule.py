@@ -214,6 +214,7 @@ def assemble(blocks, visits, week: WeekCandidates, nights, altitude_deg, options
     chosen, alt_fixed = with_altitudes(blocks, altitude_deg)
     alts = list(alt_fixed) + list(week.alt_monitors[visits.index.to_numpy()])
     chosen = pd.concat([chosen, visits[list(SCHEDULE_COLUMNS)]], ignore_index=True) if len(visits) else chosen
+    chosen["logged_parts"] = [p if isinstance(p, str) else "" for p in chosen["logged_parts"]]
     night_rows = {str(r["night"]): r for _, r in nights.iterrows()}
     chosen["notes"] = [
         _notes(b, np.asarray(a, float), night_rows.get(str(b["night"])), options, tz,
