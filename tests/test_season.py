@@ -124,6 +124,19 @@ def test_chart_draws_one_bar_per_observable_event_and_a_row_per_pair(months):
     assert "Varda-7 b: primary conjunction" in labels and not any("_" in lab for lab in labels)
 
 
+def test_a_linear_ephemeris_given_as_tc_is_drawn_as_a_primary_conjunction():
+    from planner.outputs.season_chart import EVENT_LOOK, season_figure
+
+    table = pd.DataFrame({"target": ["Lin", "Puls"], "event": ["periodic", "periodic"],
+                          "label": ["primary conjunction", "light maximum"], "jd_utc": [2461390.6, 2461400.6],
+                          "observable_fraction": [0.8, 0.6]})
+    fig = season_figure(table, 2461381.5, 2461472.5)
+    legend = {t.get_text() for t in fig.legends[0].get_texts()}
+    assert legend == {"primary conjunction", "periodic event"}
+    markers = [ln.get_marker() for ln in fig.axes[0].get_lines()]
+    assert markers == [EVENT_LOOK["primary_conjunction"][1], EVENT_LOOK["periodic"][1]]
+
+
 @pytest.mark.parametrize("extra, words", [
     (["--months", "0"], "--months must be a whole number from 1 to 24"),
     (["--months", "3", "--min-fraction", "1.5"], "--min-fraction must be a fraction between 0 and 1"),

@@ -13,6 +13,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from ..orbits.geometry import LINEAR_TC_LABEL, PERIODIC_EVENT
 from ..timescales.clock import UNIX_EPOCH_JD
 from .chart_marks import event_words
 from .charts import _figure, save_png
@@ -53,13 +54,14 @@ def season_figure(season: pd.DataFrame, first_jd_utc: float, last_jd_utc: float,
             (season["event"].astype(str).to_numpy() == event)
         if not here.any():
             continue
-        colour, marker = EVENT_LOOK.get(event, ("#444444", "o"))
+        look = "primary_conjunction" if event == PERIODIC_EVENT and label == LINEAR_TC_LABEL else event
+        colour, marker = EVENT_LOOK.get(look, ("#444444", "o"))
         xs, hs = x_all[here], BAR_HEIGHT * frac[here]
         ax.vlines(xs, y, y + hs, color=colour, lw=1.6, gid="season_event")
-        ax.plot(xs, y + hs, ls="none", marker=marker, color=colour, markersize=4 if event == "periodic" else 5,
+        ax.plot(xs, y + hs, ls="none", marker=marker, color=colour, markersize=4 if look == PERIODIC_EVENT else 5,
                 markeredgecolor="black", markeredgewidth=0.4,
-                label=None if event in seen_kinds else event_words(event, "periodic event"))
-        seen_kinds.add(event)
+                label=None if look in seen_kinds else event_words(look, "periodic event"))
+        seen_kinds.add(look)
     ax.set_yticks(np.arange(n) + BAR_HEIGHT / 2, [f"{t}: {event_words(e, lab)}" for t, e, lab in keys][::-1], fontsize=8)
     ax.set_ylim(-0.3, max(n, 1) - 0.05)
     ax.set_xlim(first_jd_utc - UNIX_EPOCH_JD, last_jd_utc - UNIX_EPOCH_JD)
