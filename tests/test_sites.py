@@ -119,7 +119,7 @@ def test_a_campaign_warns_of_a_target_that_never_rises_at_one_site(files, capsys
     err = capsys.readouterr().err
     warnings = [ln for ln in err.splitlines() if "never rises" in ln]
     assert len(warnings) == 1
-    assert warnings[0].startswith("periplan: warning: Polar EB never rises high enough at North test ridge: "
-                                  "culminates at -35.8 deg")
+    assert warnings[0] == ("periplan: warning: Polar EB never rises high enough at North test ridge: "
+                           "culminates at -35.8 deg, below the 25.0 deg altitude limit")  # the site named once
     listed = [p for p in out.glob("*/unobservable.csv")]
     assert len(listed) == 1 and "Polar EB" in listed[0].read_text()

@@ -318,7 +318,7 @@ def never_rising(targets: pd.DataFrame, site) -> pd.DataFrame:
     rows = np.flatnonzero(low | dec_bad)
     reasons = [
         (f"declination {dec[i]:+.2f} deg is outside the mount's limits" if dec_bad[i] else
-         f"culminates at {culm[i]:.1f} deg, below the {limit[i]:.1f} deg limit at {site.name}")
+         f"culminates at {culm[i]:.1f} deg, below the {limit[i]:.1f} deg altitude limit")
         for i in rows
     ]
     return pd.DataFrame({
