@@ -175,6 +175,15 @@ def test_phase_bins_ask_for_visits_in_the_empty_bins_only():
     bins = np.floor(np.mod((mid_bjd - tp) / p, 1.0) * 10).astype(int)
     assert set(bins) == {3}  # 9.5 min of light time against a 3.9-day bin: no edge case here
     assert len(phase_visits) == 1  # a bin is filled once
+    # its value: 1 + the share of the orbit in its empty run (1 bin of 10) times the visit's own
+    # score; the sheet's factors multiply to it
+    from planner.outputs import sheets
+
+    b = phase_visits.iloc[0]
+    points = sum(b[c] for c in ("pts_coverage", "pts_airmass", "pts_moon", "pts_timing"))
+    assert abs(b["x_rarity"] - 1.1) <= 1e-12
+    assert abs(b["x_priority"] * 1.1 * points - b["score"]) <= 1e-9 * b["score"]
+    assert sheets.reasons(b)[1].startswith("gap x1.10 (1 + the share of the orbit in the run of empty phase bins")
 
 
 def test_campaign_event_count_stops_requests_once_reached(demo):

@@ -25,7 +25,7 @@ from ..orbits.geometry import LINEAR_TC_LABEL, PERIODIC_EVENT
 from ..sky.night import darkness_of
 from ..scheduling.blocks import MIN_PER_DAY
 from ..scheduling.phase_requests import phase_of_event, phase_text
-from ..scheduling.log_requests import new_parts_share
+from ..scheduling.log_requests import PHASE_GROUP, new_parts_share
 from ..scheduling.series_parts import PART_WORDS, parts_in_words
 from ..timescales import clock
 from . import explain
@@ -190,6 +190,8 @@ def reasons(block) -> list[str]:
     period = block["period_d"]
     recurs = f"event recurs every {period:.4g} d" if np.isfinite(period) else "no event: a visit"
     out = [f"priority {block['x_priority']:g}", f"rarity x{block['x_rarity']:.2f} ({recurs})"]
+    if str(block.get("group", "")).startswith(PHASE_GROUP):  # a phase-coverage visit
+        out[1] = f"gap x{block['x_rarity']:.2f} (1 + the share of the orbit in the run of empty phase bins it fills)"
     logged = _logged_parts(block)
     if logged:
         share = new_parts_share(block.get("covers", ""), logged)

@@ -169,7 +169,7 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
     it: it may start anywhere in that stretch (``earliest_start_jd_utc`` .. ``latest_start_jd_utc``,
     the whole visit inside the bin), proposed where the target is highest. Its value is the visit's
     score (priority, airmass, Moon; no rarity) times 1 + the share of the orbit's bins in the
-    empty run it sits in (1 to 2), so among the phase visits the largest gaps of the most
+    empty run it sits in (1 to 2; kept as its ``x_rarity``), so among the phase visits the largest gaps of the most
     important targets are filled first. That value is weighed against other phase visits only:
     the scheduler places phase visits in the time the week's events and monitor visits leave
     (:mod:`planner.scheduling.choose`), so none ever takes the place of an event, of any
@@ -241,8 +241,11 @@ def phase_candidates(log: pd.DataFrame | None, targets: pd.DataFrame, intervals:
     out["alt_low_deg"], out["airmass"], out["moon_sep_deg"], out["moon_illumination"] = alt.min(axis=1), x, sep, illum
     for c in sc.columns:
         out[c] = sc[c].to_numpy()
+    # the gap factor takes the place of the rarity factor (1 for a visit), so that the sheet's
+    # factors multiply to the score: 1 + the share of the orbit in the empty run of bins
     n_bins = targets["phase_bins"].to_numpy(float)[ti]
-    out["score"] = out["score"].to_numpy() * (1.0 + np.array([r[5] for r in rows], float) / n_bins)
+    out["x_rarity"] = 1.0 + np.array([r[5] for r in rows], float) / n_bins
+    out["score"] = out["score"].to_numpy() * out["x_rarity"].to_numpy()
     return out, alt
 
 
