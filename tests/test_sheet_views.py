@@ -169,3 +169,22 @@ def test_week_page_tables_name_events_in_words(week):
     cells = re.findall(r"<td>([^<]*)</td>", page)
     assert not [c for c in cells if "_" in c]  # primary conjunction, never primary_conjunction
     assert "<1%" not in page  # escaped where shown
+
+
+def test_every_blocks_printed_factors_multiply_to_its_score(week):
+    # The Why of each block lists factors and points; they must give the score it prints (a
+    # block serving two requests prints the two parts, which add up). Monitor visits carry a
+    # tie-break of at most 0.01 % towards the middle of their stretch (planner.scheduling.monitor).
+    from planner.scheduling.log_requests import new_parts_share
+
+    plan, _ = week
+    assert len(plan.schedule)
+    for _, b in plan.schedule.iterrows():
+        points = sum(b[c] for c in ("pts_coverage", "pts_airmass", "pts_moon", "pts_timing"))
+        own = b["x_priority"] * b["x_rarity"] * points * new_parts_share(b["covers"], b["logged_parts"])
+        shared = sheets.shared_score(b)
+        if shared is None:
+            assert abs(own - b["score"]) <= 1e-4 * b["score"], (b["target"], b["event"])
+        else:
+            parts = [float(text.split()[0]) for text in shared]
+            assert abs(sum(parts) - round(b["score"], 1)) <= 0.051 and abs(parts[0] - own) <= 0.051
