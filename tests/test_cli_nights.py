@@ -148,3 +148,19 @@ def test_one_night_is_counted_in_the_singular(capsys):
     code = cli.main(["nights", "--site", str(SAMPLE_SITE), "--start", "2026-12-07", "--days", "1"])
     _, err = capsys.readouterr()
     assert code == 0 and err.startswith("1 night at ") and "1 nights" not in err
+
+
+def test_nights_without_start_begin_with_the_night_plan_would(monkeypatch, capsys):
+    # the default first night is plan's (planner.pipeline.first_night_for, tested in
+    # test_cli_plan): at 02:00 Madrid time on the 8th the night under way is the 7th's, after
+    # that night's dawn the coming one
+    import datetime as dt
+
+    from planner.cli.commands import plan as plan_command
+
+    for now, first in ((dt.datetime(2026, 12, 8, 1, 0, tzinfo=dt.timezone.utc), "2026-12-07"),
+                       (dt.datetime(2026, 12, 8, 9, 0, tzinfo=dt.timezone.utc), "2026-12-08")):
+        monkeypatch.setattr(plan_command, "_now", lambda now=now: now)
+        code, out, err = run(["nights", "--site", str(SAMPLE_SITE), "--days", "1", "--format", "csv"], capsys)
+        assert code == 0, err
+        assert pd.read_csv(io.StringIO(out))["night"].tolist() == [first]

@@ -286,6 +286,7 @@ def test_clock_times_of_the_sheets_equal_python_zoneinfo():
 
 @pytest.mark.parametrize("call, message", [
     (lambda: clock.zone("Mars/Olympus"), "unknown time zone 'Mars/Olympus'; expected an IANA name"),
+    (lambda: clock.zone("Europe/Madird"), "unknown time zone 'Europe/Madird' (is 'Europe/Madrid' meant?); expected"),
     (lambda: clock.calendar_date("2026-13-01"), "'2026-13-01' is not a date; expected YYYY-MM-DD"),
     (lambda: clock.datetime_to_jd_utc(__import__("datetime").datetime(2026, 12, 7, 22)),
      "naive datetime 2026-12-07T22:00:00 has no time zone; give one"),
@@ -295,7 +296,7 @@ def test_clock_times_of_the_sheets_equal_python_zoneinfo():
     (lambda: epochs.utc_to_tdb_jd(1e12), "cannot be converted from UTC to TDB"),
     (lambda: epochs.bjd_tdb_to_utc(np.array([2461381.5, np.nan]), 10.0, 20.0),
      "1 of 2 times are not finite numbers"),
-], ids=["zone", "date", "naive datetime", "nan datetime", "time system", "erfa range", "nan to utc"])
+], ids=["zone", "zone typo", "date", "naive datetime", "nan datetime", "time system", "erfa range", "nan to utc"])
 def test_time_scale_errors_name_the_value_and_what_is_accepted(call, message):
     import re
 

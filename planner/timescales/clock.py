@@ -28,7 +28,12 @@ def zone(name: str):
     try:
         return ZoneInfo(name)
     except (ZoneInfoNotFoundError, ValueError):
-        raise TimeScaleError(f"unknown time zone {name!r}; expected an IANA name such as Europe/Madrid "
+        import difflib
+        from zoneinfo import available_timezones
+
+        close = difflib.get_close_matches(str(name), sorted(available_timezones()), n=1, cutoff=0.8)
+        hint = f" (is {close[0]!r} meant?)" if close else ""
+        raise TimeScaleError(f"unknown time zone {name!r}{hint}; expected an IANA name such as Europe/Madrid "
                              "or America/Santiago") from None
 
 

@@ -12,6 +12,7 @@ from ...outputs.wording import count
 EXAMPLES = """\
 examples:
   periplan nights --site sample_targets/site.toml --start 2026-12-07 --days 7
+  periplan nights --site site.toml --days 1        (tonight, or the night under way)
   periplan nights --site site.toml --start 2027-06-01 --days 30 --format csv > nights.csv
 """
 
@@ -25,7 +26,9 @@ def register(sub):
                     "of the dark time and the hours of dark time with the Moon up.",
         epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
     p.add_argument("--site", required=True, metavar="SITE", help="site file (TOML), see sample_targets/site.toml")
-    p.add_argument("--start", required=True, metavar="YYYY-MM-DD", help="local date of the first evening")
+    p.add_argument("--start", metavar="YYYY-MM-DD",
+                   help="local date of the first evening (default: the night under way until its darkness "
+                        "ends, then the coming night, as for plan)")
     p.add_argument("--days", type=int, default=7, metavar="N", help="number of nights (default 7)")
     p.add_argument("--format", choices=FORMATS, default="table", help="output format (default table)")
     p.set_defaults(run=run)
@@ -33,14 +36,17 @@ def register(sub):
 
 
 def run(args) -> int:
-    from ...sky.night import darkness_name, night_table
     from ...inputs.site import read_site
+    from ...pipeline import first_night_for
+    from ...sky.night import darkness_name, night_table
     from ..spans import parse_date
+    from .plan import _now
 
     if args.days <= 0:
         raise PeriplanError(f"--days must be a positive number of nights; got {args.days}")
-    first = parse_date(args.start)
+    start = parse_date(args.start) if args.start is not None else None
     site = read_site(args.site)
+    first = first_night_for(start, site, now=_now())
     nights = night_table(site, first, args.days)
     table = nights_frame(nights, site.timezone)
     sys.stdout.write(render(table, args.format, {"dark_h": ".2f", "moon_illumination": ".3f",
