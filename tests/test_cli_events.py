@@ -123,3 +123,17 @@ def test_visible_filter_does_not_claim_hidden_events_are_listed(tmp_path, capsys
     assert "listed with observable_fraction 0" not in err
     code, out, err = run(["events", str(south), "--start", "2026-12-07", "--days", "400", "--site", site], capsys)
     assert code == 0 and "listed with observable_fraction 0" in err
+
+
+def test_without_start_the_span_begins_today_at_local_midnight(monkeypatch, capsys):
+    # 23:30 UTC on 2026-12-07 is 00:30 on the 8th in Madrid: the span starts at Madrid's midnight
+    # of the 8th (23:00 UTC of the 7th) with --tz, at 00:00 UTC of the 7th without
+    import datetime as dt
+
+    from planner.cli.commands import plan as plan_command
+
+    monkeypatch.setattr(plan_command, "_now", lambda: dt.datetime(2026, 12, 7, 23, 30, tzinfo=dt.timezone.utc))
+    for extra, first in ((["--tz", "Europe/Madrid"], "2026-12-07T23:00Z"), ([], "2026-12-07T00:00Z")):
+        code, _, err = run(["events", str(SAMPLE_TARGETS), "--days", "2", *extra], capsys)
+        assert code == 0, err
+        assert f"from {first} to " in err

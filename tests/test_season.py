@@ -110,6 +110,24 @@ def test_table_json_and_chart(tmp_path, capsys):
     assert code == 0 and (every["observable_fraction"] == 0).any() and len(every) > len(rows)
 
 
+def test_season_takes_the_event_words_of_events_and_starts_tonight_by_default(monkeypatch, capsys):
+    import datetime as dt
+
+    from planner.cli.commands import plan as plan_command
+
+    monkeypatch.setattr(plan_command, "_now", lambda: dt.datetime(2026, 12, 8, 1, 0, tzinfo=dt.timezone.utc))
+    code = cli.main(["season", str(SAMPLE_TARGETS), "--site", str(SITE_FILE), "--months", "1",
+                     "--kinds", "transit", "--min-fraction", "0", "--format", "csv"])
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    table = pd.read_csv(io.StringIO(out))
+    assert len(table) and set(table["event"]) == {"primary_conjunction"}
+    assert table["night"].min() >= "2026-12-07"
+    code = cli.main(["season", str(SAMPLE_TARGETS), "--site", str(SITE_FILE), "--months", "1"])
+    err = capsys.readouterr()[1]
+    assert code == 0 and "nights from 2026-12-07 at" in err  # 02:00 in Madrid: the 7th's night is under way
+
+
 def test_chart_draws_one_bar_per_observable_event_and_a_row_per_pair(months):
     from planner.outputs.season_chart import season_figure
 

@@ -19,6 +19,13 @@ def parse_date(text: str, option: str = "--start") -> dt.date:
         raise PeriplanError(f"{option} {exc}") from None
 
 
+def today(tz: str | None = None) -> str:
+    """Today's date (``YYYY-MM-DD``) in the IANA zone ``tz``, or in UTC."""
+    from .commands.plan import _now
+
+    return _now().astimezone(zone(tz) if tz else dt.timezone.utc).date().isoformat()
+
+
 def span_utc(start: str, days: float, tz: str | None = None):
     """(start, end) astropy Times (UTC) of a span starting at 00:00 of ``start``.
 

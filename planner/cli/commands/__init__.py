@@ -1,6 +1,17 @@
 """One module per ``periplan`` command; each defines ``register(subparsers)``."""
 
+import argparse
+
 from ...errors import PeriplanError
+from ...orbits import geometry
+
+
+def event_word(text: str) -> str:
+    """An event name or periodic kind from a word of ``--kinds`` (aliases resolved)."""
+    name = geometry.canonical_event(text)
+    if name is None:
+        raise argparse.ArgumentTypeError(f"unknown event {text!r}; expected one of {', '.join(geometry.EVENT_WORDS)}")
+    return name
 
 
 def require_nonnegative(args, *names) -> None:

@@ -9,7 +9,7 @@ import numpy as np
 
 from ...orbits import geometry
 from ...errors import PeriplanError
-from . import require_nonnegative
+from . import event_word, require_nonnegative
 from ...outputs.tables import FORMATS, render, with_visibility
 from ...outputs.wording import count
 from .. import streamed
@@ -37,10 +37,11 @@ def register(sub):
     p.add_argument("catalog", metavar="CATALOG",
                    help="catalogue of targets and elements: CSV, or an ECSV, VOTable, FITS or Parquet table "
                         "(by extension)")
-    p.add_argument("--start", required=True, metavar="YYYY-MM-DD",
-                   help="first day of the span (00:00 UTC, or local midnight with --tz)")
+    p.add_argument("--start", metavar="YYYY-MM-DD",
+                   help="first day of the span (00:00 UTC, or local midnight with --tz or --site; default "
+                        "today there)")
     p.add_argument("--days", type=float, default=7.0, metavar="N", help="length of the span in days (default 7)")
-    p.add_argument("--kinds", nargs="+", metavar="EVENT", type=_event_word,
+    p.add_argument("--kinds", nargs="+", metavar="EVENT", type=event_word,
                    help=f"only these events: {', '.join(geometry.ALL_EVENTS)}; also the words "
                         f"{', '.join(geometry.EVENT_ALIASES)} (for the conjunctions) and maximum, minimum "
                         "(periodic events whose label says so)")
@@ -61,14 +62,6 @@ def register(sub):
     streamed.add_options(p)
     p.set_defaults(run=run)
     return p
-
-
-def _event_word(text: str) -> str:
-    """An event name or periodic kind from a word of --kinds (aliases resolved)."""
-    name = geometry.canonical_event(text)
-    if name is None:
-        raise argparse.ArgumentTypeError(f"unknown event {text!r}; expected one of {', '.join(geometry.EVENT_WORDS)}")
-    return name
 
 
 def run(args) -> int:
@@ -96,7 +89,7 @@ def run(args) -> int:
 
         site = read_site(args.site)
     tz = args.tz or (site.timezone if site else None)
-    start_utc, end_utc = spans.span_utc(args.start, args.days, tz)
+    start_utc, end_utc = spans.span_utc(args.start or spans.today(tz), args.days, tz)
     targets = read_catalogue_file(args.catalog)
     formats = {"bjd_tdb": ".6f", "sigma_min": ".2f", "duration_h": ".2f"}
     if streamed.wanted(args):

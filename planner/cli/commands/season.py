@@ -9,7 +9,7 @@ import sys
 from ...errors import PeriplanError
 from ...orbits import geometry
 from ...outputs.tables import FORMATS, render
-from . import require_nonnegative
+from . import event_word, require_nonnegative
 
 EXAMPLES = """\
 examples:
@@ -31,12 +31,16 @@ def register(sub):
                     "nights of the coming months whose window can be observed from the site, with the "
                     "observable fraction of the window, as a table and, with --chart, one chart.",
         epilog=EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
-    p.add_argument("catalog", metavar="CATALOG", help="catalogue CSV file of targets and elements")
+    p.add_argument("catalog", metavar="CATALOG",
+                   help="catalogue of targets and elements: CSV, or an ECSV, VOTable, FITS or Parquet table "
+                        "(by extension)")
     p.add_argument("--site", required=True, metavar="SITE", help="site file (TOML)")
-    p.add_argument("--start", required=True, metavar="YYYY-MM-DD", help="local date of the first night's evening")
+    p.add_argument("--start", metavar="YYYY-MM-DD",
+                   help="local date of the first night's evening (default: the night plan would begin with)")
     p.add_argument("--months", type=int, default=6, metavar="N", help="number of months (default 6)")
-    p.add_argument("--kinds", nargs="+", metavar="EVENT", choices=geometry.ALL_EVENTS,
-                   help=f"only these events: {', '.join(geometry.ALL_EVENTS)}")
+    p.add_argument("--kinds", nargs="+", metavar="EVENT", type=event_word,
+                   help=f"only these events: {', '.join(geometry.ALL_EVENTS)}; also the words "
+                        f"{', '.join(geometry.EVENT_ALIASES)} and maximum, minimum, as for events")
     p.add_argument("--min-fraction", type=float, default=None, metavar="F",
                    help="list only events whose window is observable at least to this fraction (0..1; "
                         "default: any part; 0 lists every event)")
@@ -69,17 +73,20 @@ def run(args) -> int:
     from ...outputs.season_chart import write_season_chart
     from ...sky import season, windows
     from ...timescales import clock
+    from ...pipeline import first_night_for
     from ..spans import parse_date
+    from .plan import _now
 
     if not 1 <= args.months <= season.MAX_MONTHS:
         raise PeriplanError(f"--months must be a whole number from 1 to {season.MAX_MONTHS}; got {args.months}")
     if args.min_fraction is not None and not 0.0 <= args.min_fraction <= 1.0:
         raise PeriplanError(f"--min-fraction must be a fraction between 0 and 1; got {args.min_fraction:g}")
     require_nonnegative(args, "baseline_h", "k_sigma")
-    first = parse_date(args.start)
+    start = parse_date(args.start) if args.start is not None else None
     if args.chart:
         _check_chart_path(args.chart, args.force)  # before any work: nothing is overwritten
     site = read_site(args.site)
+    first = first_night_for(start, site, now=_now())
     targets = catalogue.read_catalogue(args.catalog)
     n_nights = season.season_nights(first, args.months)
     table = season.season_events(
