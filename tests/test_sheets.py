@@ -199,7 +199,11 @@ def test_a_sequence_visit_says_which_visits_of_its_passage_the_plan_leaves_out(t
     text = " ".join((tmp_path / "night-2026-12-07.txt").read_text().split())
     assert "RV visit 1 of 3 over the periastron passage" in text and "(visit 2 is not in the plan)" in text
     assert text.count("not in the plan") == 1  # the RV maximum's visit is one request, not a sequence
-    assert "(visit 2 is not in the plan)" in " ".join((tmp_path / "night-2026-12-08.txt").read_text().split())
+    second = " ".join((tmp_path / "night-2026-12-08.txt").read_text().split())
+    assert "(visit 2 is not in the plan)" in second
+    # slot 1 is 0.14 d from the periastron: no note; slot 3, 0.86 d after it, says so
+    assert "the periastron itself" not in text
+    assert "one spectrum of about 29 min, 0.9 d after the periastron itself (visit 2 is not in the plan)" in second
     full = frame.iloc[[0, 1, 1]].assign(slot=[1, 2, 3]).reset_index(drop=True)
     assert list(sheets.planned_slots(full)) == ["1;2;3"] * 3
 

@@ -62,7 +62,7 @@ def sky_rows(night) -> tuple[tuple[str, str], ...]:
 #: What to do for the visits of RV requests, by request kind.
 RV_ACTIONS = {
     "rv_visit": "one RV spectrum of about {minutes:.0f} min near the {what}",
-    "rv_sequence": "RV visit {slot} of {n_slots} over the periastron passage, where the RV swings fastest: "
+    "rv_sequence": "RV visit {slot} of {n_slots} over the periastron passage, in the orbit's fastest RV swing: "
                    "one spectrum of about {minutes:.0f} min",
 }
 
@@ -112,7 +112,8 @@ def action(block) -> str:
         minutes = (block["end_jd_utc"] - block["start_jd_utc"]) * MIN_PER_DAY
         what = str(block["event"]).replace("rv_max", "RV maximum").replace("rv_min", "RV minimum").replace("_", " ")
         text = RV_ACTIONS[request].format(minutes=minutes, what=what, slot=int(block.get("slot", 1)),
-                                          n_slots=int(block.get("n_slots", 1))) + _other_slots(block)
+                                          n_slots=int(block.get("n_slots", 1))) + _swing_offset(block) \
+            + _other_slots(block)
         if block["event"] == "visit":  # a phase-coverage visit: its bin, not an event
             text = f"one RV spectrum of about {minutes:.0f} min in orbital {label} (not yet observed)"
         phase = phase_of_event(block["event"])
@@ -144,6 +145,22 @@ def planned_slots(schedule: pd.DataFrame) -> np.ndarray:
     slots = schedule["slot"].where(seq).dropna().astype(int)
     joined = slots.groupby(key[seq]).apply(lambda g: ";".join(map(str, sorted(g))))
     return np.where(seq, key.map(joined).to_numpy(object), "")
+
+
+#: A periastron-sequence visit further than this from the periastron says how far (days): the
+#: RV swing of an orbit close to circular is wide, and its fastest part is not at periastron.
+SWING_NOTE_D = 0.5
+
+
+def _swing_offset(block) -> str:
+    """``", 4.9 d after the periastron itself"`` for a periastron-sequence
+    visit more than :data:`SWING_NOTE_D` from the periastron; ``""`` otherwise."""
+    if block.get("request") != "rv_sequence" or not np.isfinite(block.get("event_jd_utc", np.nan)):
+        return ""
+    off = 0.5 * (block["start_jd_utc"] + block["end_jd_utc"]) - block["event_jd_utc"]
+    if abs(off) <= SWING_NOTE_D:
+        return ""
+    return f", {abs(off):.1f} d {'after' if off > 0 else 'before'} the periastron itself"
 
 
 def _other_slots(block) -> str:
