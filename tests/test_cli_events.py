@@ -130,9 +130,9 @@ def test_without_start_the_span_begins_today_at_local_midnight(monkeypatch, caps
     # of the 8th (23:00 UTC of the 7th) with --tz, at 00:00 UTC of the 7th without
     import datetime as dt
 
-    from planner.cli.commands import plan as plan_command
+    from planner.cli import spans
 
-    monkeypatch.setattr(plan_command, "_now", lambda: dt.datetime(2026, 12, 7, 23, 30, tzinfo=dt.timezone.utc))
+    monkeypatch.setattr(spans, "now", lambda: dt.datetime(2026, 12, 7, 23, 30, tzinfo=dt.timezone.utc))
     for extra, first in ((["--tz", "Europe/Madrid"], "2026-12-07T23:00Z"), ([], "2026-12-07T00:00Z")):
         code, _, err = run(["events", str(SAMPLE_TARGETS), "--days", "2", *extra], capsys)
         assert code == 0, err

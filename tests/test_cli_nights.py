@@ -156,11 +156,11 @@ def test_nights_without_start_begin_with_the_night_plan_would(monkeypatch, capsy
     # that night's dawn the coming one
     import datetime as dt
 
-    from planner.cli.commands import plan as plan_command
+    from planner.cli import spans
 
     for now, first in ((dt.datetime(2026, 12, 8, 1, 0, tzinfo=dt.timezone.utc), "2026-12-07"),
                        (dt.datetime(2026, 12, 8, 9, 0, tzinfo=dt.timezone.utc), "2026-12-08")):
-        monkeypatch.setattr(plan_command, "_now", lambda now=now: now)
+        monkeypatch.setattr(spans, "now", lambda now=now: now)
         code, out, err = run(["nights", "--site", str(SAMPLE_SITE), "--days", "1", "--format", "csv"], capsys)
         assert code == 0, err
         assert pd.read_csv(io.StringIO(out))["night"].tolist() == [first]

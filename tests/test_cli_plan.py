@@ -237,10 +237,10 @@ def test_default_first_night_moves_on_at_the_end_of_darkness(darkness, sun_alt_d
 def test_night_under_way_says_how_many_blocks_are_past(tmp_path, monkeypatch, capsys):
     import datetime as dt
 
-    from planner.cli.commands import plan as plan_command
+    from planner.cli import spans
 
     now = dt.datetime(2026, 12, 8, 1, 0, tzinfo=dt.timezone.utc)  # 02:00 in Madrid (UTC+01:00)
-    monkeypatch.setattr(plan_command, "_now", lambda: now)
+    monkeypatch.setattr(spans, "now", lambda: now)
     out = tmp_path / "tonight"
     code, _, err = run(["plan", str(SAMPLE_TARGETS), "--site", str(SITE), "--nights", "1", "--out", str(out)],
                        capsys)

@@ -113,9 +113,9 @@ def test_table_json_and_chart(tmp_path, capsys):
 def test_season_takes_the_event_words_of_events_and_starts_tonight_by_default(monkeypatch, capsys):
     import datetime as dt
 
-    from planner.cli.commands import plan as plan_command
+    from planner.cli import spans
 
-    monkeypatch.setattr(plan_command, "_now", lambda: dt.datetime(2026, 12, 8, 1, 0, tzinfo=dt.timezone.utc))
+    monkeypatch.setattr(spans, "now", lambda: dt.datetime(2026, 12, 8, 1, 0, tzinfo=dt.timezone.utc))
     code = cli.main(["season", str(SAMPLE_TARGETS), "--site", str(SITE_FILE), "--months", "1",
                      "--kinds", "transit", "--min-fraction", "0", "--format", "csv"])
     out, err = capsys.readouterr()

@@ -19,11 +19,14 @@ def parse_date(text: str, option: str = "--start") -> dt.date:
         raise PeriplanError(f"{option} {exc}") from None
 
 
+def now() -> dt.datetime:
+    """The present moment (aware, UTC): the commands' one clock, so tests can set it."""
+    return dt.datetime.now(dt.timezone.utc)
+
+
 def today(tz: str | None = None) -> str:
     """Today's date (``YYYY-MM-DD``) in the IANA zone ``tz``, or in UTC."""
-    from .commands.plan import _now
-
-    return _now().astimezone(zone(tz) if tz else dt.timezone.utc).date().isoformat()
+    return now().astimezone(zone(tz) if tz else dt.timezone.utc).date().isoformat()
 
 
 def span_utc(start: str, days: float, tz: str | None = None):

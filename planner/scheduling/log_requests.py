@@ -70,10 +70,11 @@ def _instances(log, visible):
 def new_parts_share(covers: str, logged_parts: str) -> float:
     """Share of a series block's parts (``covers``, ``;``-separated names) that the log does not
     hold yet (``logged_parts``): the factor on its value; 1.0 for a block with no parts."""
-    mine = {p for p in str(covers).split(";") if p}
-    if not mine:
-        return 1.0
-    return len(mine - {p for p in str(logged_parts).split(";") if p}) / len(mine)
+    def parts(text):  # NaN (no parts) is an empty set
+        return {p for p in text.split(";") if p} if isinstance(text, str) else set()
+
+    mine = parts(covers)
+    return len(mine - parts(logged_parts)) / len(mine) if mine else 1.0
 
 
 def logged_instances(log: pd.DataFrame | None, targets: pd.DataFrame, visible: pd.DataFrame) -> dict:
@@ -113,7 +114,7 @@ def apply_log(cands: pd.DataFrame, monitors: pd.DataFrame, log: pd.DataFrame | N
             had |= set(parts.split(";")) - {""}
         mine = [p for p in str(c.covers).split(";") if p]
         logged_parts[k] = ";".join(p for p in mine if p in had)
-        share = new_parts_share(str(c.covers), logged_parts[k])
+        share = new_parts_share(c.covers, logged_parts[k])
         if share == 0.0:
             keep[k] = False
         else:

@@ -120,13 +120,19 @@ def _rivals(starts, ends, sites, schedule, both):
         lo = np.searchsorted(np.maximum.accumulate(b1), starts[rows], side="right")
         hi = np.searchsorted(b0, ends[rows], side="left")
         labels = block["label"] if "label" in block else [""] * len(block)
-        names = [f"{t} {label if e == PERIODIC_EVENT and isinstance(label, str) and label else str(e).replace('_', ' ')}"
-                 f" ({v:.0f})" for t, e, label, v in zip(block["target"], block["event"], labels,
-                                                        block["score"].to_numpy(float))]
+        names = [f"{t} {_event_name(e, label)} ({v:.0f})"
+                 for t, e, label, v in zip(block["target"], block["event"], labels, block["score"].to_numpy(float))]
         runs, which = np.unique(np.stack([lo, hi], axis=1), axis=0, return_inverse=True)
         texts = np.array([LOST + (", ".join(names[a:b]) or "the week's other blocks") for a, b in runs], dtype=object)
         out[rows] = texts[which.ravel()]
     return out
+
+
+def _event_name(event, label) -> str:
+    """A block's event in words: a periodic event's label, else the event's name."""
+    if event == PERIODIC_EVENT and isinstance(label, str) and label:
+        return label
+    return str(event).replace("_", " ")
 
 
 def _second_instances(second, candidates):

@@ -39,14 +39,13 @@ def run(args) -> int:
     from ...inputs.site import read_site
     from ...pipeline import first_night_for
     from ...sky.night import darkness_name, night_table
-    from ..spans import parse_date
-    from .plan import _now
+    from ..spans import now, parse_date
 
     if args.days <= 0:
         raise PeriplanError(f"--days must be a positive number of nights; got {args.days}")
     start = parse_date(args.start) if args.start is not None else None
     site = read_site(args.site)
-    first = first_night_for(start, site, now=_now())
+    first = first_night_for(start, site, now=now())
     nights = night_table(site, first, args.days)
     table = nights_frame(nights, site.timezone)
     sys.stdout.write(render(table, args.format, {"dark_h": ".2f", "moon_illumination": ".3f",

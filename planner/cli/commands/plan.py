@@ -135,7 +135,7 @@ def run_plan(catalog, site_path, args) -> int:
         from ...inputs.observation_log import read_log
 
         log = read_log(args.log, targets)
-    now = _now()
+    now = spans.now()
     first = first_night_for(args.start, site, now=now)
     if len(sites) > 1:
         return _run_campaign(targets, sites, first, settings, log, args)
@@ -185,13 +185,6 @@ def _run_campaign(targets, sites, first, settings, log, args) -> int:
     print(f"\n{count(n, 'block')} at {count(len(sites), 'site')}; {count(len(paths), 'file')} in {args.out}/")
     print(CAUTION_LINES)
     return 0
-
-
-def _now():
-    """The present moment (aware, UTC); one place, so tests can set the clock."""
-    import datetime as dt
-
-    return dt.datetime.now(dt.timezone.utc)
 
 
 def _warn(plans, catalog, unobservable_files, log=None, log_path=None) -> None:

@@ -72,10 +72,9 @@ def run(args) -> int:
     from ...inputs.site import read_site
     from ...outputs.season_chart import write_season_chart
     from ...sky import season, windows
-    from ...timescales import clock
     from ...pipeline import first_night_for
-    from ..spans import parse_date
-    from .plan import _now
+    from ...timescales import clock
+    from ..spans import now, parse_date
 
     if not 1 <= args.months <= season.MAX_MONTHS:
         raise PeriplanError(f"--months must be a whole number from 1 to {season.MAX_MONTHS}; got {args.months}")
@@ -86,7 +85,7 @@ def run(args) -> int:
     if args.chart:
         _check_chart_path(args.chart, args.force)  # before any work: nothing is overwritten
     site = read_site(args.site)
-    first = first_night_for(start, site, now=_now())
+    first = first_night_for(start, site, now=now())
     targets = catalogue.read_catalogue(args.catalog)
     n_nights = season.season_nights(first, args.months)
     table = season.season_events(
