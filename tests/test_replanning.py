@@ -139,6 +139,22 @@ def test_a_partial_log_leaves_the_new_parts_worth_their_share_and_the_sheet_says
     assert "logged_parts" in planner.display_frame(again.schedule, site.timezone)
 
 
+def test_a_transit_logged_as_transit_serves_a_linear_ephemeris_given_as_tc():
+    # the long transit above with no e or omega: a linear ephemeris whose tc makes its event a
+    # primary conjunction; the observer logs it under the usual word, 'transit'
+    cat = pd.DataFrame({"name": ["Lin Transit"], "ra": [10.0], "dec": [85.0], "period_d": [40.0],
+                        "tc": [2461382.875], "tc_err_d": [0.001], "duration_h": [20.0], "priority": [3]})
+    targets = planner.read_catalogue(cat)
+    site = planner.read_site(SITE)
+    night = dt.date(2026, 12, 8)
+    plan = planner.make_plan(targets, site, night, 1)
+    assert list(plan.schedule["event"]) == ["periodic"] and list(plan.schedule["label"]) == ["primary conjunction"]
+    frame = log_template_frame(plan.schedule).assign(outcome="done", purpose="transit")
+    again = planner.make_plan(targets, site, night, 1, log=parse_log(frame.to_csv(index=False), targets, "log.csv"))
+    assert again.schedule.empty
+    assert list(again.unscheduled["reason_code"]) == ["logged"]
+
+
 def test_monitor_visits_keep_their_gap_from_the_last_logged_visit(demo):
     targets, site, plan = demo
     gap_d = float(targets.loc[targets["name"] == "Lantisca-4", "visit_gap_h"].iloc[0]) / 24.0

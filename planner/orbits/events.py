@@ -160,9 +160,7 @@ def predict_events(targets: pd.DataFrame, start_bjd_tdb: float, end_bjd_tdb: flo
         if wanted_kinds is not None and not asked[i]:  # the filter asks for events beyond the defaults
             evs = (ORBIT_EVENTS if e[i] > 0 else _CIRCULAR_EVENTS) if orb else (PERIODIC_EVENT,)
         for ev in evs:
-            if wanted_kinds is None or ev in wanted_kinds or (
-                    ev == PERIODIC_EVENT and (geometry.periodic_kind(label) in wanted_kinds or (
-                        label == geometry.LINEAR_TC_LABEL and "primary_conjunction" in wanted_kinds))):
+            if wanted_kinds is None or any(geometry.names_event(w, ev, label) for w in wanted_kinds):
                 want[i, names.index(ev)] = True
         if not orb:
             want[i, :6] = False

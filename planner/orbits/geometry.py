@@ -69,6 +69,19 @@ def periodic_kind(label: str) -> str:
     return kinds[0] if len(kinds) == 1 else ""
 
 
+def event_meant(event: str, label) -> str:
+    """The event a row of ``event`` and ``label`` stands for: ``primary_conjunction`` for the
+    periodic event of a linear ephemeris given as ``tc`` (:data:`LINEAR_TC_LABEL`), else ``event``."""
+    return "primary_conjunction" if event == PERIODIC_EVENT and label == LINEAR_TC_LABEL else event
+
+
+def names_event(word: str, event: str, label) -> bool:
+    """True when ``word`` (an event name or periodic kind, :func:`canonical_event`) asks for the
+    event ``event`` of a row labelled ``label``: its name, the periodic kind its label says
+    (:func:`periodic_kind`), or the event it stands for (:func:`event_meant`)."""
+    return word in (event, event_meant(event, label)) or (event == PERIODIC_EVENT and periodic_kind(label) == word)
+
+
 def event_true_anomalies(omega_rad):
     """True anomalies (radians, in [0, 2 pi)) of the six orbital events.
 

@@ -13,7 +13,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from ..orbits.geometry import LINEAR_TC_LABEL, PERIODIC_EVENT
+from ..orbits.geometry import PERIODIC_EVENT, event_meant
 from ..timescales.clock import UNIX_EPOCH_JD
 from .chart_marks import event_words
 from .charts import _figure, save_png
@@ -54,7 +54,7 @@ def season_figure(season: pd.DataFrame, first_jd_utc: float, last_jd_utc: float,
             (season["event"].astype(str).to_numpy() == event)
         if not here.any():
             continue
-        look = "primary_conjunction" if event == PERIODIC_EVENT and label == LINEAR_TC_LABEL else event
+        look = event_meant(event, label)
         colour, marker = EVENT_LOOK.get(look, ("#444444", "o"))
         xs, hs = x_all[here], BAR_HEIGHT * frac[here]
         ax.vlines(xs, y, y + hs, color=colour, lw=1.6, gid="season_event")

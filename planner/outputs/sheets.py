@@ -21,7 +21,7 @@ import re
 import numpy as np
 import pandas as pd
 
-from ..orbits.geometry import LINEAR_TC_LABEL, PERIODIC_EVENT
+from ..orbits.geometry import event_meant
 from ..sky.night import darkness_of
 from ..scheduling.blocks import MIN_PER_DAY
 from ..scheduling.phase_requests import phase_of_event, phase_text
@@ -121,9 +121,7 @@ def action(block) -> str:
             text = (f"one RV spectrum of about {minutes:.0f} min at orbital phase {phase_text(phase)} "
                     f"(mean anomaly {360.0 * phase:.4g} deg from periastron)")
     else:
-        event = str(block["event"])
-        if event == PERIODIC_EVENT and label == LINEAR_TC_LABEL:  # a linear ephemeris given as tc
-            event = "primary_conjunction"
+        event = event_meant(str(block["event"]), label)  # a linear ephemeris given as tc: a transit
         text = ACTIONS.get(event, "observe {label}").format(label="periodic event" if label == event else label)
     serves = str(block.get("serves", "") or "")
     if ";" in serves:

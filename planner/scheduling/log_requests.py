@@ -32,6 +32,7 @@ import numpy as np
 import pandas as pd
 
 from ..orbits import coverage
+from ..orbits.geometry import names_event
 from .phase_requests import is_wanted_phase
 from .coverage import parts_covered, reference_epoch
 from .blocks import SCHEDULE_COLUMNS, instance_keys, altitudes, mean_airmass, moon_at_blocks, sample_times
@@ -53,7 +54,8 @@ def _instances(log, visible):
     if log.empty or visible.empty:
         return keys
     for row in log[~log["purpose"].isin(["visit", "free"]) & log["outcome"].isin(USED)].itertuples():
-        mine = visible[(visible["target_index"] == row.target_index) & (visible["event"] == row.purpose)]
+        mine = visible[visible["target_index"] == row.target_index]
+        mine = mine[[names_event(row.purpose, ev, label) for ev, label in zip(mine["event"], mine["label"])]]
         if mine.empty:
             continue
         if np.isfinite(row.cycle):
@@ -62,7 +64,7 @@ def _instances(log, visible):
             mid = 0.5 * (row.start_jd_utc + row.end_jd_utc)
             near = np.abs(mine["jd_utc"].to_numpy(float) - mid)
             mine = mine.iloc[[int(np.argmin(near))]] if near.min() < 0.5 * mine["period_d"].iloc[0] else mine.iloc[:0]
-        for key in instance_keys([row.target_index] * len(mine), [row.purpose] * len(mine), mine["jd_utc"]):
+        for key in instance_keys([row.target_index] * len(mine), mine["event"], mine["jd_utc"]):
             keys.setdefault(key, []).append(row)
     return keys
 
