@@ -125,3 +125,24 @@ def test_the_plan_names_logged_visits_that_serve_no_request():
     assert note.startswith("log.csv: rows 2, 5: a visit of Star A counts for nothing in the plan")
     assert "purpose rv_max or rv_min" in note
     assert unused_visits_note(log[log["target"] == "Star B"], targets, "log.csv") is None
+
+
+def test_the_plan_names_logged_events_that_are_none_of_their_targets_events(targets):
+    # Star A (e = 0.3, K, no eclipse information) has periastron, apastron and the RV extremes as
+    # events (README, default events); an occultation logged for it counts for nothing, a
+    # periastron does, and so does 'transit' for a linear ephemeris given as tc
+    from planner.cli.commands.plan import foreign_events_note
+
+    log = parse_log("target,start,end,purpose,outcome\n"
+                    "Star A,2461384.385,2461384.5,occultation,done\n"
+                    "Star A,2461385.385,2461385.5,periastron,done\n"
+                    "Star A,2461386.385,2461386.5,occultation,lost\n", targets, "log.csv")
+    note = foreign_events_note(log, targets, "obs/log.csv")
+    assert note == ("log.csv: row 2: secondary_conjunction is not an event of Star A (its events: periastron, "
+                    "apastron, rv_max, rv_min), so the row counts for nothing in the plan; log it under one of "
+                    "the target's events, or add the event to its events column")
+    assert foreign_events_note(log.iloc[[1]], targets, "log.csv") is None
+    linear = parse_catalogue("name,ra,dec,period_d,tc,duration_h\nLin,10,20,3.1,2461300.1,2.0\n", "cat.csv")
+    transit = parse_log("target,start,end,purpose,outcome\nLin,2461384.385,2461384.5,transit,done\n", linear,
+                        "log.csv")
+    assert foreign_events_note(transit, linear, "log.csv") is None

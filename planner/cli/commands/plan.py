@@ -190,7 +190,7 @@ def _run_campaign(targets, sites, first, settings, log, args) -> int:
 def _warn(plans, catalog, unobservable_files, log=None, log_path=None) -> None:
     """On stderr: each site's targets that never rise there (named with the file listing them),
     then the run's notes (targets without a timing uncertainty, targets without an event, logged
-    visits that count for nothing)."""
+    visits and logged events that count for nothing)."""
     from ...outputs.explain import no_uncertainty_note
     from ...outputs.tables import never_rising_lines
 
@@ -198,7 +198,8 @@ def _warn(plans, catalog, unobservable_files, log=None, log_path=None) -> None:
         for line in never_rising_lines(plan.never_rising, plan.site.name, listed_in):
             print(f"periplan: warning: {line}", file=sys.stderr)
     for note in (no_uncertainty_note(plans[0].events), no_event_note(plans, catalog),
-                 unused_visits_note(log, plans[0].targets, log_path)):
+                 unused_visits_note(log, plans[0].targets, log_path),
+                 foreign_events_note(log, plans[0].targets, log_path)):
         if note:
             print(f"periplan: note: {note}", file=sys.stderr)
 
@@ -252,6 +253,31 @@ def unused_visits_note(log, targets, log_path) -> str | None:
     return (f"{os.path.basename(log_path)}: row{'s' if len(idle) > 1 else ''} {rows}: a visit of {names} counts "
             "for nothing in the plan (no phase_bins, rv_phases or visit_h asks for one); log an RV point at "
             "an extremum with purpose rv_max or rv_min, or an event's series under the event's name")
+
+
+def foreign_events_note(log, targets, log_path) -> str | None:
+    """The line naming the log's event rows (done or partial) whose purpose is none of their
+    target's events (an occultation logged for a target whose catalogue asks for none), which the
+    plan therefore ignores; None if there are none."""
+    import os
+
+    from ...orbits.geometry import names_event
+    from ...outputs.wording import first_few
+    from ...scheduling.log_requests import USED
+
+    if log is None or log.empty:
+        return None
+    rows = log[~log["purpose"].isin(["visit", "free"]) & log["outcome"].isin(USED)]
+    events, labels = targets["events"].to_numpy(object), targets["label"].to_numpy(object)
+    foreign = rows[[not any(names_event(p, ev, labels[ti]) for ev in events[ti])
+                    for p, ti in zip(rows["purpose"], rows["target_index"].to_numpy(int))]]
+    if foreign.empty:
+        return None
+    first = foreign.iloc[0]
+    own = ", ".join(events[int(first["target_index"])]) or "none"
+    return (f"{os.path.basename(log_path)}: row{'s' if len(foreign) > 1 else ''} {first_few(foreign['row'].astype(int))}: "
+            f"{first['purpose']} is not an event of {first['target']} (its events: {own}), so the row counts for "
+            "nothing in the plan; log it under one of the target's events, or add the event to its events column")
 
 
 def past_blocks_note(schedule, first_night, now, tz: str) -> str | None:
