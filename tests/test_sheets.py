@@ -215,3 +215,16 @@ def test_a_secondary_without_contacts_says_what_the_catalogue_must_add():
     primary, secondary = (sheets.covers_line(pd.Series(b)) for b in both)
     assert primary.endswith("contacts not known (the catalogue gives no duration or eclipse geometry).")
     assert "secondary needs the eclipse geometry, a_rstar, inc_deg and rp_rstar" in secondary
+
+
+def test_missed_lines_name_the_event_as_the_blocks_do_and_say_when():
+    # two maxima of one pulsator on one night: told apart by their local times (Madrid, UTC+1 in
+    # December), named by the target's label; a low-priority and a daylight one are not listed
+    unscheduled = pd.DataFrame({
+        "night": ["2026-12-07"] * 4, "target": ["Puls", "Puls", "Dim", "Day"],
+        "event": ["periodic", "periodic", "rv_max", "rv_max"], "request": ["series"] * 4,
+        "priority": [4, 4, 1, 5], "event_utc": ["2026-12-07T19:04:00Z", "2026-12-08T02:41:00Z", "", ""],
+        "best_value": [np.nan] * 4, "reason_code": ["altitude", "too_short", "altitude", "no_darkness"],
+        "reason": ["low", "short", "low", "day"]})
+    lines = sheets.missed_lines(unscheduled, "2026-12-07", "Europe/Madrid", {"Puls": "light maximum"})
+    assert lines == ["Puls light maximum at 20:04 (priority 4): low", "Puls light maximum at 03:41 (priority 4): short"]

@@ -13,6 +13,7 @@ writers (``write_night_sheets``, ``write_schedule_csv``) go through
 
 from __future__ import annotations
 
+import datetime as dt
 import functools
 import html
 import os
@@ -31,6 +32,7 @@ from ..timescales import clock
 from . import explain
 from . import sheet_pointing, sheet_style
 from .atomic import atomic_write
+from .chart_marks import event_words
 from .wording import count
 
 CAUTION = ("CAUTION: Never point the telescope at or near the Sun: it can blind in an instant and destroy "
@@ -345,14 +347,26 @@ MISSED_MAX_LINES = 6
 _MISSED_SKIP = ("no_darkness", "never_rises", "outside_nights")
 
 
-def missed_lines(unscheduled: pd.DataFrame | None, label: str) -> list[str]:
-    """One line per unscheduled high-priority request of the night ``label``, with its reason."""
+def missed_lines(unscheduled: pd.DataFrame | None, label: str, tz: str | None = None,
+                 labels: dict | None = None) -> list[str]:
+    """One line per unscheduled high-priority request of the night ``label``, with its reason:
+    ``"Star RV maximum at 21:40 (priority 4): ..."``, the event named as on the blocks (a periodic
+    event by its target's label, from ``labels`` ``{target: label}``) and its time (local in
+    ``tz``), so two instances of one night can be told apart."""
     if unscheduled is None or unscheduled.empty:
         return []
     u = unscheduled[(unscheduled["night"].astype(str) == label) & (unscheduled["priority"] >= MISSED_MIN_PRIORITY)
                     & ~unscheduled["reason_code"].isin(_MISSED_SKIP)]
     u = u.sort_values("priority", ascending=False, kind="stable").head(MISSED_MAX_LINES)
-    return [f"{r.target} {str(r.event).replace('_', ' ')} (priority {r.priority:g}): {r.reason}" for r in u.itertuples()]
+    labels = labels or {}
+
+    def when(iso):
+        if not isinstance(iso, str) or not iso:
+            return ""
+        return f" at {_clock(clock.datetime_to_jd_utc(dt.datetime.fromisoformat(iso)), tz)}"
+
+    return [f"{r.target} {event_words(r.event, labels.get(r.target))}{when(r.event_utc)} (priority {r.priority:g}): "
+            f"{r.reason}" for r in u.itertuples()]
 
 
 def night_sheet_text(night, blocks: pd.DataFrame, tz: str | None = None, site_name: str | None = None,
@@ -472,6 +486,7 @@ def write_night_sheets(out_dir, schedule: pd.DataFrame, nights: pd.DataFrame, tz
     With ``targets`` (the catalogue's target table), a magnitude column of the catalogue is shown
     on each block's pointing line (:func:`magnitude_texts`).
     """
+    labels = dict(zip(targets["name"], targets["label"])) if targets is not None and "label" in targets else {}
     if targets is not None and len(schedule):
         schedule = schedule.assign(magnitude=magnitude_texts(targets)[schedule["target_index"].to_numpy(int)])
     if len(schedule) and "slot" in schedule:
@@ -482,7 +497,7 @@ def write_night_sheets(out_dir, schedule: pd.DataFrame, nights: pd.DataFrame, tz
         blocks = schedule[schedule["night"].astype(str) == label]
         for ext, build in (("txt", night_sheet_text), ("html", night_sheet_html)):
             path = os.path.join(os.fspath(out_dir), f"night-{label}.{ext}")
-            text = build(night, blocks, tz, site_name, missed_lines(unscheduled, label))
+            text = build(night, blocks, tz, site_name, missed_lines(unscheduled, label, tz, labels))
             with atomic_write(path) as fh:
                 fh.write(text)
             paths.append(path)
