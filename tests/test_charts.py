@@ -91,6 +91,22 @@ def test_night_chart_png_and_artists(tmp_path):
     assert 10_000 < size < 2_000_000
 
 
+def test_night_chart_legend_stays_inside_the_figure():
+    # a darkness given as a Sun altitude names itself at length ("darkness (Sun below -15 deg)")
+    # and so may a target: long legend entries wrap instead of running off the PNG
+    t, alt, _ = curves()
+    night = NIGHT.copy()
+    night["darkness_sun_alt_deg"] = -15.0
+    names = ["Alpha", "A rather long designation of a star"]
+    blocks = night_blocks().assign(target=names)
+    fig = charts.night_figure(night, t, alt, names, blocks, 30.0, tz="Europe/Madrid")
+    fig.canvas.draw()
+    legend = fig.axes[0].get_legend()
+    assert legend.get_window_extent(fig.canvas.get_renderer()).x1 <= fig.bbox.x1
+    texts = [tx.get_text() for tx in legend.get_texts()]
+    assert "darkness (Sun below\n-15 deg)" in texts
+
+
 def test_night_chart_refuses_mismatched_arrays():
     t, alt, names = curves()
     from planner.errors import PeriplanError

@@ -15,6 +15,8 @@ tables (Julian dates in UTC). The RV chart evaluates the orbit (:func:`planner.o
 
 from __future__ import annotations
 
+import textwrap
+
 import numpy as np
 import pandas as pd
 
@@ -90,6 +92,10 @@ def _shade_night(ax, night, to_h, lo_h, hi_h, y0=None, y1=None, label=True):
     elif np.isfinite(sunset) or np.isfinite(sunrise):
         span(tw0, tw1, color=TWILIGHT_SHADE, alpha=0.18, lw=0,
              label=f"Sun down, no {darkness_of(night)[0]}" if label else None, gid="twilight")
+
+
+#: Characters of a line of the night chart's legend (8 pt in its right margin).
+LEGEND_WRAP = 22
 
 
 def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_alt_deg: float,
@@ -193,7 +199,9 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
         ax.yaxis.set_label_coords(-0.06, mid)
         right.yaxis.set_label_coords(1.06, mid)
     ax.grid(alpha=0.3, lw=0.5)
-    ax.legend(loc="upper left", bbox_to_anchor=(1.08, 1.0), fontsize=8, frameon=False)
+    handles, labels = ax.get_legend_handles_labels()  # long entries wrapped: the margin is 2.1 in wide
+    ax.legend(handles, [textwrap.fill(t, LEGEND_WRAP, break_long_words=False) for t in labels], loc="upper left",
+              bbox_to_anchor=(1.08, 1.0), fontsize=8, frameon=False)
     ax.set_title(title or f"Night of {night['night']}: altitude of the scheduled targets", fontsize=11)
     return fig
 
