@@ -34,6 +34,14 @@ def event_words(event, label=None) -> str:
     return EVENT_WORDS.get(event, event.replace("_", " "))
 
 
+def target_labels(targets) -> dict:
+    """``{target name: label}`` of a target table (empty for None or a table without labels), for
+    :func:`event_words` of rows that name their target only."""
+    if targets is None or "label" not in targets:
+        return {}
+    return dict(zip(targets["name"], targets["label"]))
+
+
 def draw_site_limits(ax, x_h, az_deg, ha_h, alt_deg, site, styles: dict, names) -> None:
     """Horizon profile along each track, the airmass limit and the curves outside the HA limits.
 

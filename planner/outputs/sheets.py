@@ -32,7 +32,7 @@ from ..timescales import clock
 from . import explain
 from . import sheet_pointing, sheet_style
 from .atomic import atomic_write
-from .chart_marks import event_words
+from .chart_marks import event_words, target_labels
 from .wording import count
 
 CAUTION = ("CAUTION: Never point the telescope at or near the Sun: it can blind in an instant and destroy "
@@ -486,7 +486,7 @@ def write_night_sheets(out_dir, schedule: pd.DataFrame, nights: pd.DataFrame, tz
     With ``targets`` (the catalogue's target table), a magnitude column of the catalogue is shown
     on each block's pointing line (:func:`magnitude_texts`).
     """
-    labels = dict(zip(targets["name"], targets["label"])) if targets is not None and "label" in targets else {}
+    labels = target_labels(targets)
     if targets is not None and len(schedule):
         schedule = schedule.assign(magnitude=magnitude_texts(targets)[schedule["target_index"].to_numpy(int)])
     if len(schedule) and "slot" in schedule:

@@ -23,7 +23,7 @@ from ..scheduling.blocks import MIN_PER_DAY
 from ..timescales import clock
 from . import sheet_style
 from .atomic import atomic_write
-from .chart_marks import event_words
+from .chart_marks import event_words, target_labels
 from .sheets import CAUTION
 
 PAGE_CSS = """
@@ -120,8 +120,7 @@ def _unscheduled_lines(plan, files=()) -> list[str]:
                 f"{csv} lists every request ({len(un)}).</p>"]
         groups = groups.loc[np.sort(shown)]
     rows = []
-    targets = getattr(plan, "targets", None)
-    labels = dict(zip(targets["name"], targets["label"])) if targets is not None and "label" in targets else {}
+    labels = target_labels(getattr(plan, "targets", None))
     for t, ev, _code, k, lo, hi, best, why, _p in groups.itertuples(index=False):
         value = f"{best:.0f}" if np.isfinite(best) else ""
         rows.append([e(str(t)), e(event_words(ev, labels.get(t))), f'<td class="num">{k}</td>',
