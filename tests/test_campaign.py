@@ -326,14 +326,16 @@ def site_at_midnight(tmp_path):
 
 
 def crowded_week(tmp_path, rule):
-    """Three nights of four transiting targets whose transits overlap near midnight, one target
-    that never rises (dec -80 deg at latitude 37.6 N: highest altitude 90 - 117.6 < 0 deg, by
+    """Three nights of five transiting targets whose transits overlap near midnight (Wren-5's
+    transit is Wren-1's, to the minute, at a quarter of its priority: lost every night, even
+    with baselines cut), one target that never rises (dec -80 deg at latitude 37.6 N: highest altitude 90 - 117.6 < 0 deg, by
     spherical geometry) and one that culminates at noon."""
     site, mid, ra = site_at_midnight(tmp_path)
     rows = [f"Wren-1,{ra:.4f},30,1.02,0,,{mid:.6f},0.0003,JD_UTC,,4,,3.0",
             f"Wren-2,{ra + 5:.4f},25,1.01,0,,{mid + 1 / 24:.6f},0.0003,JD_UTC,,2,,2.0",
             f"Wren-3,{ra - 5:.4f},35,0.99,0,,{mid - 1 / 24:.6f},0.0003,JD_UTC,,1,,2.0",
             f"Wren-4,{ra + 10:.4f},20,2.5,0,,{mid + 2.5 / 24:.6f},0.0003,JD_UTC,,3,,1.5",
+            f"Wren-5,{ra + 1:.4f},31,1.02,0,,{mid:.6f},0.0003,JD_UTC,,1,,3.0",
             f"Deep South,{ra:.4f},-80,1.5,0,,{mid:.6f},0.0003,JD_UTC,,5,,2.0",
             f"Noon Star,{(ra + 180) % 360:.4f},20,1.3,0,,{mid:.6f},0.0003,JD_UTC,,5,,2.0"]
     cat = parse_catalogue(HEADER + "\n" + "\n".join(rows) + "\n")

@@ -253,3 +253,42 @@ def test_rv_maximum_before_the_first_night_is_requested_while_its_window_lasts(t
     t = np.linspace(rv.start_jd_utc.iloc[0], rv.end_jd_utc.iloc[0], 50) - shift
     v = radvel.kepler.rv_drive(t, np.array([p, tp, e, w, k]), use_c_kepler_solver=False)
     assert np.all(v >= v_max - 0.1 * k - 0.01 * k)
+
+
+def test_two_eclipses_whose_whole_baselines_overlap_both_fit_with_baselines_cut(tmp_path, dark):
+    # Two eclipsing binaries near the meridian, minima 3.5 h apart, each 2 h long. With the
+    # wanted hour of baseline either side the series would overlap by half an hour, so one
+    # eclipse was dropped; an observer takes both with half-hour baselines (the series-parts
+    # rule: half the wanted baseline still normalises the light curve [common practice]).
+    mid = 0.5 * (dark[0] + dark[1])
+    ra = ra_culminating_at(mid)
+    first, second = mid - 1.75 / 24, mid + 1.75 / 24
+    rows = [f"Ecl-A,{ra:.4f},30,3.1,0,,{first:.6f},0.0002,JD_UTC,,1,,2.0,,,",
+            f"Ecl-B,{ra + 1:.4f},32,4.7,0,,{second:.6f},0.0002,JD_UTC,,1,,2.0,,,"]
+    sched = plan(tmp_path, rows).schedule.sort_values("start_jd_utc")
+    assert list(sched["target"]) == ["Ecl-A", "Ecl-B"]
+    assert np.allclose(sched["baseline_min"], 30.0)
+    assert np.allclose(sched["science_fraction"], 0.9)
+    assert list(sched["covers"]) == ["pre;T1;mid;T4;post"] * 2  # no T2/T3 without geometry
+    # T1 and T4 are the minimum -+ half the duration (duration_h is T1 to T4); each block keeps
+    # 30 min beyond them plus the 2-sigma timing margin, which is under a minute here
+    t1 = sched["t1_jd_utc"].to_numpy()
+    t4 = sched["t4_jd_utc"].to_numpy()
+    assert np.allclose(t4 - t1, 2.0 / 24, atol=TIME_TOL_D)
+    lead = (t1 - sched["start_jd_utc"].to_numpy()) * 1440
+    trail = (sched["end_jd_utc"].to_numpy() - t4) * 1440
+    assert np.all((lead >= 30 - 1 / 60) & (lead < 31)) and np.all((trail >= 30 - 1 / 60) & (trail < 31))
+    assert sched["start_jd_utc"].iloc[1] > sched["end_jd_utc"].iloc[0]
+    notes = " ".join(sched["notes"])
+    assert "baselines cut to 30 min each side (of 60 wanted)" in notes
+
+
+def test_an_eclipse_alone_in_the_night_keeps_its_whole_baselines(tmp_path, dark):
+    mid = 0.5 * (dark[0] + dark[1])
+    ra = ra_culminating_at(mid)
+    rows = [f"Ecl-A,{ra:.4f},30,3.1,0,,{mid:.6f},0.0002,JD_UTC,,1,,2.0,,,"]
+    sched = plan(tmp_path, rows).schedule
+    assert len(sched) == 1 and np.isnan(sched["baseline_min"].iloc[0])
+    assert sched["science_fraction"].iloc[0] == 1.0
+    lead = (sched["t1_jd_utc"] - sched["start_jd_utc"]).iloc[0] * 1440
+    assert 60 - 1 / 60 <= lead < 61

@@ -219,7 +219,9 @@ def reasons(block) -> list[str]:
     frac = block["observable_fraction"]
     science = block.get("science_fraction", np.nan)
     if block.get("request") == "series" and np.isfinite(science) and np.isfinite(frac):
-        conditions.append(f"{100 * science:.0f}% of the series' science kept, {100 * frac:.0f}% of the window "
+        cut = block.get("baseline_min", np.nan)
+        cut = f" (baselines cut to {cut:.0f} min)" if np.isfinite(cut) else ""
+        conditions.append(f"{100 * science:.0f}% of the series' science kept{cut}, {100 * frac:.0f}% of the window "
                           f"observable ({pts['pts_coverage']:.1f})")
     elif block.get("request") in RV_ACTIONS:
         conditions.append(f"a visit inside its window: full value, whatever its length ({pts['pts_coverage']:.1f})")
@@ -512,7 +514,7 @@ def write_schedule_csv(path, schedule: pd.DataFrame, tz: str | None = None):
     frame = display_frame(schedule, tz)
     fmt = {c: ".2f" for c in frame.columns if c.startswith("pts_") or c in ("score", "event_sigma_min")}
     fmt.update({c: ".1f" for c in frame.columns if c.startswith("alt_")})
-    fmt.update({"science_fraction": ".2f", "airmass": ".3f",
+    fmt.update({"science_fraction": ".2f", "baseline_min": ".0f", "airmass": ".3f",
                 "moon_sep_deg": ".1f", "moon_illumination": ".2f", "observable_fraction": ".3f"})
     text = render(frame, "csv", fmt)
     with atomic_write(path) as fh:

@@ -106,7 +106,8 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
     Columns ``night, start_utc, end_utc, start_local, end_local, target, event, serves, label,
     kind, request, covers, not_covered, logged_parts (parts of a series the observation log
     holds already), t1_utc .. t4_utc, event_utc, event_sigma_min, score,
-    x_priority, x_rarity, pts_*, science_fraction, alt_low_deg, alt_event_deg, alt_t1_deg ..
+    x_priority, x_rarity, pts_*, science_fraction, baseline_min (the baseline a series keeps either
+    side when it is cut to fit; empty for whole baselines), alt_low_deg, alt_event_deg, alt_t1_deg ..
     alt_t4_deg, airmass, moon_sep_deg, moon_illumination, observable_fraction, notes``. Local
     columns are empty without ``tz`` (an IANA zone name); a contact's time is empty when unknown;
     ``event_sigma_min`` is empty (NaN) where the catalogue gives no uncertainty, so a missing value
@@ -138,7 +139,7 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
     frame["event_utc"] = iso("event_jd_utc", False)
     frame["event_sigma_min"] = _sigma_min(schedule["event_sigma_d"])
     frame["score"] = schedule["score"].to_numpy(float)
-    for c in SCORE_COLUMNS[:-1] + ("science_fraction",) + ALTITUDE_COLUMNS + (
+    for c in SCORE_COLUMNS[:-1] + ("science_fraction", "baseline_min") + ALTITUDE_COLUMNS + (
             "airmass", "moon_sep_deg", "moon_illumination", "observable_fraction", "notes"):
         frame[c] = schedule[c].to_numpy()
     return frame

@@ -47,7 +47,7 @@ SCHEDULE_COLUMNS = (
     "latest_start_jd_utc", "observable_fraction", "science_fraction", "priority", "period_d", "alt_low_deg",
     "alt_event_deg",
 ) + tuple(f"alt_{c}_deg" for c in CONTACT_NAMES) + (
-    "airmass", "moon_sep_deg", "moon_illumination",
+    "airmass", "moon_sep_deg", "moon_illumination", "baseline_min",
 ) + SCORE_COLUMNS + ("logged_parts", "notes")
 
 

@@ -74,6 +74,9 @@ def merge_requests(cands: pd.DataFrame) -> pd.DataFrame:
     s, e = c["start_jd_utc"].to_numpy(float), c["end_jd_utc"].to_numpy(float)
     length = c["length_d"].to_numpy(float)
     same = (ev[ia] != ev[ib]) & (place[ia] == place[ib])
+    if "baseline_min" in c:  # a series with cut baselines is an alternative of its own, never merged
+        whole = np.isnan(c["baseline_min"].to_numpy(float))
+        same &= whole[ia] & whole[ib]
     movable = same & (place[ia] == "movable")
     long_d = np.maximum(length[ia], length[ib])
     m_lo = np.maximum(lo[ia], lo[ib])

@@ -49,6 +49,8 @@ the candidate serves), ``label``, ``night`` (label of the event's night), ``slot
 ``covers``, ``not_covered``  parts of a series the block holds / misses
                          (:mod:`planner.scheduling.series_parts`); empty for visits
 ``science_fraction``     value share of the science kept (series parts; 1 for a visit)
+``baseline_min``         a series offered with its baselines cut (``series_parts``): the
+                         baseline (minutes) it keeps either side; NaN for whole baselines and visits
 ``observable_fraction``  observable share of the window (all stretches together)
 ``merged_with``          request id of the second request a merged candidate serves (-1 if none)
 ``priority``, ``period_d``, ``moon_sep_deg``, ``moon_illumination``, the score columns
@@ -90,7 +92,7 @@ REQUEST_COLUMNS = (
     "stretch_start_jd_utc", "stretch_end_jd_utc", "start_jd_utc", "end_jd_utc", "length_d",
     "earliest_start_jd_utc", "latest_start_jd_utc", "t1_jd_utc", "t2_jd_utc", "t3_jd_utc", "t4_jd_utc",
     "covers", "not_covered", "science_fraction", "observable_fraction", "priority", "period_d",
-    "moon_sep_deg", "moon_illumination", "merged_with",
+    "moon_sep_deg", "moon_illumination", "merged_with", "baseline_min",
 )
 
 
@@ -396,7 +398,35 @@ def _fixed_series(c, targets, settings):
         c.loc[s_idx, "length_d"] = e - s
     long_enough = (c["stretch_end_jd_utc"] - c["stretch_start_jd_utc"]) * MIN_PER_DAY >= max(settings.min_block_min, 1e-6)
     worth = ~series | ((c["science_fraction"] > 0) & long_enough).to_numpy()
-    return c[worth].reset_index(drop=True)
+    c = c[worth].reset_index(drop=True)
+    c["baseline_min"] = np.nan
+    return pd.concat([c, _short_baselines(c, settings)], ignore_index=True)
+
+
+#: Least time (minutes) cutting the baselines of a series must free for the cut series to be offered.
+MIN_BASELINE_CUT_MIN = 10.0
+
+
+def _short_baselines(c, settings):
+    """The series stretches with their baselines cut to :data:`series_parts.BASELINE_PART` of the
+    wanted length (:mod:`series_parts`): from T1 - that - k sigma to T4 + that + k sigma, inside
+    the stretch, where that frees at least :data:`MIN_BASELINE_CUT_MIN`. Each covers the parts of its
+    whole stretch, is worth :data:`series_parts.SHORT_BASELINE` of its science and is an alternative
+    candidate of the same request; ``baseline_min`` is the baseline it keeps."""
+    t1, t4 = c["t1_jd_utc"].to_numpy(float), c["t4_jd_utc"].to_numpy(float)
+    s, e = c["start_jd_utc"].to_numpy(float), c["end_jd_utc"].to_numpy(float)
+    keep_d = series_parts.BASELINE_PART * settings.baseline_h / 24.0
+    margin = np.nan_to_num(c["event_sigma_d"].to_numpy(float)) * settings.k_sigma
+    with np.errstate(invalid="ignore"):
+        s2, e2 = np.maximum(s, t1 - keep_d - margin), np.minimum(e, t4 + keep_d + margin)
+        cut = ((c["request"] == SERIES).to_numpy() & np.isfinite(t1) & np.isfinite(t4)
+               & ((s2 - s) + (e - e2) >= MIN_BASELINE_CUT_MIN / MIN_PER_DAY - 1e-9))
+    out = c[cut].reset_index(drop=True)
+    out["start_jd_utc"], out["end_jd_utc"] = s2[cut], e2[cut]
+    out["length_d"] = e2[cut] - s2[cut]
+    out["science_fraction"] = out["science_fraction"].to_numpy(float) * series_parts.SHORT_BASELINE
+    out["baseline_min"] = keep_d * MIN_PER_DAY
+    return out
 
 
 def _movable_visits(c, altitude_deg):

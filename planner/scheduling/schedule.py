@@ -43,6 +43,7 @@ from .log_requests import apply_log, phase_candidates
 from .monitor import monitor_candidates
 from .options import airmass_points_at
 from .requests import RequestSettings, build_requests, monitor_requests
+from .series_parts import BASELINE_PART
 
 logger = logging.getLogger(__name__)
 
@@ -85,6 +86,9 @@ def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOption
         ev = block["event_jd_utc"]
         if np.isfinite(ev) and not (block["start_jd_utc"] <= ev <= block["end_jd_utc"]):
             notes.append("the event time itself lies outside the block")
+        cut = block.get("baseline_min", np.nan)
+        if np.isfinite(cut):
+            notes.append(f"baselines cut to {cut:.0f} min each side (of {cut / BASELINE_PART:.0f} wanted)")
     if np.isfinite(culmination_jd_utc):
         notes.append(f"crosses the meridian near {local_and_utc(culmination_jd_utc, tz=tz)}: a mount flip may be "
                      "needed")

@@ -19,6 +19,11 @@ the mid-event alone                             0.3    a depth only, no timing
 anything else                                   0      not worth a block
 ==============================================  =====  =========================================
 
+A series may also be offered with its baselines cut to :data:`BASELINE_PART` of the wanted
+length (the contacts, their timing margin and every part it covers kept), worth
+:data:`SHORT_BASELINE` of the same series with whole baselines: the solver takes it where the time
+it frees is worth more, such as room for another block (two eclipses an hour apart in one night).
+
 Without contacts (no geometry and no ``duration_h``) the parts are unknown: the stretch is worth
 its observable share of the window when it holds the mid-event, and nothing otherwise (the rule
 the planner used before requests existed).
@@ -31,6 +36,10 @@ import numpy as np
 #: Share of the wanted baseline that counts as having the baseline [common practice].
 BASELINE_PART = 0.5
 FULL, ONE_SIDE, ONE_SIDE_MID, MID_ONLY = 1.0, 0.7, 0.8, 0.3
+#: Science kept by a series whose baselines are cut to :data:`BASELINE_PART` of the wanted length,
+#: against the same parts with whole baselines [our policy; common practice, no source: a shorter
+#: baseline fits the out-of-eclipse trend less well].
+SHORT_BASELINE = 0.9
 PART_NAMES = ("pre", "T1", "T2", "mid", "T3", "T4", "post")
 PART_WORDS = {"pre": "pre-baseline", "T1": "ingress (T1)", "T2": "second contact (T2)", "mid": "mid-event",
               "T3": "third contact (T3)", "T4": "egress (T4)", "post": "post-baseline"}
