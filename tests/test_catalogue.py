@@ -1,5 +1,7 @@
 """Catalogue loader: parsing, conversions to the engine's conventions, and one-line errors."""
 
+import warnings
+
 import numpy as np
 import pytest
 from astropy.coordinates import Angle
@@ -103,3 +105,26 @@ def test_events_column_validated():
                                   "A,1,2,3,0.1,10,2460000, RV_MAX ; periastron\n", source="c")
     assert t.events[0] == ("rv_max", "periastron")
     assert np.isfinite(t.tp_bjd_tdb[0]) and t.tp_bjd_tdb[0] <= t.epoch_bjd_tdb[0]
+
+
+def test_duration_that_disagrees_with_the_geometry_is_warned_about():
+    # A consistent pair: PyAstronomy's pyasl.transitDuration (exact=True, the circular-orbit
+    # T14 = (P/pi) arcsin(sqrt((1 + k)^2 - b^2) / (a sin i))) for a/R* and k made with its own
+    # constants, as in test_orbit.py; the same row with a duration 20 % longer is warned about.
+    from PyAstronomy import constants, pyasl
+
+    const = constants.PyAConstants()
+    const.setSystem("SI")
+    a_au, rp_rj, rs_rsun, inc, p = 0.05, 1.2, 1.1, 87.0, 3.5
+    t14_h = 24 * pyasl.transitDuration(a_au, rp_rj, rs_rsun, inc, p, exact=True)
+    a_rstar = a_au * const.AU / (rs_rsun * const.RSun)
+    k = rp_rj * const.RJ / (rs_rsun * const.RSun)
+    head = "name,ra,dec,period_d,e,omega_deg,tc,duration_h,a_rstar,inc_deg,rp_rstar\n"
+    row = "Wagtail b,10,20,{p},0,90,2461000.5,{d},{a},{i},{k}\n"
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        catalogue.parse_catalogue(head + row.format(p=p, d=t14_h, a=a_rstar, i=inc, k=k), source="ok.csv")
+    with pytest.warns(UserWarning, match=r"bad.csv: row 3: duration_h differs .* \(row 3: 3.25\d* h against "
+                      rf"{t14_h:.2f} h\)"):
+        catalogue.parse_catalogue(head + row.format(p=p, d=t14_h, a=a_rstar, i=inc, k=k).replace("Wagtail", "Pipit")
+                                  + row.format(p=p, d=1.2 * t14_h, a=a_rstar, i=inc, k=k), source="bad.csv")

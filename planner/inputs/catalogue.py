@@ -208,13 +208,32 @@ def load_columns(header, values, rows, source, header_row=None, units=None, erro
         raise InputErrors(errors)
     for h, v in extras.items():
         result[h] = _extra_column(v)
-    none = [int(r) for r in np.asarray(rows)[n_events == 0]]
-    if none:
-        shown = ", ".join(map(str, none[:5])) + (f" and {len(none) - 5} more" if len(none) > 5 else "")
-        warnings.warn(f"{source}: row{'s' if len(none) > 1 else ''} {shown}: no event to predict (a circular "
-                      "or nearly circular orbit without k_ms, eclipse geometry or duration_h); name the wanted "
-                      "events in column events", stacklevel=2)
+    rows = np.asarray(rows)
+    _warn_rows(source, rows[n_events == 0], "no event to predict (a circular or nearly circular orbit without "
+               "k_ms, eclipse geometry or duration_h); name the wanted events in column events")
+    duration, from_geometry = result["duration_h"].to_numpy(float), checks.geometry_duration_h(result)
+    with np.errstate(invalid="ignore"):
+        differ = np.abs(duration - from_geometry) > np.maximum(DURATION_TOLERANCE * duration, 10.0 / 60.0)
+    if differ.any():
+        first = int(np.flatnonzero(differ)[0])
+        _warn_rows(source, rows[differ], "duration_h differs by more than 5% from the T1-T4 duration that a_rstar, "
+                   f"inc_deg or b and rp_rstar give (row {rows[first]}: {duration[first]:g} h against "
+                   f"{from_geometry[first]:.2f} h); the geometry is used for the contacts: check both, or leave one "
+                   "of them empty")
     return result
+
+
+#: Share by which a catalogue's duration_h may differ from its geometry's T1-T4 before a warning
+#: (published T14 and a/R*, b, Rp/R* of one solution agree far better; common practice, no source).
+DURATION_TOLERANCE = 0.05
+
+
+def _warn_rows(source, rows, message):
+    """One warning naming the rows (the first five, and how many more) of a catalogue that ``message`` is about."""
+    rows = [int(r) for r in rows]
+    if rows:
+        shown = ", ".join(map(str, rows[:5])) + (f" and {len(rows) - 5} more" if len(rows) > 5 else "")
+        warnings.warn(f"{source}: row{'s' if len(rows) > 1 else ''} {shown}: {message}", stacklevel=3)
 
 
 def _extra_column(values):

@@ -608,6 +608,24 @@ def check_geometry(cells: Cells, e, omega_deg):
     return duration, a_rstar, inc, rp
 
 
+def geometry_duration_h(targets) -> np.ndarray:
+    """T1-T4 duration (hours) of the primary conjunction from each target's period, e, omega and
+    eclipse geometry (a_rstar, inc_deg, rp_rstar; :func:`planner.orbits.contacts.contact_offsets_d`);
+    NaN where the geometry is not complete or does not eclipse. Only rows with ``duration_h``
+    are computed (the loader compares the two)."""
+    from ..orbits.contacts import contact_offsets_d
+
+    out = np.full(len(targets), np.nan)
+    cols = [targets[c].to_numpy(float) for c in ("duration_h", "period_d", "a_rstar", "inc_deg", "rp_rstar")]
+    sel = np.flatnonzero(np.all(np.isfinite(np.stack(cols)), axis=0))
+    if sel.size:
+        e = np.nan_to_num(targets["e"].to_numpy(float)[sel])
+        w = np.radians(np.nan_to_num(targets["omega_deg"].to_numpy(float)[sel], nan=90.0))
+        off = contact_offsets_d(cols[1][sel], cols[2][sel], np.radians(cols[3][sel]), cols[4][sel], e, w)
+        out[sel] = (off[:, 3] - off[:, 0]) * 24.0
+    return out
+
+
 def check_observing(cells: Cells) -> dict:
     """RV amplitude, systemic velocity, priority and flexible-visit settings, engine columns."""
     return {
