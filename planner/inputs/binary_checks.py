@@ -41,6 +41,8 @@ def check_shape_alternatives(cells: Cells, e_given, omega_given):
     """
     n, rows = cells.n, cells.rows
     code = np.zeros(n, np.int64)  # index into SHAPE_KINDS
+    if not cells.has_any(SHAPE_COLUMNS):
+        return (Coded.choose(SHAPE_KINDS, code), *(np.full(n, np.nan) for _ in range(6)))
     out = {c: np.full(n, np.nan) for c in ("x", "y", "x_err", "y_err")}
     for name, a, b in (("ecosw", "ecosw", "esinw"), ("secosw", "secosw", "sesinw")):
         ga, gb = cells.given(a), cells.given(b)
@@ -82,6 +84,9 @@ def check_apsidal(cells: Cells, period_d, linear, e):
     (default: the mean interval between primary minima) or the ``anomalistic`` period.
     """
     rows = cells.rows
+    kind = cells.coded("period_kind", lambda v: v or "sidereal", transform=str.lower)
+    if not cells.has_any(APSIDAL_COLUMNS + ("omega_dot", "period_kind")):
+        return np.zeros(cells.n), np.zeros(cells.n), kind
     if cells.has("omega_dot"):
         cells.err(1, "omega_dot", "omega_dot has no unit; name the column omega_dot_deg_cycle "
                   "(degrees per period) or omega_dot_deg_yr (degrees per Julian year)")
@@ -97,7 +102,6 @@ def check_apsidal(cells: Cells, period_d, linear, e):
     col = np.where(cells.given("omega_dot_deg_cycle"), "omega_dot_deg_cycle", "omega_dot_deg_yr")
     for row, c in zip(rows[given & (linear | (e == 0))], col[given & (linear | (e == 0))]):
         cells.err(row, str(c), "apsidal motion needs an eccentric orbit (e > 0 with omega_deg, or ecosw/esinw)")
-    kind = cells.coded("period_kind", lambda v: v or "sidereal", transform=str.lower)
     bad = cells.lookup("period_kind", lambda v: (v or "sidereal") not in ("sidereal", "anomalistic"),
                        transform=str.lower, dtype=bool)
     for row, v in zip(rows[bad], kind[bad]):
@@ -177,6 +181,8 @@ def check_third_body(cells: Cells, ra_deg, dec_deg, system):
     """
     from ..orbits.light_time import AU_LIGHT_TIME_D
 
+    if not cells.has_any(THIRD_BODY_COLUMNS):
+        return tuple(np.full(cells.n, np.nan) for _ in range(5))
     rows = cells.rows
     p3 = cells.numeric("p3_d", positive=True)
     e3 = cells.numeric("e3", default=0.0)

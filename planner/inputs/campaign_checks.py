@@ -29,6 +29,11 @@ def check_campaign(cells: Cells) -> dict:
     """Engine columns ``week_rule`` (text, "" = default), ``phase_bins`` (0 = none), ``sites``
     (default 1) and ``campaign_events`` (a dict event -> count per target; rows whose cells read
     the same share one dict, to be read, not changed)."""
+    if not cells.has_any(CAMPAIGN_COLUMNS):
+        none = np.empty(1, dtype=object)
+        none[0] = {}
+        return {"week_rule": Coded(np.zeros(cells.n, np.int64), [""]), "phase_bins": np.zeros(cells.n, np.int64),
+                "sites": np.ones(cells.n, np.int64), "campaign_events": none[np.zeros(cells.n, np.int64)]}
     rows = cells.rows
     codes, texts = cells.codes("week_rule")
     words = [t.strip().lower() for t in texts]

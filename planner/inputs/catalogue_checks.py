@@ -76,6 +76,11 @@ class Cells:
     def has(self, column) -> bool:
         return column in self.columns
 
+    def has_any(self, columns) -> bool:
+        """True when the catalogue has at least one of ``columns`` (a validator of absent columns
+        returns its defaults without looking at 10^5 empty cells)."""
+        return any(c in self.columns for c in columns)
+
     def err(self, row, column, message, value=None) -> None:
         self.errors.append(InputError(message + self.notes.get(column, ""), file=self.source, row=int(row),
                                       column=self.names.get(column, column), value=value))
@@ -600,6 +605,8 @@ def check_geometry(cells: Cells, e, omega_deg):
     rp = cells.numeric("rp_rstar", positive=True)
     for row in rows[np.isfinite(inc) & np.isfinite(impact)]:
         cells.err(row, "b", "give either inc_deg or b, not both")
+    if not cells.has("b"):
+        return duration, a_rstar, inc, rp
     from ..orbits.geometry import inclination_from_impact
 
     with np.errstate(invalid="ignore"):
@@ -843,6 +850,9 @@ def check_wanted_phases(cells: Cells, linear) -> dict:
     (default :data:`DEFAULT_RV_PHASE_TOL`). A linear ephemeris (``linear``: no e, omega_deg) has no
     periastron and so no such phase: refused. A phase given twice is refused too.
     """
+    if not cells.has_any(("rv_phases", "rv_phase_tol")):
+        return {"rv_phases": np.asarray([(), None], dtype=object)[:-1][np.zeros(cells.n, np.int64)],
+                "rv_phase_tol": np.full(cells.n, DEFAULT_RV_PHASE_TOL)}
     rows = cells.rows
     tol = cells.numeric("rv_phase_tol", default=DEFAULT_RV_PHASE_TOL)
     bad_tol = ~((tol > 0) & (tol < 0.5))
