@@ -16,6 +16,7 @@ import planner
 from planner import cli
 from conftest import REPO, SAMPLE_TARGETS
 from planner.inputs.observation_log import parse_log
+from planner.outputs import sheets
 from planner.outputs.log_template import log_template_frame
 
 SITE = REPO / "sample_targets" / "site.toml"
@@ -52,12 +53,22 @@ def test_replanning_after_a_logged_night_drops_exactly_the_done_events(demo):
     for t, e, j in zip(again.schedule["target"], again.schedule["event"], again.schedule["event_jd_utc"].fillna(0)):
         assert (t, e, round(j * 1440)) not in done_events
     # a sequence's logged visits fill its first slots: only later slots of that passage remain
+    told = 0
     for t, e, j in zip(*(first_night.loc[first_night["request"] == "rv_sequence", c] for c in
                          ("target", "event", "event_jd_utc"))):
         logged = int(((first_night["target"] == t) & (first_night["event"] == e)).sum())
         rest = again.schedule[(again.schedule["target"] == t) & (again.schedule["event"] == e)
                               & (np.round(again.schedule["event_jd_utc"] * 1440) == round(j * 1440))]
         assert (rest["slot"] > logged).all()
+        # and they know which visits the log holds: the sheet says so, not "not in the plan"
+        wanted = ";".join(str(k) for k in range(1, logged + 1))
+        assert (rest["logged_parts"] == wanted).all()
+        for _, block in rest.assign(planned_slots=sheets.planned_slots(rest)).iterrows():
+            if block["slot"] == logged + 1:
+                named = f"visit {logged} logged already" if logged == 1 else f"and {logged} logged already"
+                assert named in sheets.action(block)
+                told += 1
+    assert told >= 1  # the demo's first night logs two visits of Tessel-3's passage
     # the other nights' blocks stay feasible, so the new optimum is worth at least as much (less
     # the solver's 0.1 % move penalty); a block may move (an RV window reaching into the freed
     # night, a monitor visit to the time that frees), but no request of theirs is dropped

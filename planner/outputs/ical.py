@@ -53,7 +53,7 @@ def _description(b: pd.Series) -> str:
             lines.append(f"Covers: {covers}" + (f"; not covered: {missing}" if isinstance(missing, str) and missing else ""))
     parts, total = explain.block_points(b)  # printed parts add up to the printed total
     pts = " + ".join(f"{c[4:]} {v:.1f}" for c, v in parts.items())
-    logged = b.get("logged_parts")
+    logged = b.get("logged_parts") if b.get("request") == "series" else None
     new = (f"x new parts {new_parts_share(b.get('covers', ''), logged):.2f} ({logged} logged already) "
            if isinstance(logged, str) and logged else "")
     lines.append(f"Score: {b['score']:.1f} = priority {b['x_priority']:g} x rarity {b['x_rarity']:.2f} "

@@ -169,12 +169,23 @@ def _other_slots(block) -> str:
     n, planned = int(block.get("n_slots", 1) or 1), str(block.get("planned_slots", "") or "")
     if block.get("request") != "rv_sequence" or not planned or n < 2:
         return ""
+    logged = block.get("logged_parts", "")
+    logged = logged.split(";") if isinstance(logged, str) and logged else []
     left = [k for k in range(1, n + 1) if str(k) not in planned.split(";")]
-    if not left:
+    said = [_visits([k for k in left if str(k) in logged], "logged already"),
+            _visits([k for k in left if str(k) not in logged], "not in the plan")]
+    said = "; ".join(s for s in said if s)
+    return f" ({said})" if said else ""
+
+
+def _visits(numbers, what) -> str:
+    """``"visits 1 and 2 are not in the plan"`` / ``"visit 1 logged already"``; ``""`` for none."""
+    if not numbers:
         return ""
-    if len(left) == 1:
-        return f" (visit {left[0]} is not in the plan)"
-    return f" (visits {', '.join(map(str, left[:-1]))} and {left[-1]} are not in the plan)"
+    verb = "" if what.startswith("logged") else ("is " if len(numbers) == 1 else "are ")
+    if len(numbers) == 1:
+        return f"visit {numbers[0]} {verb}{what}"
+    return f"visits {', '.join(map(str, numbers[:-1]))} and {numbers[-1]} {verb}{what}"
 
 
 def covers_line(block) -> str:
@@ -242,9 +253,10 @@ def reasons(block) -> list[str]:
 
 
 def _logged_parts(block) -> str:
-    """The parts of a series block that the observation log holds already (``""``: none)."""
+    """The parts of a series block that the observation log holds already (``""``: none, and for
+    visits, whose ``logged_parts`` are the logged visits of an RV sequence's passage)."""
     logged = block.get("logged_parts", "")
-    return logged if isinstance(logged, str) else ""
+    return logged if isinstance(logged, str) and block.get("request") == "series" else ""
 
 
 def shared_score(block):

@@ -105,7 +105,8 @@ def display_frame(schedule: pd.DataFrame, tz: str | None) -> pd.DataFrame:
 
     Columns ``night, start_utc, end_utc, start_local, end_local, target, event, serves, label,
     kind, request, covers, not_covered, logged_parts (parts of a series the observation log
-    holds already), t1_utc .. t4_utc, event_utc, event_sigma_min, score,
+    holds already; for an RV sequence's visit, the visits of its passage logged), t1_utc .. t4_utc,
+    event_utc, event_sigma_min, score,
     x_priority, x_rarity, pts_*, science_fraction, baseline_min (the baseline a series keeps either
     side when it is cut to fit; empty for whole baselines), alt_low_deg, alt_event_deg, alt_t1_deg ..
     alt_t4_deg, airmass, moon_sep_deg, moon_illumination, observable_fraction, notes``. Local

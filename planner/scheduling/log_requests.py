@@ -104,7 +104,9 @@ def apply_log(cands: pd.DataFrame, monitors: pd.DataFrame, log: pd.DataFrame | N
             continue
         if c.request == "rv_sequence":
             # each logged visit of a passage fills one slot, in time order: the first m drop out
-            keep[k] = int(c.slot) > sum(r.outcome in USED for r in rows)  # slots count from 1
+            m = sum(r.outcome in USED for r in rows)
+            keep[k] = int(c.slot) > m  # slots count from 1
+            logged_parts[k] = ";".join(str(i) for i in range(1, min(m, int(c.n_slots)) + 1))
             continue
         if any(r.outcome == "done" for r in rows):
             keep[k] = False
