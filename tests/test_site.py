@@ -94,6 +94,8 @@ def test_sample_site_reads():
     ("darkness = 5\n", "darkness", "-90..0"),
     ("min_hour_angle_h = 3\nmax_hour_angle_h = -3\n", "min_hour_angle_h", "lower limit must be smaller"),
     ("max_airmass = 0.5\n", "max_airmass", "1 <= max_airmass"),
+    ("max_altitude_deg = 95\n", "max_altitude_deg", "min_altitude_deg < max_altitude_deg <= 90"),
+    ("min_altitude_deg = 30\nmax_altitude_deg = 25\n", "max_altitude_deg", "not above min_altitude_deg = 30"),
     ("minimum_altitude = 20\n", "minimum_altitude", "unknown key"),
 ])
 def test_bad_values_name_file_and_key(extra, key, fragment):

@@ -290,3 +290,55 @@ def test_intervals_together_equal_one_at_a_time_and_in_chunks(setup, monkeypatch
     monkeypatch.setattr(windows, "_CHUNK_SAMPLES", 1)  # one night per chunk
     chunked = windows.observable_intervals(targets, s, nights, tracks, target_indices=range(8))
     pd.testing.assert_frame_equal(chunked, together)
+
+
+def test_a_ceiling_for_an_alt_az_mount_matches_astroplan_and_cuts_intervals_at_it():
+    # An alt-az mount that cannot follow a target within 10 deg of the zenith: max_altitude_deg
+    # 80. Reference: astroplan's AltitudeConstraint(min, max) with AtNightConstraint on a 5-minute
+    # grid, and astropy's altitude at each interval edge that is neither dusk nor dawn.
+    import astropy.units as u
+    from astroplan import AltitudeConstraint, AtNightConstraint, FixedTarget, Observer
+    from astropy.coordinates import AltAz, SkyCoord
+    from astropy.time import Time
+
+    from planner.sky.limits import limiting_constraint
+
+    s = site(max_altitude_deg=80.0, moon_min_sep_deg=0.0)
+    rng = np.random.default_rng(11)
+    n = 30  # declinations 25..50 deg culminate 77.6..90 deg at latitude 37.62: most pass the ceiling
+    targets = pd.DataFrame({"name": [f"Z{i}" for i in range(n)], "ra_deg": rng.uniform(0, 360, n),
+                            "dec_deg": rng.uniform(25, 50, n)})
+    nights = night_table(s, "2026-12-20", 2)
+    tracks = tracks_for_nights(s, "2026-12-20", 2)
+    jd = nights.noon_jd_utc[0] + 0.15 + np.arange(0, 1.7, 5 / 1440)
+    t = Time(jd, format="jd", scale="utc")
+    coords = SkyCoord(targets.ra_deg.to_numpy() * u.deg, targets.dec_deg.to_numpy() * u.deg)
+    obs = Observer(location=s.earth_location(), pressure=0 * u.hPa)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        ref = np.ones((n, jd.size), bool)
+        for c in (AltitudeConstraint(min=30 * u.deg, max=80 * u.deg), AtNightConstraint(max_solar_altitude=-18 * u.deg)):
+            ref &= np.asarray(c(obs, [FixedTarget(x) for x in coords], times=t, grid_times_targets=True), dtype=bool)
+        alt = coords[:, None].transform_to(AltAz(obstime=t[None, :], location=s.earth_location(),
+                                                 pressure=0 * u.hPa)).alt.deg
+    hair = (np.abs(alt - 30.0) < HAIR_DEG) | (np.abs(alt - 80.0) < HAIR_DEG)
+    mask = windows.observable_mask(targets.ra_deg, targets.dec_deg, s, jd, tracks)
+    dark = ref.any(axis=0)
+    assert np.any((alt > 80.0) & dark[None, :])  # the ceiling is reached in darkness
+    assert not ((mask != ref) & ~hair).any()
+    iv = windows.observable_intervals(targets, s, nights, tracks)
+    assert np.all(iv.max_alt_deg <= 80.0 + EDGE_TOLERANCE_DEG)
+    inner = []
+    d0, d1 = dict(zip(nights.night, nights.dark_start_jd_utc)), dict(zip(nights.night, nights.dark_end_jd_utc))
+    for row in iv.itertuples():
+        inner += [(row.target_index, x) for x in (row.start_jd_utc, row.end_jd_utc)
+                  if min(abs(x - d0[row.night]), abs(x - d1[row.night])) > 1e-6]
+    rows, times = np.array([r for r, _ in inner]), np.array([x for _, x in inner])
+    edge_alt = coords[rows].transform_to(AltAz(obstime=Time(times, format="jd", scale="utc"),
+                                               location=s.earth_location(), pressure=0 * u.hPa)).alt.deg
+    at_ceiling = np.abs(edge_alt - 80.0) < 0.1
+    assert at_ceiling.sum() >= 10
+    assert np.max(np.abs(edge_alt[at_ceiling] - 80.0)) < EDGE_TOLERANCE_DEG
+    # at its culmination above the ceiling in darkness, a target's reason is the zenith limit
+    i, k = np.argwhere((alt > 85.0) & dark[None, :])[0]
+    assert limiting_constraint(targets, s, i, jd[k], tracks) == "zenith"

@@ -16,6 +16,9 @@ Site file keys (TOML, top level; units in the names):
 ``timezone``                   IANA zone name, e.g. ``Europe/Madrid`` (required)
 ``min_altitude_deg``           lowest usable airless altitude, -5..90 (default 30)
 ``max_airmass``                highest usable airmass (Young 1994 formula), >= 1 (default none)
+``max_altitude_deg``           highest usable airless altitude, above min_altitude_deg and at most
+                               90 (default none): the blind spot around the zenith of an alt-az
+                               mount, whose azimuth cannot follow a target passing close to it
 ``horizon``                    local horizon: list of ``[azimuth_deg, altitude_deg]`` pairs,
                                azimuth from north through east; interpolated linearly in
                                azimuth, wrapping through north (default none: flat)
@@ -73,7 +76,7 @@ ZONE_LONGITUDE_WARN_H = 3.0
 
 REQUIRED_KEYS = ("name", "latitude_deg", "longitude_deg", "elevation_m", "timezone")
 OPTIONAL_KEYS = (
-    "min_altitude_deg", "max_airmass", "horizon", "min_hour_angle_h", "max_hour_angle_h",
+    "min_altitude_deg", "max_airmass", "max_altitude_deg", "horizon", "min_hour_angle_h", "max_hour_angle_h",
     "min_declination_deg", "max_declination_deg", "darkness", "moon_min_separation_deg",
     "moon_separation_growth_deg", "sun_min_separation_deg", "notes",
 )
@@ -98,6 +101,7 @@ class Site:
     timezone: str
     min_altitude_deg: float = DEFAULT_MIN_ALTITUDE_DEG
     max_airmass: float | None = None
+    max_altitude_deg: float | None = None
     horizon_az_deg: tuple = ()
     horizon_alt_deg: tuple = ()
     min_hour_angle_h: float | None = None
@@ -301,6 +305,12 @@ def parse_site(text: str, source: str = "<site>") -> Site:
                                      *MIN_ALTITUDE_RANGE_DEG, expected="degrees, -5 <= min_altitude_deg <= 90")
     kw["max_airmass"] = _number(data, "max_airmass", source, errors, None, 1.0, 38.0,
                                 expected="an airmass, 1 <= max_airmass <= 38")
+    kw["max_altitude_deg"] = _number(data, "max_altitude_deg", source, errors, None, -5, 90,
+                                     expected="degrees, min_altitude_deg < max_altitude_deg <= 90")
+    if kw["max_altitude_deg"] is not None and kw["max_altitude_deg"] <= kw["min_altitude_deg"]:
+        errors.append(InputError(f"{kw['max_altitude_deg']:g} is not above min_altitude_deg = "
+                                 f"{kw['min_altitude_deg']:g}; nothing could be observed", file=source,
+                                 column="max_altitude_deg", value=kw["max_altitude_deg"]))
     if "horizon" in data:
         kw["horizon_az_deg"], kw["horizon_alt_deg"] = _horizon(data["horizon"], source, errors)
     for key in ("min_hour_angle_h", "max_hour_angle_h"):

@@ -2,7 +2,7 @@
 
 :func:`limiting_constraint` names, per (target, time), the first limit that fails, in the order
 an observer checks them: the Sun (no darkness), declination, altitude (minimum altitude or the
-airmass limit), the horizon profile, hour angle, the Moon, the Sun's distance. The limits are the
+airmass limit), the maximum altitude, the horizon profile, hour angle, the Moon, the Sun's distance. The limits are the
 ones :mod:`planner.sky.windows` folds into its margin (same site fields, same formulas), so a
 moment is observable exactly when the code is ``""``.
 """
@@ -20,6 +20,7 @@ REASONS = {
     "no_darkness": "in daylight or twilight (the Sun above the site's darkness limit)",
     "declination": "outside the mount's declination limits",
     "altitude": "below the minimum altitude (or above the airmass limit)",
+    "zenith": "above the mount's maximum altitude (its blind spot around the zenith)",
     "horizon": "behind the site's horizon profile",
     "hour_angle": "outside the mount's hour-angle limits",
     "moon": "too close to the Moon",
@@ -71,6 +72,8 @@ def limit_codes(targets, site, target_index, jd_utc, tracks) -> np.ndarray:
         "no_darkness": ~(sun_alt < site.darkness_sun_alt_deg),
         "declination": dec_bad,
         "altitude": ~(pos.alt_deg > alt_floor),
+        "zenith": (pos.alt_deg > site.max_altitude_deg if site.max_altitude_deg is not None
+                   else np.zeros(ti.shape, bool)),
         "horizon": ~(pos.alt_deg > altitude_limit_deg(site, pos.az_deg)),
         "hour_angle": ha_bad,
         "moon": moon_sep < site.moon_min_sep_at_deg(tracks.moon_illumination(jd)),

@@ -4,7 +4,7 @@ A target is *observable* at a moment when every constraint of the site holds:
 
 - the Sun's centre below the site's darkness altitude (the dark interval of the night table);
 - airless altitude above ``max(min_altitude_deg, horizon profile at the target's azimuth,
-  altitude of max_airmass)``;
+  altitude of max_airmass)`` and, when the site sets one, below ``max_altitude_deg``;
 - hour angle and declination inside the mount's limits, if set;
 - Moon separation >= ``moon_min_sep_deg + moon_sep_growth_deg x illumination``;
 - Sun separation >= ``sun_min_sep_deg``.
@@ -108,6 +108,8 @@ def _margin_deg(site, ra_c, dec_c, cos_moon, cos_sun, era, illumination, dec_ok)
     """
     ha, alt, az = positions.horizontal(ra_c, dec_c, era, site.latitude_deg, site.longitude_deg)
     m = alt - altitude_limit_deg(site, az)
+    if site.max_altitude_deg is not None:
+        m = np.minimum(m, site.max_altitude_deg - alt)
     if site.min_hour_angle_h is not None:
         m = np.minimum(m, (ha - site.min_hour_angle_h) * 15.0)
     if site.max_hour_angle_h is not None:
@@ -140,8 +142,13 @@ def _fast_mask(site, ra_c, dec_c, tvec, era, moon_v, sun_v, illumination, dec_ok
     up = edges.rows_that_may_clear(c, ra_c, theta)
     up = up[np.asarray(dec_ok)[up]]
     m = np.zeros((ra_c.size, theta.size), bool)
-    m[up] = (np.stack([np.cos(ra_c[up]), np.sin(ra_c[up])], axis=1)
-             @ np.stack([np.cos(theta), np.sin(theta)])) > c[up, None]
+    cos_theta = np.stack([np.cos(theta), np.sin(theta)])
+    m[up] = np.stack([np.cos(ra_c[up]), np.sin(ra_c[up])], axis=1) @ cos_theta > c[up, None]
+    if site.max_altitude_deg is not None:  # below the ceiling: cos H under that of the ceiling's altitude
+        with np.errstate(divide="ignore", invalid="ignore"):
+            top = (np.sin(np.radians(site.max_altitude_deg)) - np.sin(lat) * np.sin(dec_c)) / (np.cos(lat) * np.cos(dec_c))
+        high = up[top[up] < 1.0]  # the targets that culminate above the ceiling
+        m[high] &= np.stack([np.cos(ra_c[high]), np.sin(ra_c[high])], axis=1) @ cos_theta < top[high, None]
     if site.moon_min_sep_deg > 0 or site.moon_sep_growth_deg > 0:
         need_deg = np.asarray(site.moon_min_sep_at_deg(illumination), float) * np.ones(len(moon_v))
         rows = numerics.rows_near_track(tvec, moon_v, float(need_deg.max()))
