@@ -228,3 +228,14 @@ def test_missed_lines_name_the_event_as_the_blocks_do_and_say_when():
         "reason": ["low", "short", "low", "day"]})
     lines = sheets.missed_lines(unscheduled, "2026-12-07", "Europe/Madrid", {"Puls": "light maximum"})
     assert lines == ["Puls light maximum at 20:04 (priority 4): low", "Puls light maximum at 03:41 (priority 4): short"]
+
+
+def test_a_sequence_visit_puts_its_asides_in_one_parenthesis():
+    # the third visit of a passage whose first visit is logged and whose second is not planned,
+    # merged with the RV maximum of the same passage: one parenthesis says all three
+    row = pd.Series(block(0.30, 0.32, "Passage Star", event="periastron", request="rv_sequence",
+                          serves="periastron;rv_max", slot=3, n_slots=3, planned_slots="3", logged_parts="1",
+                          event_jd_utc=J0 + 0.31))
+    assert sheets.action(row).endswith("(visit 1 logged already; visit 2 is not in the plan; it serves "
+                                       "periastron and rv max at once)")
+    assert sheets.action(row).count("(") == 1

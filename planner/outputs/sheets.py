@@ -110,25 +110,27 @@ def action(block) -> str:
     """What to do in a block, in words, from its request kind and event (see :data:`ACTIONS`)."""
     label = block.get("label") if isinstance(block.get("label"), str) and block.get("label") else block["event"]
     request = block.get("request", "")
+    asides = []  # said in one parenthesis at the end
     if request in RV_ACTIONS:
         minutes = (block["end_jd_utc"] - block["start_jd_utc"]) * MIN_PER_DAY
         what = str(block["event"]).replace("rv_max", "RV maximum").replace("rv_min", "RV minimum").replace("_", " ")
         text = RV_ACTIONS[request].format(minutes=minutes, what=what, slot=int(block.get("slot", 1)),
-                                          n_slots=int(block.get("n_slots", 1))) + _swing_offset(block) \
-            + _other_slots(block)
+                                          n_slots=int(block.get("n_slots", 1))) + _swing_offset(block)
+        asides.append(_other_slots(block))
         if block["event"] == "visit":  # a phase-coverage visit: its bin, not an event
-            text = f"one RV spectrum of about {minutes:.0f} min in orbital {label} (not yet observed)"
+            text, asides = f"one RV spectrum of about {minutes:.0f} min in orbital {label}", ["not yet observed"]
         phase = phase_of_event(block["event"])
         if np.isfinite(phase):  # a wanted phase: the phase, and the mean anomaly it means
-            text = (f"one RV spectrum of about {minutes:.0f} min at orbital phase {phase_text(phase)} "
-                    f"(mean anomaly {360.0 * phase:.4g} deg from periastron)")
+            text = f"one RV spectrum of about {minutes:.0f} min at orbital phase {phase_text(phase)}"
+            asides = [f"mean anomaly {360.0 * phase:.4g} deg from periastron"]
     else:
         event = event_meant(str(block["event"]), label)  # a linear ephemeris given as tc: a transit
         text = ACTIONS.get(event, "observe {label}").format(label="periodic event" if label == event else label)
     serves = str(block.get("serves", "") or "")
     if ";" in serves:
-        text += " (it serves " + " and ".join(w.replace("_", " ") for w in serves.split(";")) + " at once)"
-    return text
+        asides.append("it serves " + " and ".join(w.replace("_", " ") for w in serves.split(";")) + " at once")
+    asides = [a for a in asides if a]
+    return text + (f" ({'; '.join(asides)})" if asides else "")
 
 
 def planned_slots(schedule: pd.DataFrame) -> np.ndarray:
@@ -164,8 +166,8 @@ def _swing_offset(block) -> str:
 
 
 def _other_slots(block) -> str:
-    """``" (visits 1 and 2 are not in the plan)"`` for an RV sequence's block whose passage has
-    slots the plan leaves out; ``""`` otherwise."""
+    """``"visits 1 and 2 are not in the plan"`` (or ``"... logged already"``) for an RV sequence's
+    block whose passage has slots the plan leaves out; ``""`` otherwise."""
     n, planned = int(block.get("n_slots", 1) or 1), str(block.get("planned_slots", "") or "")
     if block.get("request") != "rv_sequence" or not planned or n < 2:
         return ""
@@ -174,8 +176,7 @@ def _other_slots(block) -> str:
     left = [k for k in range(1, n + 1) if str(k) not in planned.split(";")]
     said = [_visits([k for k in left if str(k) in logged], "logged already"),
             _visits([k for k in left if str(k) not in logged], "not in the plan")]
-    said = "; ".join(s for s in said if s)
-    return f" ({said})" if said else ""
+    return "; ".join(s for s in said if s)
 
 
 def _visits(numbers, what) -> str:
