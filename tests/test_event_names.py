@@ -107,15 +107,19 @@ def test_default_events_follow_the_target():
             f"RV only,16:20:36.36,+41:02:53.1,{P},{E},{W_DEG},{TC},983.9,,,,\n"    # K, no eclipse
             f"Both,16:20:36.36,+41:02:53.1,{P},{E},{W_DEG},{TC},983.9,9.7,86.7,0.0723,\n"
             "Circular EB,10,20,3.2,0,,2461000.2,,,,,2.5\n"          # a duration only
+            "Star companion,10,20,3.2,0,,2461000.2,,9.7,86.7,0.35,\n"  # a stellar radius ratio
             "Circular RV,10,20,3.2,0,,2461000.2,55,,,,\n"
             "Nearly circular RV,10,20,0.94,0.0091,269,2461000.2,1818,,,,\n")   # below NEAR_CIRCULAR_E
     t = load(text).set_index("name")
-    # a photometric target's periastron shows nothing in its light curve: not a default
-    assert t.loc["HAT-P-2 b", "events"] == ("primary_conjunction", "secondary_conjunction")
+    # a photometric target's periastron shows nothing in its light curve: not a default; nor is
+    # a planet's occultation (HAT-P-2 b's Rp/R* 0.0723, Pal et al. 2010: its occultation was
+    # measured from space), while an eclipse geometry with a stellar radius ratio, or a duration
+    # alone (an eclipsing binary's catalogue), asks for both eclipses
+    assert t.loc["HAT-P-2 b", "events"] == ("primary_conjunction",)
     assert t.loc["RV only", "events"] == ("periastron", "apastron", "rv_max", "rv_min")
-    assert t.loc["Both", "events"] == ("periastron", "primary_conjunction", "secondary_conjunction",
-                                       "rv_max", "rv_min")
+    assert t.loc["Both", "events"] == ("periastron", "primary_conjunction", "rv_max", "rv_min")
     assert t.loc["Circular EB", "events"] == ("primary_conjunction", "secondary_conjunction")
+    assert t.loc["Star companion", "events"] == ("primary_conjunction", "secondary_conjunction")
     assert t.loc["Circular RV", "events"] == ("rv_max", "rv_min")
     # e = 0.009: its fastest RV swing is within 2 % of a circular orbit's, no periastron of its own
     assert t.loc["Nearly circular RV", "events"] == ("rv_max", "rv_min")

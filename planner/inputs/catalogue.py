@@ -378,7 +378,8 @@ def _validate(cells: checks.Cells):
     duration, a_rstar, inc, rp = checks.check_geometry(cells, e, omega)
     eclipse = np.isfinite(duration) | (np.isfinite(a_rstar) & np.isfinite(inc) & np.isfinite(rp))
     events, labels, n_events = checks.check_events(cells, linear, e, rv=np.isfinite(observing["k_ms"]) & (observing["k_ms"] > 0),
-                                         eclipse=eclipse, epoch_kind=epoch_kind)
+                                         eclipse=eclipse, epoch_kind=epoch_kind,
+                                         planet=rp < checks.PLANET_RADIUS_RATIO)
     requests = checks.check_requests(cells, linear, duration, a_rstar, observing["k_ms"])
     campaign = check_campaign(cells)
     phases = checks.check_wanted_phases(cells, linear)

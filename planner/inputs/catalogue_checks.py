@@ -653,7 +653,15 @@ def check_observing(cells: Cells) -> dict:
 NEAR_CIRCULAR_E = 0.05
 
 
-def default_events(linear, e, rv, eclipse) -> tuple:
+#: Radius ratio below which an eclipsing companion is taken for a planet, whose occultation is
+#: not a default event [our policy; common practice, no source: a planet's occultation depth in
+#: the optical is of order 10^-4 (a hot Jupiter's) or far less, out of reach of the small and
+#: mid-size telescopes periplan plans for; a stellar companion's secondary eclipse is a standard
+#: target of eclipse timing, and a star of 0.2 solar radii is a late M dwarf].
+PLANET_RADIUS_RATIO = 0.2
+
+
+def default_events(linear, e, rv, eclipse, planet=False) -> tuple:
     """Events of a target whose ``events`` cell is empty: what its elements make worth observing.
 
     A linear ephemeris has its ``periodic`` event. An orbit gets periastron when eccentric
@@ -663,8 +671,9 @@ def default_events(linear, e, rv, eclipse) -> tuple:
     which can name it); RV maximum and minimum only with an RV amplitude (``rv``: k_ms given);
     apastron only for an eccentric RV target without eclipse information (nothing photometric
     happens there); the two conjunctions only with eclipse information (``eclipse``: a duration,
-    or a/R*, inclination and radius ratio). Anything else is observed only when the ``events``
-    column asks for it.
+    or a/R*, inclination and radius ratio), the secondary not for a ``planet`` (a radius ratio
+    below :data:`PLANET_RADIUS_RATIO`: its occultation is too shallow). Anything else is observed
+    only when the ``events`` column asks for it.
     """
     if linear:
         return (PERIODIC_EVENT,)
@@ -673,14 +682,14 @@ def default_events(linear, e, rv, eclipse) -> tuple:
         "periastron": eccentric and (rv or not eclipse),
         "apastron": eccentric and rv and not eclipse,
         "primary_conjunction": eclipse,
-        "secondary_conjunction": eclipse,
+        "secondary_conjunction": eclipse and not planet,
         "rv_max": rv,
         "rv_min": rv,
     }
     return tuple(ev for ev in ORBIT_EVENTS if wanted[ev])
 
 
-def check_events(cells: Cells, linear, e, rv=None, eclipse=None, epoch_kind=None):
+def check_events(cells: Cells, linear, e, rv=None, eclipse=None, epoch_kind=None, planet=None):
     """(events, labels, counts): each row's tuple of wanted event names, the label of its event,
     and how many events the tuple holds.
 
@@ -688,7 +697,8 @@ def check_events(cells: Cells, linear, e, rv=None, eclipse=None, epoch_kind=None
     ``occultation``, ``secondary_eclipse``; :data:`planner.orbits.geometry.EVENT_ALIASES`); a
     linear ephemeris may say ``maximum`` or ``minimum`` (then its label, when empty, says so).
     An empty cell gets :func:`default_events` (``rv``: rows with k_ms, ``eclipse``: rows with a
-    duration or eclipse geometry; both False when not given). A linear ephemeris is labelled
+    duration or eclipse geometry, ``planet``: rows whose radius ratio makes the companion a
+    planet; all False when not given). A linear ephemeris is labelled
     ``periodic`` unless ``label`` or the events column says otherwise, or :data:`LINEAR_TC_LABEL`
     when its ``epoch_kind`` (``tp``/``tc``/``t0`` per row, optional) is ``tc``.
     """
@@ -741,10 +751,11 @@ def check_events(cells: Cells, linear, e, rv=None, eclipse=None, epoch_kind=None
     # the events of each row: its column's, or the defaults of its kind of target
     choices = [p[2] for p in parsed]
     eccentric = np.asarray(e) >= NEAR_CIRCULAR_E
-    default_key = (linear.astype(np.int64) * 8 + eccentric * 4 + rv * 2 + eclipse).astype(np.int64)
-    for key in range(16):
+    planet = np.zeros(n, bool) if planet is None else np.asarray(planet, bool)
+    default_key = (planet * 16 + linear.astype(np.int64) * 8 + eccentric * 4 + rv * 2 + eclipse).astype(np.int64)
+    for key in range(32):
         choices.append(default_events(bool(key & 8), NEAR_CIRCULAR_E if key & 4 else 0.0, bool(key & 2),
-                                      bool(key & 1)))
+                                      bool(key & 1), bool(key & 16)))
     table = np.empty(len(choices), dtype=object)
     for i, choice in enumerate(choices):
         table[i] = choice
