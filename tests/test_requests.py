@@ -292,3 +292,25 @@ def test_an_eclipse_alone_in_the_night_keeps_its_whole_baselines(tmp_path, dark)
     assert sched["science_fraction"].iloc[0] == 1.0
     lead = (sched["t1_jd_utc"] - sched["start_jd_utc"]).iloc[0] * 1440
     assert 60 - 1 / 60 <= lead < 61
+
+
+def test_merge_candidates_are_paired_only_within_reach_as_brute_force_finds():
+    # the pairs that may merge are those of one target whose spans overlap: the sweep must find
+    # exactly the pairs an all-pairs comparison finds (ties, touching and NaN spans included)
+    from planner.scheduling.request_merge import _pairs_in_reach
+
+    rng = np.random.default_rng(3)
+    n = 400
+    target = rng.integers(0, 25, n)
+    lo = np.round(rng.uniform(0, 7, n), 1)  # rounded: equal starts and touching spans occur
+    hi = lo + np.round(rng.uniform(0, 0.5, n), 1)
+    lo[::37] = np.nan
+    ia, ib = _pairs_in_reach(target, lo, hi)
+    i, j = np.triu_indices(n, 1)
+    overlap = (target[i] == target[j]) & (lo[i] < hi[j]) & (lo[j] < hi[i])
+    found = set(zip(ia.tolist(), ib.tolist()))
+    assert set(zip(i[overlap].tolist(), j[overlap].tolist())) <= found
+    assert all(target[a] == target[b] for a, b in found)
+    # no more than pairs that overlap or touch within the microsecond tolerance
+    assert all(lo[b] <= hi[a] + 1e-6 and lo[a] <= hi[b] + 1e-6 for a, b in found)
+    assert list(zip(ia, ib)) == sorted(found)  # the order of the all-pairs join

@@ -57,22 +57,49 @@ def _matched(ra, rb, value):
     return np.isin(key, chosen)
 
 
+def _pairs_in_reach(target, lo, hi):
+    """(ia, ib), ia < ib, in that order: the pairs of rows of one target whose spans [lo, hi]
+    (days) overlap, or come within a microsecond of it; rows with a span not finite pair with none.
+
+    Only such pairs can merge (a fixed pair must overlap, a movable pair's allowed blocks must
+    share a moment), so the rest of a target's pairs (a survey week: a dozen candidates of one
+    target over seven nights, 144 pairs of which a few overlap) are never made.
+    """
+    ok = np.flatnonzero(np.isfinite(lo) & np.isfinite(hi))
+    if ok.size < 2:
+        return np.zeros(0, np.int64), np.zeros(0, np.int64)
+    order = ok[np.lexsort((lo[ok], target[ok]))]
+    t, l, h = target[order], lo[order], hi[order]
+    # ends of each row's reach among the rows after it: same target, starting before its end
+    t_rank = np.searchsorted(np.unique(t), t)
+    base, span = l.min(), h.max() - l.min() + 1.0
+    key = t_rank * span + (l - base)  # increasing in (target, lo)
+    stop = np.searchsorted(key, t_rank * span + (h - base) + 1e-11 * span * (t_rank + 1), side="left")
+    count = np.maximum(stop - np.arange(len(t)) - 1, 0)
+    first = np.repeat(np.arange(len(t)), count)
+    second = first + 1 + (np.arange(count.sum()) - np.repeat(np.cumsum(count) - count, count))
+    ia, ib = order[first], order[second]
+    ia, ib = np.minimum(ia, ib), np.maximum(ia, ib)
+    keep = np.lexsort((ib, ia))
+    return ia[keep], ib[keep]
+
+
 def merge_requests(cands: pd.DataFrame) -> pd.DataFrame:
     """The candidate table with merged candidates added and ``group`` set (module docstring)."""
     c = cands.reset_index(drop=True).assign(merged_with=np.int64(-1))
     if len(c) < 2:
         return c
-    key = pd.DataFrame({"i": np.arange(len(c)), "target_index": c["target_index"].to_numpy(int)})
-    pairs = key.merge(key, on="target_index", suffixes=("_a", "_b"))
-    pairs = pairs[pairs["i_a"] < pairs["i_b"]]
-    ia, ib = pairs["i_a"].to_numpy(int), pairs["i_b"].to_numpy(int)
+    lo, hi = c["earliest_start_jd_utc"].to_numpy(float), c["latest_start_jd_utc"].to_numpy(float)
+    s, e = c["start_jd_utc"].to_numpy(float), c["end_jd_utc"].to_numpy(float)
+    length = c["length_d"].to_numpy(float)
+    movable = (c["placement"] == "movable").to_numpy()
+    reach_lo = np.where(movable, lo, s)
+    reach_hi = np.where(movable, hi + length, e)
+    ia, ib = _pairs_in_reach(c["target_index"].to_numpy(np.int64), reach_lo, reach_hi)
     if ia.size == 0:
         return c
     ev = c["event"].to_numpy(object)
     place = c["placement"].to_numpy(object)
-    lo, hi = c["earliest_start_jd_utc"].to_numpy(float), c["latest_start_jd_utc"].to_numpy(float)
-    s, e = c["start_jd_utc"].to_numpy(float), c["end_jd_utc"].to_numpy(float)
-    length = c["length_d"].to_numpy(float)
     same = (ev[ia] != ev[ib]) & (place[ia] == place[ib])
     if "baseline_min" in c:  # a series with cut baselines is an alternative of its own, never merged
         whole = np.isnan(c["baseline_min"].to_numpy(float))
