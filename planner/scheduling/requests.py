@@ -84,6 +84,8 @@ REQUEST_KINDS = (SERIES, RV_VISIT, RV_SEQUENCE, MONITOR)
 DEFAULT_VISIT_H = 0.5
 #: Candidate starts tried for a movable visit inside its allowed range (lowest airmass wins).
 PLACEMENT_SAMPLES = 13
+#: Candidates placed or scored at once (bounds the altitudes computed together: 65,536 x 13 samples).
+_PLACEMENT_CHUNK = 65_536
 CONJUNCTIONS = ("primary_conjunction", "secondary_conjunction")
 
 REQUEST_COLUMNS = (
@@ -446,9 +448,12 @@ def _movable_visits(c, altitude_deg):
         starts = lo[m, None] + (hi - lo)[m, None] * f
         pick = np.full(m.size, PLACEMENT_SAMPLES // 2)
         if altitude_deg is not None:
-            idx = np.broadcast_to(c["target_index"].to_numpy(int)[m, None], starts.shape)
-            alt = np.asarray(altitude_deg(idx, starts + 0.5 * length[m, None]), float)
-            pick = np.argmax(np.where(np.isfinite(alt), alt, -np.inf), axis=1)
+            ti = c["target_index"].to_numpy(int)[m]
+            for k in range(0, m.size, _PLACEMENT_CHUNK):  # bounds the altitude arrays of a survey
+                sl = slice(k, k + _PLACEMENT_CHUNK)
+                idx = np.broadcast_to(ti[sl, None], starts[sl].shape)
+                alt = np.asarray(altitude_deg(idx, starts[sl] + 0.5 * length[m[sl], None]), float)
+                pick[sl] = np.argmax(np.where(np.isfinite(alt), alt, -np.inf), axis=1)
         start[m] = starts[np.arange(m.size), pick]
     c["start_jd_utc"] = start
     c["end_jd_utc"] = np.where(mov, start + length, c["end_jd_utc"].to_numpy(float))
@@ -475,11 +480,15 @@ def _score(c, altitude_deg, weights):
     from .blocks import altitudes, mean_airmass, sample_times
     from .score import airmass_from_alt
 
-    alt = altitudes(altitude_deg, c["target_index"].to_numpy(int),
-                    sample_times(c["start_jd_utc"].to_numpy(float), c["end_jd_utc"].to_numpy(float)))
+    ti, start, end = (c[k].to_numpy(t) for k, t in (("target_index", int), ("start_jd_utc", float),
+                                                     ("end_jd_utc", float)))
+    airmass = np.full(len(c), np.nan)
+    for k in range(0, len(c), _PLACEMENT_CHUNK):  # bounded memory, as for the placement
+        sl = slice(k, k + _PLACEMENT_CHUNK)
+        airmass[sl] = mean_airmass(airmass_from_alt(altitudes(altitude_deg, ti[sl], sample_times(start[sl], end[sl]))))
     window = (c["window_end_jd_utc"] - c["window_start_jd_utc"]).to_numpy(float)
     sc = score_components(c["priority"].to_numpy(float), c["period_d"].to_numpy(float),
-                          c["science_fraction"].to_numpy(float), mean_airmass(airmass_from_alt(alt)),
+                          c["science_fraction"].to_numpy(float), airmass,
                           c["moon_sep_deg"].to_numpy(float), c["moon_illumination"].to_numpy(float),
                           c["event_sigma_d"].to_numpy(float), window, weights)
     for col in sc.columns:
