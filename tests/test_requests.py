@@ -280,7 +280,7 @@ def test_two_eclipses_whose_whole_baselines_overlap_both_fit_with_baselines_cut(
     assert np.all((lead >= 30 - 1 / 60) & (lead < 31)) and np.all((trail >= 30 - 1 / 60) & (trail < 31))
     assert sched["start_jd_utc"].iloc[1] > sched["end_jd_utc"].iloc[0]
     notes = " ".join(sched["notes"])
-    assert "baselines cut to 30 min each side (of 60 wanted)" in notes
+    assert "baselines cut to 30 min (of 60 wanted)" in notes
 
 
 def test_an_eclipse_alone_in_the_night_keeps_its_whole_baselines(tmp_path, dark):

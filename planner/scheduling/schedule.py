@@ -88,7 +88,7 @@ def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOption
             notes.append("the event time itself lies outside the block")
         cut = block.get("baseline_min", np.nan)
         if np.isfinite(cut):
-            notes.append(f"baselines cut to {cut:.0f} min each side (of {cut / BASELINE_PART:.0f} wanted)")
+            notes.append(f"baselines cut to {cut:.0f} min (of {cut / BASELINE_PART:.0f} wanted)")
     if np.isfinite(culmination_jd_utc):
         notes.append(f"crosses the meridian near {local_and_utc(culmination_jd_utc, tz=tz)}: a mount flip may be "
                      "needed")
