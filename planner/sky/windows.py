@@ -341,6 +341,14 @@ def target_positions(targets: pd.DataFrame, site, target_index, jd_utc) -> posit
                               jd_utc, site.latitude_deg, site.longitude_deg)
 
 
+def target_altitudes(targets: pd.DataFrame, site, target_index, jd_utc) -> np.ndarray:
+    """Airless altitude (deg) of given targets at given UTC times: ``target_positions(...).alt_deg``
+    (the same values, to the bit) without the azimuth and hour angle
+    (:func:`~planner.sky.positions.altitude_of`)."""
+    return positions.altitude_of(targets["ra_deg"].to_numpy(float), targets["dec_deg"].to_numpy(float), target_index,
+                                 jd_utc, site.latitude_deg, site.longitude_deg)
+
+
 def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: pd.DataFrame,
                      baseline_h: float = DEFAULT_BASELINE_H, k_sigma: float = DEFAULT_K_SIGMA,
                      default_length_h: float = DEFAULT_EVENT_LENGTH_H, tracks=None,
