@@ -451,8 +451,14 @@ class SkyTracks:
 
     def _altaz(self, table, jd_utc, era_rad):
         era = self.era_rad(jd_utc) if era_rad is None else np.asarray(era_rad)
-        ra, dec = _ra_dec_from_vectors(self._topocentric(table, jd_utc, era))
-        return horizontal(ra, dec, era, self.latitude_deg, self.longitude_deg)[1:]
+        return self.vector_altaz_deg(self._topocentric(table, jd_utc, era), era)
+
+    def vector_altaz_deg(self, vector, era_rad):
+        """(airless altitude, azimuth), degrees, of topocentric CIRS unit vectors (..., 3) at
+        the Earth rotation angles ``era_rad`` (rad): ``sun_altaz_deg`` of a ``sun_vector`` the
+        caller already has (the same values)."""
+        ra, dec = _ra_dec_from_vectors(vector)
+        return horizontal(ra, dec, np.asarray(era_rad), self.latitude_deg, self.longitude_deg)[1:]
 
     def sun_altaz_deg(self, jd_utc, era_rad=None):
         """(airless altitude, azimuth) of the Sun's centre, degrees, at UTC Julian dates."""
