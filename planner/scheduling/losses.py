@@ -31,7 +31,7 @@ from ..orbits.geometry import PERIODIC_EVENT
 from ..sky.limits import REASONS as LIMIT_REASONS
 from ..sky.limits import limit_codes
 from ..timescales.clock import jd_utc_to_iso_z
-from .blocks import instance_minutes
+from .blocks import column_values, instance_minutes
 from .log_requests import logged_instances
 from .requests import SERIES, request_kinds
 
@@ -248,7 +248,7 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
             continue
         code[rows] = name
         if name == "too_short":
-            words[rows] = np.where(v["request"].to_numpy(object)[rows] == SERIES, TOO_SHORT_SERIES, TOO_SHORT_VISIT)
+            words[rows] = np.where((v["request"] == SERIES).to_numpy(bool)[rows], TOO_SHORT_SERIES, TOO_SHORT_VISIT)
         elif name == "better_night":
             words[rows] = [done_on[(t, e)] for t, e in zip(ti[rows], event[rows])]
         elif name == "lost" and len(rows):
@@ -259,8 +259,10 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
                                   c_site, schedule, both)
         else:
             words[rows] = text
-    out = pd.DataFrame({"night": night, "target": v["target"].to_numpy(object), "event": event,
-                        "request": v["request"].to_numpy(object),
+    # the text columns of ``v`` as they are (Arrow), not through Python strings: the same values
+    # as ``night`` and ``event``
+    out = pd.DataFrame({"night": column_values(v["night"].astype(str)), "target": column_values(v["target"]),
+                        "event": column_values(v["event"].astype(str)), "request": column_values(v["request"]),
                         "priority": targets["priority"].to_numpy(float)[ti],
                         "event_utc": jd_utc_to_iso_z(v["jd_utc"].to_numpy(float)),
                         "best_value": value, "reason_code": code, "reason": words}, columns=list(UNSCHEDULED_COLUMNS))
