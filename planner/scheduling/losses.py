@@ -147,6 +147,13 @@ def _second_instances(second, candidates):
     return c["target_index"].to_numpy(int), c["event"].to_numpy(object), instance_minutes(c["event_jd_utc"])
 
 
+def _iso_z_text(jd_utc):
+    """:func:`~planner.timescales.clock.jd_utc_to_iso_z` of each UTC Julian date, as Arrow text:
+    made once per distinct moment (a survey's events are each the reason of several rows)."""
+    moments, at = np.unique(np.asarray(jd_utc, float), return_inverse=True)
+    return pd.array(jd_utc_to_iso_z(moments), dtype="str").take(at.ravel())
+
+
 def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.DataFrame, targets: pd.DataFrame,
                 site, nights: pd.DataFrame, tracks, never: pd.DataFrame, overhead_d: float = 0.0,
                 week_rule: str = "every", log: pd.DataFrame | None = None) -> pd.DataFrame:
@@ -264,6 +271,6 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
     out = pd.DataFrame({"night": column_values(v["night"].astype(str)), "target": column_values(v["target"]),
                         "event": column_values(v["event"].astype(str)), "request": column_values(v["request"]),
                         "priority": targets["priority"].to_numpy(float)[ti],
-                        "event_utc": jd_utc_to_iso_z(v["jd_utc"].to_numpy(float)),
+                        "event_utc": _iso_z_text(v["jd_utc"].to_numpy(float)),
                         "best_value": value, "reason_code": code, "reason": words}, columns=list(UNSCHEDULED_COLUMNS))
     return out.sort_values(["night", "priority"], ascending=[True, False], kind="stable").reset_index(drop=True)
