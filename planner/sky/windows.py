@@ -384,7 +384,9 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
                                  out["sigma_d"].to_numpy(float), baseline_h, k_sigma, default_length_h)
     w0, w1 = jd - half_d, jd + half_d
 
-    pos, (ri, di) = positions.altaz_and_places_at(ra, dec, jd, site.latitude_deg, site.longitude_deg)
+    # one apparent place per target and day for its events (the same values as one per event)
+    pos, (ri, di) = positions.altaz_of(targets["ra_deg"].to_numpy(float), targets["dec_deg"].to_numpy(float), ti, jd,
+                                       site.latitude_deg, site.longitude_deg, with_places=True)
     covered = (jd >= tracks.jd_utc[1]) & (jd <= tracks.jd_utc[-2])
     sun_alt = np.full(n, np.nan)
     moon_sep = np.full(n, np.nan)
