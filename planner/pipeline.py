@@ -75,7 +75,7 @@ class Plan:
 
     def altitude_deg(self, target_index, jd_utc):
         """Airless altitude (deg) of targets (row numbers) at UTC Julian dates, broadcast."""
-        return windows.target_positions(self.targets, self.site, target_index, jd_utc).alt_deg
+        return windows.target_altitudes(self.targets, self.site, target_index, jd_utc)
 
     def moon_sep_deg(self, target_index, jd_utc):
         """Topocentric Moon-target separation (deg) of targets at UTC Julian dates, broadcast."""

@@ -106,6 +106,22 @@ def test_places_once_per_target_and_day_against_astropy_altaz():
     assert np.array_equal(fast.alt_deg, each.alt_deg) and np.array_equal(fast.ha_h, each.ha_h)
 
 
+def test_altitude_of_is_altaz_of_to_the_bit():
+    """altitude_of (the altitude alone, the scheduler's samples) gives altaz_of's altitudes bit
+    for bit, NaN at times that are not finite, in the shape of the broadcast inputs."""
+    ra, dec = random_targets(500, seed=3)
+    rng = np.random.default_rng(8)
+    target = rng.integers(0, 500, 2000)
+    jd = (2461400.3 + rng.uniform(0.0, 7.0, 2000))[:, None] + np.linspace(0.0, 0.08, 9)[None, :]
+    jd[3, 4], jd[10, :] = np.nan, np.nan
+    for lat, lon in ((SITES[0][0], SITES[0][1]), (-29.3, 151.2)):
+        want = positions.altaz_of(ra, dec, target[:, None], jd, lat, lon).alt_deg
+        got = positions.altitude_of(ra, dec, target[:, None], jd, lat, lon)
+        assert got.shape == (2000, 9) and np.isnan(got[3, 4]) and np.isnan(got[10]).all()
+        assert np.array_equal(got, want, equal_nan=True)
+    assert positions.altitude_of(ra, dec, np.zeros(0, int), np.zeros(0), 10.0, 20.0).shape == (0,)
+
+
 def test_dense_codes_are_numpys_unique():
     rng = np.random.default_rng(2)
     for keys in (rng.integers(0, 5000, 20000), rng.integers(0, 10**12, 300), np.array([7])):

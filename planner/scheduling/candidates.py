@@ -14,7 +14,7 @@ import numpy as np
 import pandas as pd
 
 from .blocks import (CONTACT_NAMES, FIXED, SCHEDULE_COLUMNS, VISIBLE_COLUMNS, ScheduleOptions,
-                     altitudes, require_columns, sample_times)
+                     altitudes, column_values, require_columns, sample_times)
 from .requests import RequestSettings, build_requests
 
 
@@ -31,7 +31,7 @@ def point_altitudes(altitude_deg, target_index, jd_utc, start, end):
 def candidates_from_requests(requests: pd.DataFrame) -> pd.DataFrame:
     """Candidates (columns :data:`SCHEDULE_COLUMNS`) of the request table, altitudes not yet filled."""
     r = requests.reset_index(drop=True)
-    out = pd.DataFrame({c: (r[c].to_numpy() if c in r else np.full(len(r), np.nan)) for c in SCHEDULE_COLUMNS})
+    out = pd.DataFrame({c: (column_values(r[c]) if c in r else np.full(len(r), np.nan)) for c in SCHEDULE_COLUMNS})
     out["kind"] = np.full(len(r), FIXED, dtype=object)
     out["notes"] = ""
     return out

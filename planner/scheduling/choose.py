@@ -32,6 +32,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from .blocks import TEXT
 from .log_requests import PHASE_GROUP
 from .options import candidate_options
 from .solver import SolveReport, choose_options
@@ -39,7 +40,20 @@ from .solver import SolveReport, choose_options
 
 def _target_night(frame: pd.DataFrame) -> np.ndarray:
     """``target|night`` of each row (object array)."""
-    return (frame["target_index"].astype(str) + "|" + frame["night"].astype(str)).to_numpy(object)
+    return _target_night_text(frame).to_numpy(object)
+
+
+def _target_night_text(frame: pd.DataFrame) -> pd.Series:
+    """``target|night`` of each row (Arrow text)."""
+    return frame["target_index"].astype(str) + "|" + frame["night"].astype(str)
+
+
+def _blank_where(mask, column: pd.Series):
+    """``np.where(mask, "", column)``: the text ``column`` emptied where ``mask``, done on its Arrow
+    text when it has some (the same column, without a Python string per row)."""
+    if len(column) and column.dtype == TEXT:
+        return column.where(~np.asarray(mask, bool), "")
+    return np.where(mask, "", column.to_numpy(object))
 
 
 def _night_rank(nights: pd.Series, nights_order) -> np.ndarray:
@@ -231,16 +245,18 @@ def _model(cands: pd.DataFrame, monitors: pd.DataFrame, targets: pd.DataFrame, n
     # night that has room for it
     phase = is_phase_visit(cands)[opts["candidate"].to_numpy()]
     rules = np.where(phase, "first", rules)
-    opts["group"] = np.where(phase, "g" + cands["group"].astype(str).to_numpy(object)[opts["candidate"].to_numpy()],
-                             opts["group"].to_numpy(object))
+    if phase.any() or not len(opts):  # else the column stays as it is
+        opts["group"] = np.where(phase, "g" + cands["group"].astype(str).to_numpy(object)[opts["candidate"].to_numpy()],
+                                 opts["group"].to_numpy(object))
     # "every": no week key, so each instance may be taken; "best"/"first": the week key allows one;
     # "first" also makes each later night worth less
     rank = _night_rank(opts["night"], nights_order)
-    opts["week_key"] = np.where((rules == "every") | phase, "", opts["week_key"].to_numpy(object))
+    opts["week_key"] = _blank_where((rules == "every") | phase, opts["week_key"])
     opts["value"] = np.where(rules == "first", opts["value"] * FIRST_NIGHT_FACTOR ** rank, opts["value"])
     opts["source"] = "request"
     opts["monitor_night"] = ""
-    opts["block_night"] = _target_night(cands)[opts["candidate"].to_numpy()] if len(opts) else np.zeros(0, dtype=object)
+    opts["block_night"] = (_target_night_text(cands).array.take(opts["candidate"].to_numpy()) if len(opts)
+                           else np.zeros(0, dtype=object))
     opts["spacing"], opts["gap_d"] = "", 0.0
     mon = pd.DataFrame({
         "candidate": np.arange(len(monitors), dtype=np.int64), "telescope": "telescope",

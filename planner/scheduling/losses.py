@@ -31,7 +31,7 @@ from ..orbits.geometry import PERIODIC_EVENT
 from ..sky.limits import REASONS as LIMIT_REASONS
 from ..sky.limits import limit_codes
 from ..timescales.clock import jd_utc_to_iso_z
-from .blocks import instance_minutes
+from .blocks import column_values, instance_minutes
 from .log_requests import logged_instances
 from .requests import SERIES, request_kinds
 
@@ -147,6 +147,13 @@ def _second_instances(second, candidates):
     return c["target_index"].to_numpy(int), c["event"].to_numpy(object), instance_minutes(c["event_jd_utc"])
 
 
+def _iso_z_text(jd_utc):
+    """:func:`~planner.timescales.clock.jd_utc_to_iso_z` of each UTC Julian date, as Arrow text:
+    made once per distinct moment (a survey's events are each the reason of several rows)."""
+    moments, at = np.unique(np.asarray(jd_utc, float), return_inverse=True)
+    return pd.array(jd_utc_to_iso_z(moments), dtype="str").take(at.ravel())
+
+
 def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.DataFrame, targets: pd.DataFrame,
                 site, nights: pd.DataFrame, tracks, never: pd.DataFrame, overhead_d: float = 0.0,
                 week_rule: str = "every", log: pd.DataFrame | None = None) -> pd.DataFrame:
@@ -248,7 +255,7 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
             continue
         code[rows] = name
         if name == "too_short":
-            words[rows] = np.where(v["request"].to_numpy(object)[rows] == SERIES, TOO_SHORT_SERIES, TOO_SHORT_VISIT)
+            words[rows] = np.where((v["request"] == SERIES).to_numpy(bool)[rows], TOO_SHORT_SERIES, TOO_SHORT_VISIT)
         elif name == "better_night":
             words[rows] = [done_on[(t, e)] for t, e in zip(ti[rows], event[rows])]
         elif name == "lost" and len(rows):
@@ -259,9 +266,11 @@ def unscheduled(visible: pd.DataFrame, candidates: pd.DataFrame, schedule: pd.Da
                                   c_site, schedule, both)
         else:
             words[rows] = text
-    out = pd.DataFrame({"night": night, "target": v["target"].to_numpy(object), "event": event,
-                        "request": v["request"].to_numpy(object),
+    # the text columns of ``v`` as they are (Arrow), not through Python strings: the same values
+    # as ``night`` and ``event``
+    out = pd.DataFrame({"night": column_values(v["night"].astype(str)), "target": column_values(v["target"]),
+                        "event": column_values(v["event"].astype(str)), "request": column_values(v["request"]),
                         "priority": targets["priority"].to_numpy(float)[ti],
-                        "event_utc": jd_utc_to_iso_z(v["jd_utc"].to_numpy(float)),
+                        "event_utc": _iso_z_text(v["jd_utc"].to_numpy(float)),
                         "best_value": value, "reason_code": code, "reason": words}, columns=list(UNSCHEDULED_COLUMNS))
     return out.sort_values(["night", "priority"], ascending=[True, False], kind="stable").reset_index(drop=True)

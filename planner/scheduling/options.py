@@ -110,10 +110,23 @@ def candidate_options(cands: pd.DataFrame, telescope: str = "telescope", airmass
     option_value = score * (1.0 - MOVE_PENALTY * np.abs(s - start[k]) / span[k])
     if "site" in c:  # request ids are a site's own: one site's request 5 is not another's
         group = tel + "|" + group
+    week_key = (c["target_index"].astype(str) + "|" + c["event"].astype(str) + "|"
+                + (c["slot"].astype(str) if "slot" in c else "0"))
     return pd.DataFrame({
-        "candidate": k.astype(np.int64), "telescope": tel[k], "start_jd_utc": s, "end_jd_utc": s + length[k],
-        "value": option_value, "score": score, "pts_airmass": pts, "group": "g" + group[k],
-        "week_key": (c["target_index"].astype(str) + "|" + c["event"].astype(str) + "|"
-                     + (c["slot"].astype(str) if "slot" in c else "0")).to_numpy(object)[k],
-        "night": c["night"].astype(str).to_numpy(object)[k],
+        "candidate": k.astype(np.int64), "telescope": _text_at(tel, k), "start_jd_utc": s,
+        "end_jd_utc": s + length[k], "value": option_value, "score": score, "pts_airmass": pts,
+        "group": _text_at("g" + group, k), "week_key": _text_at(week_key, k),
+        "night": _text_at(c["night"].astype(str), k),
     })
+
+
+def _text_at(values, rows):
+    """The text column of the options from the candidates' ``values`` (one string each, NaN for
+    none): those at ``rows``, taken as Arrow text, so each candidate's string is made once and
+    not once per option (the same column as from a numpy object array of them, which stays an
+    object column when empty)."""
+    rows = np.asarray(rows, np.int64)
+    if rows.size == 0:
+        return np.asarray(values, dtype=object)[rows]
+    text = values.array if isinstance(values, pd.Series) else np.asarray(values, dtype=object)
+    return pd.array(text, dtype="str").take(rows)

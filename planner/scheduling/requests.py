@@ -179,18 +179,21 @@ def _rv_offsets_d(ti, ev, kind, targets):
     """
     n = ti.size
     lo, hi = np.full(n, np.nan), np.full(n, np.nan)
+    # event names as Arrow text, compared there (a missing name is none of them), not as numpy
+    # unicode, whose conversion took seconds for a survey
+    ev = pd.Series(ev, dtype="str", copy=False)
     p_t = targets["period_d"].to_numpy(float)
     e_t = np.nan_to_num(_col(targets, "e", 0.0).astype(float))
     w_t = np.radians(np.nan_to_num(_col(targets, "omega_deg", 90.0).astype(float), nan=90.0))
     p, e, w = p_t[ti], e_t[ti], w_t[ti]
     frac = _col(targets, "rv_fraction_k", 0.1).astype(float)[ti]
     for name, maximum in (("rv_max", True), ("rv_min", False)):
-        sel = (kind == RV_VISIT) & (ev == name)
+        sel = (kind == RV_VISIT) & (ev == name).to_numpy(bool)
         if sel.any():
             lo[sel], hi[sel] = orbit_contacts.rv_window_offsets_d(p[sel], e[sel], w[sel], frac[sel], maximum=maximum)
-    sel = (kind == RV_VISIT) & (ev == "apastron")
+    sel = (kind == RV_VISIT) & (ev == "apastron").to_numpy(bool)
     lo[sel], hi[sel] = -DEFAULT_EVENT_LENGTH_H / 48.0, DEFAULT_EVENT_LENGTH_H / 48.0
-    sel = (kind == RV_VISIT) & np.char.startswith(ev.astype(str), PHASE_EVENT_PREFIX)
+    sel = (kind == RV_VISIT) & ev.str.startswith(PHASE_EVENT_PREFIX, na=False).to_numpy(bool)
     if sel.any():  # the times whose mean-anomaly phase is within the tolerance of the wanted one
         half_d = _col(targets, "rv_phase_tol", np.nan).astype(float)[ti[sel]] * p[sel]
         lo[sel], hi[sel] = -half_d, half_d
@@ -268,7 +271,7 @@ def _windows(v, kind, targets, settings):
         known = s & np.isfinite(contacts[:, 0]) & np.isfinite(contacts[:, 3])
         w0[known] = contacts[known, 0] - base - sig[known]
         w1[known] = contacts[known, 3] + base + sig[known]
-    lo, hi = _rv_offsets_d(ti, v["event"].to_numpy(object).astype(str), kind, targets)
+    lo, hi = _rv_offsets_d(ti, v["event"].astype(str).array, kind, targets)
     rv = np.isfinite(lo)
     w0[rv], w1[rv] = jd[rv] + lo[rv] - sig[rv], jd[rv] + hi[rv] + sig[rv]
     return w0, w1, contacts

@@ -47,14 +47,17 @@ def limit_codes(targets, site, target_index, jd_utc, tracks) -> np.ndarray:
     out = np.full(ti.shape, -1, dtype=np.int8)
     if ti.size == 0:
         return out.reshape(shape)
-    ra = targets["ra_deg"].to_numpy(float)[ti]
     dec = targets["dec_deg"].to_numpy(float)[ti]
     era = tracks.era_rad(jd)
-    sun_alt = tracks.sun_altaz_deg(jd, era)[0]
-    pos, cirs = positions.altaz_and_places_at(ra, dec, jd, site.latitude_deg, site.longitude_deg)
+    sun_v = tracks.sun_vector(jd, era)
+    sun_alt = tracks.vector_altaz_deg(sun_v, era)[0]
+    # one apparent place per target and day, however many of its moments are asked for (the
+    # same values as each moment its own place, to the bit: positions.altaz_of)
+    pos, cirs = positions.altaz_of(targets["ra_deg"].to_numpy(float), targets["dec_deg"].to_numpy(float), ti, jd,
+                                   site.latitude_deg, site.longitude_deg, with_places=True)
     place = numerics.unit_vectors(*cirs)
     moon_sep = positions.separation_deg(place, tracks.moon_vector(jd, era))
-    sun_sep = positions.separation_deg(place, tracks.sun_vector(jd, era))
+    sun_sep = positions.separation_deg(place, sun_v)
     alt_floor = np.full(ti.shape, float(site.min_altitude_deg))
     if site.max_airmass is not None:
         alt_floor = np.maximum(alt_floor, positions.altitude_for_airmass_deg(site.max_airmass))

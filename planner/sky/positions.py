@@ -167,15 +167,24 @@ def horizontal(ra_cirs_rad, dec_cirs_rad, era_rad, latitude_deg: float, longitud
     from north through east in 0..360 deg.
     """
     phi = np.radians(latitude_deg)
-    ha = np.asarray(era_rad) + np.radians(longitude_deg) - np.asarray(ra_cirs_rad)
-    ha = np.mod(ha + np.pi, 2 * np.pi) - np.pi
+    ha = _hour_angle_rad(ra_cirs_rad, era_rad, longitude_deg)
     dec = np.asarray(dec_cirs_rad)
     sin_d, cos_d = np.sin(dec), np.cos(dec)
     cos_h = np.cos(ha)
-    sin_alt = np.sin(phi) * sin_d + np.cos(phi) * cos_d * cos_h
-    alt = np.degrees(np.arcsin(np.clip(sin_alt, -1.0, 1.0)))
+    alt = _altitude_deg(np.sin(phi) * sin_d + np.cos(phi) * cos_d * cos_h)
     az = np.degrees(np.arctan2(-cos_d * np.sin(ha), np.cos(phi) * sin_d - np.sin(phi) * cos_d * cos_h))
     return np.degrees(ha) / 15.0, alt, np.mod(az, 360.0)
+
+
+def _hour_angle_rad(ra_cirs_rad, era_rad, longitude_deg: float):
+    """Hour angle (rad, -pi..pi, positive west): ERA + longitude - alpha_CIRS, wrapped."""
+    ha = np.asarray(era_rad) + np.radians(longitude_deg) - np.asarray(ra_cirs_rad)
+    return np.mod(ha + np.pi, 2 * np.pi) - np.pi
+
+
+def _altitude_deg(sin_alt):
+    """Altitude (deg) of its sine, clipped to -1..1 against rounding."""
+    return np.degrees(np.arcsin(np.clip(sin_alt, -1.0, 1.0)))
 
 
 def _blocks(jd_utc):
@@ -305,20 +314,53 @@ def altaz_of(ra_deg, dec_deg, index, jd_utc, latitude_deg: float, longitude_deg:
     altitudes of a survey's N blocks cost about N apparent places, not 9 N.
     """
     idx, jd = np.broadcast_arrays(np.asarray(index, np.int64), np.asarray(jd_utc, float))
-    i, t = idx.ravel(), jd.ravel()
+    t = jd.ravel()
     ri, di = np.full(t.shape, np.nan), np.full(t.shape, np.nan)
-    ok = np.flatnonzero(np.isfinite(t))
+    ok, pair_ra, pair_dec, inverse = _pair_places(ra_deg, dec_deg, idx.ravel(), t)
     if ok.size:
-        block = np.floor(t[ok] / PLACE_BLOCK_D).astype(np.int64)
-        first = int(block.min())
-        n_blocks = int(block.max()) - first + 1
-        pair, inverse = numerics.dense_codes(i[ok] * n_blocks + (block - first))
-        target = pair // n_blocks
-        pair_ra, pair_dec = _places_in_blocks(np.asarray(ra_deg, float)[target], np.asarray(dec_deg, float)[target],
-                                              pair % n_blocks + first)
         ri[ok], di[ok] = pair_ra[inverse], pair_dec[inverse]
     pos = _horizontal_at(ri, di, jd, latitude_deg, longitude_deg)
     return (pos, (ri, di)) if with_places else pos
+
+
+def altitude_of(ra_deg, dec_deg, index, jd_utc, latitude_deg: float, longitude_deg: float) -> np.ndarray:
+    """Airless altitude (deg) of the targets ``index`` at UTC Julian dates ``jd_utc``, as
+    :func:`altaz_of` gives it (the same values, to the bit), shape of ``index`` and ``jd_utc``
+    broadcast; NaN where the time is not finite.
+
+    For callers that want the altitude alone (the scheduler's block samples): neither azimuth nor
+    hour angle is kept, and the declination's sine and cosine, times those of the latitude, are
+    taken once per target and day-long block instead of once per time.
+    """
+    idx, jd = np.broadcast_arrays(np.asarray(index, np.int64), np.asarray(jd_utc, float))
+    t = jd.ravel()
+    alt = np.full(t.shape, np.nan)
+    ok, pair_ra, pair_dec, inverse = _pair_places(ra_deg, dec_deg, idx.ravel(), t)
+    if ok.size:
+        phi = np.radians(latitude_deg)
+        # the products of horizontal(): sin(phi) sin(delta) + (cos(phi) cos(delta)) cos(H)
+        sin_part = (np.sin(phi) * np.sin(pair_dec))[inverse]
+        cos_part = (np.cos(phi) * np.cos(pair_dec))[inverse]
+        ha = _hour_angle_rad(pair_ra[inverse], earth_rotation_angle_rad(t[ok]), longitude_deg)
+        alt[ok] = _altitude_deg(sin_part + cos_part * np.cos(ha))
+    return alt.reshape(jd.shape)
+
+
+def _pair_places(ra_deg, dec_deg, i, t):
+    """(ok, pair_ra, pair_dec, inverse) for the flat target positions ``i`` and UTC times ``t``:
+    ``ok`` the positions of the finite times, and the CIRS places (rad) of each distinct pair of
+    target and day-long block among them, ``inverse`` the pair of each ``ok`` element."""
+    ok = np.flatnonzero(np.isfinite(t))
+    if not ok.size:
+        return ok, np.zeros(0), np.zeros(0), np.zeros(0, np.int64)
+    block = np.floor(t[ok] / PLACE_BLOCK_D).astype(np.int64)
+    first = int(block.min())
+    n_blocks = int(block.max()) - first + 1
+    pair, inverse = numerics.dense_codes(i[ok] * n_blocks + (block - first))
+    target = pair // n_blocks
+    pair_ra, pair_dec = _places_in_blocks(np.asarray(ra_deg, float)[target], np.asarray(dec_deg, float)[target],
+                                          pair % n_blocks + first)
+    return ok, pair_ra, pair_dec, inverse
 
 
 def _horizontal_at(ri, di, jd, latitude_deg, longitude_deg) -> Horizontal:
@@ -409,8 +451,14 @@ class SkyTracks:
 
     def _altaz(self, table, jd_utc, era_rad):
         era = self.era_rad(jd_utc) if era_rad is None else np.asarray(era_rad)
-        ra, dec = _ra_dec_from_vectors(self._topocentric(table, jd_utc, era))
-        return horizontal(ra, dec, era, self.latitude_deg, self.longitude_deg)[1:]
+        return self.vector_altaz_deg(self._topocentric(table, jd_utc, era), era)
+
+    def vector_altaz_deg(self, vector, era_rad):
+        """(airless altitude, azimuth), degrees, of topocentric CIRS unit vectors (..., 3) at
+        the Earth rotation angles ``era_rad`` (rad): ``sun_altaz_deg`` of a ``sun_vector`` the
+        caller already has (the same values)."""
+        ra, dec = _ra_dec_from_vectors(vector)
+        return horizontal(ra, dec, np.asarray(era_rad), self.latitude_deg, self.longitude_deg)[1:]
 
     def sun_altaz_deg(self, jd_utc, era_rad=None):
         """(airless altitude, azimuth) of the Sun's centre, degrees, at UTC Julian dates."""

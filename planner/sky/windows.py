@@ -348,6 +348,14 @@ def target_positions(targets: pd.DataFrame, site, target_index, jd_utc) -> posit
                               jd_utc, site.latitude_deg, site.longitude_deg)
 
 
+def target_altitudes(targets: pd.DataFrame, site, target_index, jd_utc) -> np.ndarray:
+    """Airless altitude (deg) of given targets at given UTC times: ``target_positions(...).alt_deg``
+    (the same values, to the bit) without the azimuth and hour angle
+    (:func:`~planner.sky.positions.altitude_of`)."""
+    return positions.altitude_of(targets["ra_deg"].to_numpy(float), targets["dec_deg"].to_numpy(float), target_index,
+                                 jd_utc, site.latitude_deg, site.longitude_deg)
+
+
 def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: pd.DataFrame,
                      baseline_h: float = DEFAULT_BASELINE_H, k_sigma: float = DEFAULT_K_SIGMA,
                      default_length_h: float = DEFAULT_EVENT_LENGTH_H, tracks=None,
@@ -383,7 +391,9 @@ def event_visibility(events: pd.DataFrame, targets: pd.DataFrame, site, nights: 
                                  out["sigma_d"].to_numpy(float), baseline_h, k_sigma, default_length_h)
     w0, w1 = jd - half_d, jd + half_d
 
-    pos, (ri, di) = positions.altaz_and_places_at(ra, dec, jd, site.latitude_deg, site.longitude_deg)
+    # one apparent place per target and day for its events (the same values as one per event)
+    pos, (ri, di) = positions.altaz_of(targets["ra_deg"].to_numpy(float), targets["dec_deg"].to_numpy(float), ti, jd,
+                                       site.latitude_deg, site.longitude_deg, with_places=True)
     covered = (jd >= tracks.jd_utc[1]) & (jd <= tracks.jd_utc[-2])
     sun_alt = np.full(n, np.nan)
     moon_sep = np.full(n, np.nan)
@@ -437,9 +447,11 @@ def window_stretches(target_index, w0, w1, intervals):
     iv_t = iv_t[order]
     iv0 = intervals["start_jd_utc"].to_numpy(float)[order]
     iv1 = intervals["end_jd_utc"].to_numpy(float)[order]
-    lo = np.searchsorted(iv_t, target_index, side="left")
-    hi = np.searchsorted(iv_t, target_index, side="right")
-    counts = hi - lo
+    # each target's run of intervals (its first row and its count) from a table indexed by target
+    # row: O(n), where two searchsorted calls over millions of unsorted windows took a second
+    per_target = np.bincount(iv_t, minlength=int(max(iv_t.max(), target_index.max())) + 1)
+    counts = per_target[target_index]
+    lo = (np.cumsum(per_target) - per_target)[target_index]
     ev = np.repeat(np.arange(n), counts)
     k = np.repeat(lo - (np.cumsum(counts) - counts), counts) + np.arange(counts.sum())
     s = np.maximum(iv0[k], w0[ev])
