@@ -255,3 +255,19 @@ def test_failed_chart_leaves_no_file(tmp_path):
     with pytest.raises(PeriplanError, match="not a date"):
         charts.write_night_chart(tmp_path / "night.png", {"night": "not a date"}, t, alt, names, night_blocks(), 30.0)
     assert list(tmp_path.iterdir()) == []
+
+
+def test_night_chart_draws_a_zenith_limit_beside_the_lower_one():
+    from planner.inputs.site import Site
+
+    t, alt, names = curves()
+    site = Site(name="alt-az", latitude_deg=54.6, longitude_deg=-2.9, elevation_m=300.0, timezone="Europe/London",
+                min_altitude_deg=25.0, max_altitude_deg=80.0)
+    az, ha = np.zeros_like(alt), np.zeros_like(alt)
+    fig = charts.night_figure(NIGHT, t, alt, names, night_blocks(), 25.0, az_deg=az, ha_h=ha, site=site)
+    lines = fig.axes[0].get_lines()
+    ceiling, limit = by_gid(lines, "ceiling"), by_gid(lines, "limit")
+    assert len(ceiling) == 1 and abs(ceiling[0].get_ydata()[0] - 80.0) <= DRAWN_TOL
+    assert limit[0].get_label() == "altitude limits 25 and 80 deg"
+    plain = charts.night_figure(NIGHT, t, alt, names, night_blocks(), 25.0)
+    assert by_gid(plain.axes[0].get_lines(), "ceiling") == []

@@ -117,7 +117,7 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
     az_deg, ha_h, site : optional (k, m) azimuth and hour angle of the targets and the
         :class:`~planner.inputs.site.Site`: then the site's limits are drawn along each track
         (:func:`planner.outputs.chart_marks.draw_site_limits`), and its ``max_altitude_deg`` as a
-        dash-dotted line
+        second altitude limit
 
     Drawn: dark time and twilight shaded, one curve per target (thin), the scheduled block on it
     (thick), each fixed block's event window as a bracket with the event time as a marker, in
@@ -150,10 +150,12 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
         ax.plot(x, a, lw=1.2, label=str(nm), gid="curve", **styles[nm].line_kwargs())
     if site is not None and az_deg is not None and ha_h is not None:
         chart_marks.draw_site_limits(ax, x, np.atleast_2d(az_deg), np.atleast_2d(ha_h), alt, site, styles, names)
-    ax.axhline(min_alt_deg, color="#333333", lw=1.0, ls="--", label=f"altitude limit {min_alt_deg:g} deg", gid="limit")
-    if site is not None and site.max_altitude_deg is not None:
-        ax.axhline(site.max_altitude_deg, color="#333333", lw=1.0, ls="-.", gid="ceiling",
-                   label=f"highest usable altitude {site.max_altitude_deg:g} deg")
+    top = site.max_altitude_deg if site is not None else None
+    ax.axhline(min_alt_deg, color="#333333", lw=1.0, ls="--", gid="limit",
+               label=f"altitude limit {min_alt_deg:g} deg" if top is None else
+               f"altitude limits {min_alt_deg:g} and {top:g} deg")
+    if top is not None:  # the mount's zenith limit, drawn as the lower limit is
+        ax.axhline(top, color="#333333", lw=1.0, ls="--", gid="ceiling")
     if moon_alt_deg is not None:
         lit = night["moon_illumination"] if "moon_illumination" in night else np.nan
         lit_text = f", {100 * float(lit):.0f}% lit" if np.isfinite(lit) else ""
