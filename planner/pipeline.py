@@ -150,7 +150,9 @@ def make_plan(targets: pd.DataFrame, site, first_night, n_nights: int,
     :func:`planner.site.read_site`. ``progress``, when given, is called with each name of
     :data:`STAGES` as that stage starts. ``log``, an observation log
     (:func:`planner.inputs.observation_log.read_log`), takes out what was observed and adapts the
-    rest (:mod:`planner.scheduling.log_requests`). Deterministic: the same inputs give the same plan.
+    rest (:mod:`planner.scheduling.log_requests`). The same inputs give the same plan when the solver
+    proves it optimal (``report``); one stopped by the time limit may differ from run to run
+    (:mod:`planner.scheduling.schedule`).
     """
     timer = _StageTimer(progress)
     plan = _prepare(targets, site, first_night, n_nights, settings, timer)

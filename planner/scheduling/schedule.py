@@ -21,8 +21,11 @@ Method:
    bound when the time limit stops it (tests/test_schedule.py compares with exhaustive search).
 3. Notes per block in words (partial coverage, movable visit, meridian, twilight, Sun).
 
-Deterministic: the same input gives the same plan (the solver is run single-threaded on a
-model built in a fixed order).
+Deterministic when the solver proves its plan optimal (the report says so): the same input then
+gives the same plan (the solver is run single-threaded on a model built in a fixed order). A
+choice stopped by its time limit is the best plan found by then, and how far the search got
+depends on the machine's speed, so a large catalogue's plan may differ from run to run; its
+value stays within the reported gap of the bound.
 """
 
 from __future__ import annotations
