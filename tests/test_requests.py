@@ -140,7 +140,7 @@ def _az_at(ra, dec, jd):
     return SkyCoord(ra * u.deg, dec * u.deg).transform_to(frame).az.deg
 
 
-def test_eclipse_in_the_shorter_stretch_of_a_split_window_is_kept(tmp_path, dark):
+def test_eclipse_in_the_shorter_stretch_of_a_split_window_is_kept_with_a_pause_at_the_tree(tmp_path, dark):
     # The target sets (30 deg) 1.3 h after the eclipse (hour angle 3.2 h at the eclipse, 4.47 h
     # at 30 deg for dec +20 at latitude 37.62: cos H = (sin 30 - sin phi sin dec) / (cos phi cos dec)); a tree in the horizon profile hides it
     # from 0.9 h to 0.6 h before the eclipse. Window +-(0.5 h + 1 h baseline + 2 x 1 h sigma):
@@ -162,7 +162,13 @@ def test_eclipse_in_the_shorter_stretch_of_a_split_window_is_kept(tmp_path, dark
     assert len(block) == 1
     assert block.start_jd_utc.iloc[0] <= ev <= block.end_jd_utc.iloc[0]
     assert block.end_jd_utc.iloc[0] < longest.end_jd_utc + 3.0 / 24  # it is not the long stretch
-    assert block.start_jd_utc.iloc[0] > longest.end_jd_utc
+    # the 18 min behind the tree are a pause: the block keeps the baseline before it as well,
+    # observing in both stretches and pausing exactly over the gap between them
+    shorter = iv.loc[iv.duration_h.idxmin()]
+    b = block.iloc[0]
+    assert b.start_jd_utc < longest.end_jd_utc
+    assert abs(b.pause_start_jd_utc - longest.end_jd_utc) < TIME_TOL_D
+    assert abs(b.pause_end_jd_utc - shorter.start_jd_utc) < TIME_TOL_D
 
 
 def test_long_transit_with_ingress_before_dawn_is_scheduled_as_ingress_only(tmp_path, dark):
@@ -314,3 +320,46 @@ def test_merge_candidates_are_paired_only_within_reach_as_brute_force_finds():
     # no more than pairs that overlap or touch within the microsecond tolerance
     assert all(lo[b] <= hi[a] + 1e-6 and lo[a] <= hi[b] + 1e-6 for a, b in found)
     assert list(zip(ia, ib)) == sorted(found)  # the order of the all-pairs join
+
+
+def test_a_transit_through_the_zenith_blind_spot_is_observed_on_both_sides_of_a_pause(tmp_path, dark):
+    # An alt-az mount limited to 86 deg, a transit whose target culminates at 89 deg at
+    # mid-transit (90 - |lat - dec| by spherical geometry): the window splits into two
+    # stretches half an hour apart. The block spans both and pauses in between, so both contacts
+    # and both baselines are held; the pause ends are where astropy puts the target at 86 deg.
+    import dataclasses
+
+    mid = 0.5 * (dark[0] + dark[1])
+    site = dataclasses.replace(site_file(tmp_path), max_altitude_deg=86.0)
+    rows = [f"Zenith-1 b,{ra_culminating_at(mid):.4f},{LAT - 1.0:.2f},3.3,0,,{mid:.6f},0.0002,JD_UTC,,1,,2.5,,,"]
+    sched = plan(tmp_path, rows, site).schedule
+    assert len(sched) == 1
+    b = sched.iloc[0]
+    assert b["covers"] == "pre;T1;mid;T4;post" and b["science_fraction"] == 1.0
+    assert b["start_jd_utc"] < b["t1_jd_utc"] < b["pause_start_jd_utc"] < mid < b["pause_end_jd_utc"] < b["t4_jd_utc"]
+    pause = Time([b["pause_start_jd_utc"], b["pause_end_jd_utc"]], format="jd", scale="utc")
+    loc = EarthLocation.from_geodetic(LON * u.deg, LAT * u.deg, 1500 * u.m)
+    star = SkyCoord(ra_culminating_at(mid) * u.deg, (LAT - 1.0) * u.deg)
+    alt = star.transform_to(AltAz(obstime=pause, location=loc, pressure=0 * u.hPa)).alt.deg
+    assert np.all(np.abs(alt - 86.0) < 1.0 / 3600)
+    assert 20 < (b["pause_end_jd_utc"] - b["pause_start_jd_utc"]) * 1440 < 45
+    assert "pause from" in b["notes"]
+
+
+def test_a_pause_holds_the_mid_event_between_observed_sides_but_never_a_contact():
+    from planner.scheduling import series_parts
+
+    base = 1.0 / 24
+    t1, t4, midpoint = 10.0, 10.1, 10.05
+    # no pause: the same as covered_parts
+    plain = series_parts.covered_parts([9.9], [10.2], [t1], [np.nan], [np.nan], [t4], [midpoint], base)
+    same = series_parts.covered_parts_with_pause([9.9], [10.2], [np.nan], [np.nan], [t1], [np.nan], [np.nan], [t4],
+                                                 [midpoint], base)
+    assert (plain == same).all()
+    names = series_parts.PART_NAMES
+    around_mid = series_parts.covered_parts_with_pause([9.9], [10.2], [10.04], [10.06], [t1], [np.nan], [np.nan],
+                                                       [t4], [midpoint], base)[0]
+    assert all(around_mid[names.index(p)] for p in ("pre", "T1", "mid", "T4", "post"))
+    at_ingress = series_parts.covered_parts_with_pause([9.9], [10.2], [9.99], [10.01], [t1], [np.nan], [np.nan],
+                                                       [t4], [midpoint], base)[0]
+    assert not at_ingress[names.index("T1")] and at_ingress[names.index("mid")] and at_ingress[names.index("T4")]

@@ -47,7 +47,7 @@ SCHEDULE_COLUMNS = (
     "latest_start_jd_utc", "observable_fraction", "science_fraction", "priority", "period_d", "alt_low_deg",
     "alt_event_deg",
 ) + tuple(f"alt_{c}_deg" for c in CONTACT_NAMES) + (
-    "airmass", "moon_sep_deg", "moon_illumination", "baseline_min",
+    "airmass", "moon_sep_deg", "moon_illumination", "baseline_min", "pause_start_jd_utc", "pause_end_jd_utc",
 ) + SCORE_COLUMNS + ("logged_parts", "notes")
 
 
@@ -170,6 +170,26 @@ def _label_midnight_jd_utc(label: str) -> float:
         return date_to_jd_utc(label) + 1.0
     except PeriplanError:
         return np.nan
+
+
+#: Blocks whose altitude samples are computed at once: bounds the memory of a survey's millions
+#: of candidates (65,536 x 13 samples of float64 and their temporaries).
+ALT_CHUNK = 65_536
+
+
+def block_airmass(altitude_deg, target_index, start, end):
+    """(n,) mean airmass (Young 1994) of :data:`ALT_SAMPLES` altitudes through each block from UTC
+    Julian dates ``start`` to ``end``, computed :data:`ALT_CHUNK` blocks at a time; NaN without
+    an altitude function."""
+    from .score import airmass_from_alt
+
+    target_index, start, end = (np.asarray(a) for a in (target_index, start, end))
+    out = np.full(len(start), np.nan)
+    for k in range(0, len(start), ALT_CHUNK):
+        sl = slice(k, k + ALT_CHUNK)
+        out[sl] = mean_airmass(airmass_from_alt(altitudes(altitude_deg, target_index[sl],
+                                                          sample_times(start[sl], end[sl]))))
+    return out
 
 
 def mean_airmass(airmass):

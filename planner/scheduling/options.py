@@ -25,8 +25,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .blocks import altitudes, mean_airmass, sample_times
-from .score import FACTOR_COLUMNS, POINT_COLUMNS, airmass_from_alt, airmass_points
+from .blocks import block_airmass
+from .score import FACTOR_COLUMNS, POINT_COLUMNS, airmass_points
 
 
 #: Most start times tried for one movable visit (the proposed one included).
@@ -35,8 +35,6 @@ MAX_STARTS = 7
 #: the score's own resolution, so it only breaks ties towards the lowest airmass.
 MOVE_PENALTY = 1e-3
 MOVABLE = ("rv_visit", "rv_sequence")
-#: Blocks whose airmass points are computed at once (about 5 MB of altitudes each time).
-_POINTS_CHUNK = 65_536
 
 
 def _spread(proposed, lo, hi, length, movable):
@@ -65,11 +63,8 @@ def airmass_points_at(altitude_by_telescope: dict, weights):
     def points(target_index, telescope, start, end):
         out = np.zeros(len(start))
         for name, altitude_deg in altitude_by_telescope.items():
-            rows = np.flatnonzero(telescope == name)
-            for at in range(0, rows.size, _POINTS_CHUNK):  # bounded memory: a survey has millions
-                m = rows[at:at + _POINTS_CHUNK]
-                alt = altitudes(altitude_deg, target_index[m], sample_times(start[m], end[m]))
-                out[m] = airmass_points(mean_airmass(airmass_from_alt(alt)), weights)
+            m = np.flatnonzero(telescope == name)
+            out[m] = airmass_points(block_airmass(altitude_deg, target_index[m], start[m], end[m]), weights)
         return out
 
     return points

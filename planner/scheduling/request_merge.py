@@ -92,9 +92,9 @@ def merge_requests(cands: pd.DataFrame) -> pd.DataFrame:
     lo, hi = c["earliest_start_jd_utc"].to_numpy(float), c["latest_start_jd_utc"].to_numpy(float)
     s, e = c["start_jd_utc"].to_numpy(float), c["end_jd_utc"].to_numpy(float)
     length = c["length_d"].to_numpy(float)
-    movable = (c["placement"] == "movable").to_numpy()
-    reach_lo = np.where(movable, lo, s)
-    reach_hi = np.where(movable, hi + length, e)
+    placed_freely = (c["placement"] == "movable").to_numpy()
+    reach_lo = np.where(placed_freely, lo, s)
+    reach_hi = np.where(placed_freely, hi + length, e)
     ia, ib = _pairs_in_reach(c["target_index"].to_numpy(np.int64), reach_lo, reach_hi)
     if ia.size == 0:
         return c

@@ -51,6 +51,8 @@ the candidate serves), ``label``, ``night`` (label of the event's night), ``slot
 ``science_fraction``     value share of the science kept (series parts; 1 for a visit)
 ``baseline_min``         a series offered with its baselines cut (``series_parts``): the
                          baseline (minutes) it keeps either side; NaN for whole baselines and visits
+``pause_start_jd_utc``,  a series block over two stretches of its window: the unobservable gap
+``pause_end_jd_utc``     between them (at most ``MAX_PAUSE_MIN``), when observing pauses; NaN otherwise
 ``observable_fraction``  observable share of the window (all stretches together)
 ``merged_with``          request id of the second request a merged candidate serves (-1 if none)
 ``priority``, ``period_d``, ``moon_sep_deg``, ``moon_illumination``, the score columns
@@ -72,7 +74,7 @@ import pandas as pd
 from ..orbits import contacts as orbit_contacts
 from ..sky.windows import DEFAULT_BASELINE_H, DEFAULT_EVENT_LENGTH_H, DEFAULT_K_SIGMA, window_stretches
 from . import series_parts
-from .blocks import MIN_PER_DAY, moon_at_blocks
+from .blocks import ALT_CHUNK, MIN_PER_DAY, moon_at_blocks
 from .phase_requests import PHASE_EVENT_PREFIX, is_wanted_phase
 from .request_merge import merge_requests
 from .score import score_components
@@ -84,8 +86,6 @@ REQUEST_KINDS = (SERIES, RV_VISIT, RV_SEQUENCE, MONITOR)
 DEFAULT_VISIT_H = 0.5
 #: Candidate starts tried for a movable visit inside its allowed range (lowest airmass wins).
 PLACEMENT_SAMPLES = 13
-#: Candidates placed or scored at once (bounds the altitudes computed together: 65,536 x 13 samples).
-_PLACEMENT_CHUNK = 65_536
 CONJUNCTIONS = ("primary_conjunction", "secondary_conjunction")
 
 REQUEST_COLUMNS = (
@@ -94,7 +94,7 @@ REQUEST_COLUMNS = (
     "stretch_start_jd_utc", "stretch_end_jd_utc", "start_jd_utc", "end_jd_utc", "length_d",
     "earliest_start_jd_utc", "latest_start_jd_utc", "t1_jd_utc", "t2_jd_utc", "t3_jd_utc", "t4_jd_utc",
     "covers", "not_covered", "science_fraction", "observable_fraction", "priority", "period_d",
-    "moon_sep_deg", "moon_illumination", "merged_with", "baseline_min",
+    "moon_sep_deg", "moon_illumination", "merged_with", "baseline_min", "pause_start_jd_utc", "pause_end_jd_utc",
 )
 
 
@@ -379,8 +379,36 @@ def _stretches(base, intervals):
     return out
 
 
+#: Longest unobservable gap (minutes) between two stretches of a series window that a block may
+#: pause through [our policy, common practice with no source: the zenith blind spot of an
+#: alt-az mount (half an hour for a target passing 1 deg from the zenith under an 86 deg
+#: limit), a tree or a mast; a light curve keeps both sides of such a gap].
+MAX_PAUSE_MIN = 45.0
+
+
+def _with_pauses(c):
+    """The candidate stretches plus, for each pair of consecutive stretches of one series request
+    whose gap is at most :data:`MAX_PAUSE_MIN`, one block over both that pauses in the gap
+    (``pause_start_jd_utc``, ``pause_end_jd_utc``; NaN for every other row)."""
+    c = c.assign(pause_start_jd_utc=np.nan, pause_end_jd_utc=np.nan)
+    order = np.lexsort((c["stretch_start_jd_utc"].to_numpy(float), c["request_id"].to_numpy(np.int64)))
+    rid = c["request_id"].to_numpy(np.int64)[order]
+    s, e = c["stretch_start_jd_utc"].to_numpy(float)[order], c["stretch_end_jd_utc"].to_numpy(float)[order]
+    series = (c["request"] == SERIES).to_numpy()[order]
+    gap = s[1:] - e[:-1]
+    pair = np.flatnonzero((rid[1:] == rid[:-1]) & series[:-1] & (gap > 0) & (gap <= MAX_PAUSE_MIN / MIN_PER_DAY))
+    if not pair.size:
+        return c
+    bridged = c.iloc[order[pair]].reset_index(drop=True)
+    bridged["stretch_end_jd_utc"] = e[pair + 1]
+    bridged["pause_start_jd_utc"], bridged["pause_end_jd_utc"] = e[pair], s[pair + 1]
+    return pd.concat([c, bridged], ignore_index=True)
+
+
 def _fixed_series(c, targets, settings):
-    """Series stretches: parts covered, science kept; stretches worth nothing are dropped."""
+    """Series stretches (and pairs of them across a short pause, :func:`_with_pauses`): parts
+    covered, science kept; stretches worth nothing are dropped."""
+    c = _with_pauses(c)
     series = (c["request"] == SERIES).to_numpy()
     c = c.assign(placement=np.where(series, "fixed", "movable"), covers="", not_covered="", science_fraction=1.0,
                  start_jd_utc=np.nan, end_jd_utc=np.nan)
@@ -391,7 +419,9 @@ def _fixed_series(c, targets, settings):
         sub = c.iloc[s_idx]
         t = [sub[f"t{j}_jd_utc"].to_numpy(float) for j in (1, 2, 3, 4)]
         s, e = sub["stretch_start_jd_utc"].to_numpy(float), sub["stretch_end_jd_utc"].to_numpy(float)
-        parts = series_parts.covered_parts(s, e, *t, sub["event_jd_utc"].to_numpy(float), settings.baseline_h / 24.0)
+        parts = series_parts.covered_parts_with_pause(s, e, sub["pause_start_jd_utc"].to_numpy(float),
+                                                      sub["pause_end_jd_utc"].to_numpy(float), *t,
+                                                      sub["event_jd_utc"].to_numpy(float), settings.baseline_h / 24.0)
         known = np.isfinite(t[0]) & np.isfinite(t[3])
         sci = series_parts.science_fraction(parts, known, sub["observable_fraction"].to_numpy(float))
         full_only = _col(targets, "full_coverage", False).astype(bool)[sub["target_index"].to_numpy(int)]
@@ -452,8 +482,8 @@ def _movable_visits(c, altitude_deg):
         pick = np.full(m.size, PLACEMENT_SAMPLES // 2)
         if altitude_deg is not None:
             ti = c["target_index"].to_numpy(int)[m]
-            for k in range(0, m.size, _PLACEMENT_CHUNK):  # bounds the altitude arrays of a survey
-                sl = slice(k, k + _PLACEMENT_CHUNK)
+            for k in range(0, m.size, ALT_CHUNK):  # bounds the altitude arrays of a survey
+                sl = slice(k, k + ALT_CHUNK)
                 idx = np.broadcast_to(ti[sl, None], starts[sl].shape)
                 alt = np.asarray(altitude_deg(idx, starts[sl] + 0.5 * length[m[sl], None]), float)
                 pick[sl] = np.argmax(np.where(np.isfinite(alt), alt, -np.inf), axis=1)
@@ -480,15 +510,10 @@ def _moon_at_blocks(c, moon_sep_deg, nights):
 
 def _score(c, altitude_deg, weights):
     """Score columns of each candidate at its proposed block (value: priority x rarity x points)."""
-    from .blocks import altitudes, mean_airmass, sample_times
-    from .score import airmass_from_alt
+    from .blocks import block_airmass
 
-    ti, start, end = (c[k].to_numpy(t) for k, t in (("target_index", int), ("start_jd_utc", float),
-                                                     ("end_jd_utc", float)))
-    airmass = np.full(len(c), np.nan)
-    for k in range(0, len(c), _PLACEMENT_CHUNK):  # bounded memory, as for the placement
-        sl = slice(k, k + _PLACEMENT_CHUNK)
-        airmass[sl] = mean_airmass(airmass_from_alt(altitudes(altitude_deg, ti[sl], sample_times(start[sl], end[sl]))))
+    airmass = block_airmass(altitude_deg, c["target_index"].to_numpy(int), c["start_jd_utc"].to_numpy(float),
+                            c["end_jd_utc"].to_numpy(float))
     window = (c["window_end_jd_utc"] - c["window_start_jd_utc"]).to_numpy(float)
     sc = score_components(c["priority"].to_numpy(float), c["period_d"].to_numpy(float),
                           c["science_fraction"].to_numpy(float), airmass,

@@ -89,6 +89,10 @@ def _notes(block: pd.Series, alt: np.ndarray, night_row, options: ScheduleOption
         ev = block["event_jd_utc"]
         if np.isfinite(ev) and not (block["start_jd_utc"] <= ev <= block["end_jd_utc"]):
             notes.append("the event time itself lies outside the block")
+        p0, p1 = block.get("pause_start_jd_utc", np.nan), block.get("pause_end_jd_utc", np.nan)
+        if np.isfinite(p0) and np.isfinite(p1):
+            notes.append(f"pause from {local_and_utc(p0, p1, tz=tz)}: the target is not observable then "
+                         "(the site's limits); resume after it")
         cut = block.get("baseline_min", np.nan)
         if np.isfinite(cut):
             notes.append(f"baselines cut to {cut:.0f} min (of {cut / BASELINE_PART:.0f} wanted)")

@@ -64,6 +64,23 @@ def covered_parts(start, end, t1, t2, t3, t4, mid, baseline_d):
     return np.stack([pre, holds(t1), holds(t2), holds(mid), holds(t3), holds(t4), post], axis=1)
 
 
+def covered_parts_with_pause(start, end, pause_start, pause_end, t1, t2, t3, t4, mid, baseline_d):
+    """:func:`covered_parts` of a block [start, end] observed except in a pause [pause_start,
+    pause_end] (NaN: no pause): the parts either side holds, and the mid-event when the pause
+    holds it (both of its sides observed: a maximum or a depth is still measured across a short
+    gap; a contact inside the pause is not held)."""
+    p0, p1 = np.asarray(pause_start, float), np.asarray(pause_end, float)
+    paused = np.isfinite(p0) & np.isfinite(p1)
+    before_end = np.where(paused, p0, end)
+    parts = covered_parts(start, before_end, t1, t2, t3, t4, mid, baseline_d)
+    if paused.any():
+        after = covered_parts(np.where(paused, p1, np.nan), end, t1, t2, t3, t4, mid, baseline_d)
+        parts = parts | after
+        m = np.asarray(mid, float)
+        parts[:, PART_NAMES.index("mid")] |= paused & (p0 <= m) & (m <= p1)
+    return parts
+
+
 def science_fraction(parts, has_contacts, observable_fraction):
     """Science kept (0..1, see module table) of stretches with ``parts`` from :func:`covered_parts`.
 

@@ -142,13 +142,13 @@ def _fast_mask(site, ra_c, dec_c, tvec, era, moon_v, sun_v, illumination, dec_ok
     up = edges.rows_that_may_clear(c, ra_c, theta)
     up = up[np.asarray(dec_ok)[up]]
     m = np.zeros((ra_c.size, theta.size), bool)
-    cos_theta = np.stack([np.cos(theta), np.sin(theta)])
-    m[up] = np.stack([np.cos(ra_c[up]), np.sin(ra_c[up])], axis=1) @ cos_theta > c[up, None]
+    theta_cs = np.stack([np.cos(theta), np.sin(theta)])  # cos H = cos(theta) cos(ra) + sin(theta) sin(ra)
+    m[up] = np.stack([np.cos(ra_c[up]), np.sin(ra_c[up])], axis=1) @ theta_cs > c[up, None]
     if site.max_altitude_deg is not None:  # below the ceiling: cos H under that of the ceiling's altitude
         with np.errstate(divide="ignore", invalid="ignore"):
             top = (np.sin(np.radians(site.max_altitude_deg)) - np.sin(lat) * np.sin(dec_c)) / (np.cos(lat) * np.cos(dec_c))
         high = up[top[up] < 1.0]  # the targets that culminate above the ceiling
-        m[high] &= np.stack([np.cos(ra_c[high]), np.sin(ra_c[high])], axis=1) @ cos_theta < top[high, None]
+        m[high] &= np.stack([np.cos(ra_c[high]), np.sin(ra_c[high])], axis=1) @ theta_cs < top[high, None]
     if site.moon_min_sep_deg > 0 or site.moon_sep_growth_deg > 0:
         need_deg = np.asarray(site.moon_min_sep_at_deg(illumination), float) * np.ones(len(moon_v))
         rows = numerics.rows_near_track(tvec, moon_v, float(need_deg.max()))
