@@ -271,3 +271,14 @@ def test_night_chart_draws_a_zenith_limit_beside_the_lower_one():
     assert limit[0].get_label() == "altitude limits 25 and 80 deg"
     plain = charts.night_figure(NIGHT, t, alt, names, night_blocks(), 25.0)
     assert by_gid(plain.axes[0].get_lines(), "ceiling") == []
+
+
+def test_a_block_that_pauses_draws_no_thick_line_over_its_pause():
+    t, alt, names = curves()
+    blocks = night_blocks()
+    blocks.loc[0, ["pause_start_jd_utc", "pause_end_jd_utc"]] = [J0 + 0.34, J0 + 0.37]
+    fig = charts.night_figure(NIGHT, t, alt, names, blocks, 30.0)
+    line = by_gid(fig.axes[0].get_lines(), "block")[0]
+    x, y = line.get_xdata(), np.asarray(line.get_ydata(), float)
+    in_pause = (x > (0.34 + 0.5) * 24) & (x < (0.37 + 0.5) * 24)
+    assert in_pause.any() and np.isnan(y[in_pause]).all() and np.isfinite(y[~in_pause]).all()

@@ -167,7 +167,11 @@ def night_figure(night, times_jd_utc, alt_deg, names, blocks: pd.DataFrame, min_
         inside = (x >= xs) & (x <= xe)
         row = names.index(b["target"]) if b["target"] in names else None
         if row is not None and inside.any():
-            ax.plot(x[inside], alt[row][inside], color=c, lw=4.5, alpha=0.8, solid_capstyle="butt", gid="block")
+            drawn = alt[row].astype(float).copy()
+            p0, p1 = b.get("pause_start_jd_utc", np.nan), b.get("pause_end_jd_utc", np.nan)
+            if np.isfinite(p0) and np.isfinite(p1):  # a block that pauses: no thick line over the pause
+                drawn[(x > (p0 - ref) * 24) & (x < (p1 - ref) * 24)] = np.nan
+            ax.plot(x[inside], drawn[inside], color=c, lw=4.5, alpha=0.8, solid_capstyle="butt", gid="block")
     above = Rectangle((lo_h, 0.0), hi_h - lo_h, 90.0, transform=ax.transData)
     for line in ax.get_lines():  # the curves end at the horizon: the event windows' lanes lie below it
         line.set_clip_path(above)
